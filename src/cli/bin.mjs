@@ -1,0 +1,6 @@
+#!/usr/bin/env node
+// Package bin: runs the TypeScript CLI through tsx's loader, so a checkout needs no build step.
+import { register } from 'tsx/esm/api';
+
+register();
+await import('./main.ts');

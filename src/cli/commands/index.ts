@@ -1,0 +1,4 @@
+import type { RegisterCommand } from '../run-command.js';
+
+/** Every CLI command, in the order `--help` lists them. Add a command by adding its module here. */
+export const commandModules: RegisterCommand[] = [];
