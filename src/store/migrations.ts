@@ -1,0 +1,14 @@
+import type { Migration } from './migration-types.js';
+import { coreTables } from './migrations/001-core-tables.js';
+
+export type { Migration } from './migration-types.js';
+
+/**
+ * Every schema migration, in order. Add a migration by writing src/store/migrations/NNN-name.ts
+ * and appending it here; versions must be 1, 2, 3, … without gaps (checked at start-up).
+ */
+export const migrations: readonly Migration[] = [
+  coreTables,
+];
+
+export const CURRENT_SCHEMA_VERSION = migrations.length;
