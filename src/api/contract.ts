@@ -1,0 +1,721 @@
+import { z } from 'zod';
+
+/**
+ * The one typed contract between the screens and the core (DESIGN.md §2).
+ *
+ * Every UI action is one method: a zod schema validates its input at the boundary (IPC, HTTP,
+ * CLI) and a TypeScript type describes its output. Outputs are plain JSON (no typed arrays, no
+ * Dates) because they cross IPC and HTTP unchanged.
+ *
+ * Long work (import, run, export, demo) returns `{ taskId }` at once; the work then streams
+ * `TaskEvent`s — progress `{taskId, phase, done, total, message}` and finally one `done` (with the
+ * method's result), `failed` (with an `ApiError`) or `cancelled` event. `cancelTask` stops it.
+ *
+ * This file must stay free of Node modules: the renderer imports its types (type-only).
+ */
+
+// ---------------------------------------------------------------------------------------------
+// Shared pieces
+
+const nonEmpty = (what: string) => z.string().trim().min(1, `${what} must not be empty`);
+const runId = z.number().int().positive();
+const isoDate = z.string().regex(/^\d{4}-\d{2}-\d{2}$/, 'must be a date written YYYY-MM-DD');
+const pageOffset = z.number().int().min(0).default(0);
+const pageLimit = z.number().int().min(1).max(1000).default(100);
+const probability = z.number().min(0).max(1);
+
+export const importKinds = ['receipts', 'visits', 'customers', 'features'] as const;
+export type ImportKind = (typeof importKinds)[number];
+
+export const covarianceTypes = ['full', 'diag', 'spherical', 'tied'] as const;
+export type CovarianceType = (typeof covarianceTypes)[number];
+
+export const transformNames = ['log1p', 'zscore', 'clip'] as const;
+export type TransformName = (typeof transformNames)[number];
+
+export const reviewActions = ['keep', 'move', 'exclude'] as const;
+export type ReviewAction = (typeof reviewActions)[number];
+
+/** A column mapping: the file's column name for each field it supplies (field → column). */
+const columnMapping = z.record(z.string(), z.string());
+export type ColumnMapping = Record<string, string>;
+
+/** How dates and amounts in a file are written; `iso` and `.` unless the analyst says otherwise. */
+const readOptions = {
+  sheet: z.string().min(1).optional(),
+  dateOrder: z.enum(['iso', 'day-first', 'month-first']).default('iso'),
+  decimalSeparator: z.enum(['.', ',']).default('.'),
+};
+
+/** Returned at once by every long task; its events carry the same id. */
+export interface TaskStarted<M extends LongTaskMethod = LongTaskMethod> {
+  taskId: string;
+  method: M;
+}
+
+export type TaskState = 'running' | 'done' | 'failed' | 'cancelled';
+
+export interface TaskProgress {
+  taskId: string;
+  /** What the task is doing now, e.g. "reading", "fitting k=3 full", "writing customers". */
+  phase: string;
+  done: number;
+  /** Total units of the phase, or null when not known in advance. */
+  total: number | null;
+  message: string;
+}
+
+export interface ApiError {
+  /** input: the caller must change something; cancelled: stopped on request; internal: a bug or I/O failure. */
+  kind: 'input' | 'cancelled' | 'internal';
+  message: string;
+  /** Zod issues for malformed input: the field path (dots) and what is wrong with it. */
+  issues?: { path: string; message: string }[];
+  details?: Record<string, unknown>;
+}
+
+export type TaskEvent =
+  | ({ type: 'progress' } & TaskProgress)
+  | { type: 'done'; taskId: string; method: LongTaskMethod; result: unknown }
+  | { type: 'failed'; taskId: string; method: LongTaskMethod; error: ApiError }
+  | { type: 'cancelled'; taskId: string; method: LongTaskMethod };
+
+export interface TaskStatus {
+  taskId: string;
+  method: LongTaskMethod;
+  state: TaskState;
+  startedAt: string;
+  finishedAt: string | null;
+  progress: TaskProgress | null;
+  /** The method's result once `state` is done (see `TaskResults`). */
+  result: unknown;
+  error: ApiError | null;
+}
+
+// ---------------------------------------------------------------------------------------------
+// Database
+
+export const openDatabaseInput = z.strictObject({ path: nonEmpty('path') });
+export const databaseInfoInput = z.strictObject({});
+
+export interface DatabaseInfo {
+  path: string;
+  schemaVersion: number;
+  customers: number;
+  receipts: number;
+  visits: number;
+  imports: number;
+  runs: number;
+  /** Earliest and latest receipt date (YYYY-MM-DD), null when no receipts yet. */
+  firstReceiptDate: string | null;
+  lastReceiptDate: string | null;
+}
+
+export const appInfoInput = z.strictObject({});
+export interface AppInfo {
+  version: string;
+  /** 'electron' or 'browser': which shell hosts the screens (for wording only, never for logic). */
+  shell: 'electron' | 'browser' | 'cli';
+  databasePath: string | null;
+  recentDatabases: string[];
+  /** The cautions of DESIGN.md §14, one paragraph per entry, shown on the Export screen. */
+  cautions: string[];
+}
+
+// ---------------------------------------------------------------------------------------------
+// Sources: preview, import, history, saved mappings, rejection report
+
+export const previewFileInput = z.strictObject({
+  path: nonEmpty('path'),
+  kind: z.enum(importKinds),
+  /** Mapping to preview with; without it the saved mapping, then automatic names, are used. */
+  mapping: columnMapping.optional(),
+  rows: z.number().int().min(1).max(200).default(20),
+  ...readOptions,
+});
+
+export interface FieldInfo {
+  field: string;
+  required: boolean;
+  description: string;
+}
+
+export interface FilePreview {
+  path: string;
+  kind: ImportKind;
+  /** Column names as found in the file. */
+  columns: string[];
+  /** Sheets of an XLSX workbook (empty for CSV). */
+  sheets: string[];
+  delimiter: string | null;
+  encoding: string;
+  /** The fields this kind knows, and which are required. */
+  fields: FieldInfo[];
+  /** The mapping the preview used (given, saved, or automatic by name). */
+  mapping: ColumnMapping;
+  mappingSource: 'given' | 'saved' | 'automatic';
+  /** Required fields the mapping leaves without a column. */
+  missingFields: string[];
+  /** The first rows as they would be read: raw cells by column, then the parsed value or the reason it fails. */
+  rows: {
+    line: number;
+    cells: Record<string, string>;
+    parsed: Record<string, string | number | null> | null;
+    problem: string | null;
+  }[];
+}
+
+export const importFileInput = z.strictObject({
+  path: nonEmpty('path'),
+  kind: z.enum(importKinds),
+  mapping: columnMapping.optional(),
+  /** Share of rejected rows above which the whole file is refused (DESIGN.md §3: 5%). */
+  rejectionThreshold: probability.default(0.05),
+  ...readOptions,
+});
+
+/** Exactly the `import --json` object of DESIGN.md §10, plus the import's id. */
+export interface ImportResult {
+  importId: number | null;
+  file: string;
+  kind: ImportKind;
+  rowsRead: number;
+  rowsImported: number;
+  rowsRejected: number;
+  duplicatesSkipped: number;
+  alreadyImported: boolean;
+  /** Sum of imported receipt amounts in EUR; null for other kinds. */
+  amountTotal: number | null;
+  /** Path of the rejection report (CSV next to the database), null when nothing was rejected. */
+  report: string | null;
+}
+
+export const listImportsInput = z.strictObject({});
+export interface ImportRecord {
+  importId: number;
+  fileName: string;
+  kind: ImportKind;
+  rowsRead: number;
+  rowsImported: number;
+  rowsRejected: number;
+  duplicatesSkipped: number;
+  amountTotal: number | null;
+  reportPath: string | null;
+  importedAt: string;
+  mapping: ColumnMapping;
+}
+
+export const importReportInput = z.strictObject({
+  importId: z.number().int().positive(),
+  offset: pageOffset,
+  limit: pageLimit,
+});
+export interface ImportReportPage {
+  importId: number;
+  total: number;
+  rows: { line: number; column: string; value: string; reason: string }[];
+}
+
+export const savedMappingInput = z.strictObject({ kind: z.enum(importKinds) });
+export interface SavedMapping {
+  kind: ImportKind;
+  mapping: ColumnMapping | null;
+  savedAt: string | null;
+}
+
+// ---------------------------------------------------------------------------------------------
+// Model: options, start a run, list runs
+
+export const modelOptionsInput = z.strictObject({});
+export interface FeatureOption {
+  name: string;
+  label: string;
+  /** 'EUR', 'visits', 'days', 'months', 'share' … for formatting. */
+  unit: string;
+  defaultTransforms: TransformName[];
+  inDefaultSet: boolean;
+}
+export interface ModelOptions {
+  features: FeatureOption[];
+  covarianceTypes: CovarianceType[];
+  defaults: RunSettings;
+}
+
+const transformSpec = z.strictObject({
+  feature: nonEmpty('feature'),
+  transforms: z.array(z.enum(transformNames)),
+  /** Percentile for `clip` (e.g. 99 clips at the 1st and 99th percentiles). */
+  clipPercentile: z.number().gt(50).lt(100).optional(),
+});
+
+export const startRunInput = z
+  .strictObject({
+    asOf: isoDate,
+    windowMonths: z.number().int().min(1).max(60).default(12),
+    mode: z.enum(['refit', 'rescore']).default('refit'),
+    /** Parent run; null or absent = the latest earlier run. */
+    parentRunId: runId.nullable().optional(),
+    /** Features with their transforms; absent = the defaults of DESIGN.md §4. */
+    features: z.array(transformSpec).min(1).optional(),
+    /** A fixed k, or 'auto' to sweep kMin..kMax. */
+    k: z.union([z.number().int().min(1).max(20), z.literal('auto')]).default('auto'),
+    kMin: z.number().int().min(1).max(20).default(1),
+    kMax: z.number().int().min(1).max(20).default(8),
+    /** One structure, or several to sweep (auto = all four). */
+    covariance: z.array(z.enum(covarianceTypes)).min(1).default([...covarianceTypes]),
+    criterion: z.enum(['bic', 'icl']).default('bic'),
+    restarts: z.number().int().min(1).max(50).default(5),
+    seed: z.number().int().min(0).max(2 ** 31 - 1).default(0),
+    borderlineConfidence: probability.default(0.7),
+    borderlineMargin: probability.default(0.2),
+    /** Log-density percentile under which a customer is atypical (DESIGN.md §5: 1). */
+    atypicalPercentile: z.number().min(0).max(50).default(1),
+    minPurchases: z.number().int().min(0).default(2),
+    minTenureMonths: z.number().int().min(0).default(2),
+  })
+  .refine((value) => value.kMin <= value.kMax, { message: 'kMin must not exceed kMax', path: ['kMin'] });
+export type RunSettings = z.output<typeof startRunInput>;
+
+/** Exactly the `refresh --json` object of DESIGN.md §10. */
+export interface RunSummary {
+  runId: number;
+  parentRunId: number | null;
+  k: number;
+  covariance: CovarianceType;
+  bic: number;
+  customers: number;
+  tooNew: number;
+  borderline: number;
+  atypical: number;
+  segments: { name: string; customers: number; share: number; revenueShare: number }[];
+  /** Adjusted Rand index against the parent on common customers; null for a first run. */
+  stability: number | null;
+}
+
+export const listRunsInput = z.strictObject({});
+export interface RunListItem {
+  runId: number;
+  parentRunId: number | null;
+  asOf: string;
+  mode: 'refit' | 'rescore';
+  k: number;
+  covariance: CovarianceType;
+  customers: number;
+  createdAt: string;
+}
+
+export const runInput = z.strictObject({ runId });
+
+export interface RunDetail extends RunSummary {
+  asOf: string;
+  windowMonths: number;
+  mode: 'refit' | 'rescore';
+  createdAt: string;
+  settings: RunSettings;
+  /** Features in model order with their stored transforms. */
+  features: { feature: string; transforms: TransformName[]; clipPercentile?: number }[];
+  criterion: 'bic' | 'icl';
+  /** Segment matching against the parent (refit): new and retired segment names. */
+  newSegments: string[];
+  retiredSegments: string[];
+  warnings: string[];
+}
+
+// ---------------------------------------------------------------------------------------------
+// Segments, sweep, memberships
+
+export interface FeatureQuartiles {
+  feature: string;
+  unit: string;
+  q1: number;
+  median: number;
+  q3: number;
+}
+
+export interface SegmentProfile {
+  /** Index in the model (0-based), stable within a run. */
+  segment: number;
+  /** Key carried across months by matching, stable across runs. */
+  key: string;
+  name: string;
+  /** Position in spend order, 1 = highest spend. */
+  spendRank: number;
+  customers: number;
+  share: number;
+  revenue: number;
+  revenueShare: number;
+  /** Feature medians and quartiles in original units (EUR, visits …). */
+  profile: FeatureQuartiles[];
+  /** Mixture weight, mean and covariance (row-major d×d) in the model's transformed space. */
+  weight: number;
+  mean: number[];
+  covariance: number[];
+}
+
+export interface SegmentsResult {
+  runId: number;
+  /** Names of the model's features, in the order of `mean` and `covariance`. */
+  features: string[];
+  segments: SegmentProfile[];
+}
+
+export interface SweepRow {
+  k: number;
+  covariance: CovarianceType;
+  logLikelihood: number;
+  bic: number;
+  aic: number;
+  icl: number;
+  parameterCount: number;
+  converged: boolean;
+  iterations: number;
+  chosen: boolean;
+}
+
+export const segmentSampleInput = z.strictObject({
+  runId,
+  /** At most this many customers, a seeded sample drawn by the core (the chart says so). */
+  limit: z.number().int().min(1).max(20000).default(5000),
+  seed: z.number().int().min(0).default(0),
+});
+/** A sample of placed customers for scatter plots and distributions. */
+export interface SegmentSample {
+  runId: number;
+  totalCustomers: number;
+  features: string[];
+  /** Per customer: model segment, then values per feature in model space and in original units. */
+  points: { customerId: string; segment: number; model: number[]; original: number[] }[];
+}
+
+export const featureDistributionInput = z.strictObject({
+  runId,
+  feature: nonEmpty('feature'),
+  bins: z.number().int().min(2).max(200).default(40),
+});
+/** A histogram per segment over all placed customers, computed in the core. */
+export interface FeatureDistribution {
+  runId: number;
+  feature: string;
+  unit: string;
+  edges: number[];
+  counts: { segment: number; counts: number[] }[];
+}
+
+export const membershipSortKeys = ['spend', 'confidence', 'margin', 'logDensity', 'customerId'] as const;
+export const membershipsPageInput = z.strictObject({
+  runId,
+  offset: pageOffset,
+  limit: pageLimit,
+  sortBy: z.enum(membershipSortKeys).default('spend'),
+  descending: z.boolean().default(true),
+  segment: z.number().int().min(0).optional(),
+  flag: z.enum(['borderline', 'atypical', 'reviewed']).optional(),
+});
+export interface MembershipRow {
+  customerId: string;
+  modelSegment: number;
+  finalSegment: number | null;
+  confidence: number;
+  margin: number;
+  secondSegment: number | null;
+  secondProbability: number | null;
+  logDensity: number;
+  borderline: boolean;
+  atypical: boolean;
+  decision: ReviewAction | null;
+  spendPerMonth: number;
+}
+export interface MembershipsPage {
+  runId: number;
+  total: number;
+  offset: number;
+  rows: MembershipRow[];
+}
+
+// ---------------------------------------------------------------------------------------------
+// Certainty: confidence histogram, live threshold counts, borderline table
+
+export const certaintyInput = z.strictObject({
+  runId,
+  borderlineConfidence: probability,
+  borderlineMargin: probability,
+  atypicalPercentile: z.number().min(0).max(50),
+  bins: z.number().int().min(2).max(100).default(20),
+});
+export interface CertaintySummary {
+  runId: number;
+  customers: number;
+  /** Customers whose confidence falls in each bin of [0, 1]. */
+  confidenceHistogram: { from: number; to: number; customers: number }[];
+  /** Counts under the given thresholds (the sliders), not the stored ones. */
+  borderline: number;
+  atypical: number;
+  /** The log-density cut that the percentile gives. */
+  atypicalLogDensityBelow: number;
+}
+
+export const borderlineInput = z.strictObject({
+  runId,
+  offset: pageOffset,
+  limit: pageLimit,
+  borderlineConfidence: probability.optional(),
+  borderlineMargin: probability.optional(),
+});
+export interface BorderlineRow {
+  customerId: string;
+  topSegment: number;
+  topProbability: number;
+  secondSegment: number;
+  secondProbability: number;
+  confidence: number;
+  margin: number;
+  /** Features ranked by how strongly they pull between the two segments. */
+  pulls: { feature: string; towards: number; weight: number }[];
+  /** Plain words, e.g. "basket size fits Tier 2, visit rate fits Tier 3". */
+  why: string;
+}
+export interface BorderlinePage {
+  runId: number;
+  total: number;
+  offset: number;
+  rows: BorderlineRow[];
+}
+
+// ---------------------------------------------------------------------------------------------
+// Review
+
+export const reviewQueueInput = z.strictObject({
+  runId,
+  offset: pageOffset,
+  limit: pageLimit,
+  status: z.enum(['all', 'open', 'done']).default('all'),
+});
+export interface ReviewItem {
+  customerId: string;
+  reason: 'borderline' | 'atypical' | 'mover';
+  spendAtStake: number;
+  topSegment: number;
+  topProbability: number;
+  secondSegment: number | null;
+  secondProbability: number | null;
+  /** The customer's features in original units, beside each segment median. */
+  features: { feature: string; unit: string; value: number }[];
+  previousSegmentName: string | null;
+  previousDecision: ReviewDecision | null;
+  decision: ReviewDecision | null;
+}
+export interface ReviewDecision {
+  action: ReviewAction;
+  /** Target segment for `move`. */
+  segment: number | null;
+  note: string;
+  reviewer: string;
+  decidedAt: string;
+}
+export interface ReviewQueuePage {
+  runId: number;
+  total: number;
+  done: number;
+  offset: number;
+  rows: ReviewItem[];
+}
+
+export const decideReviewInput = z
+  .strictObject({
+    runId,
+    customerId: nonEmpty('customerId'),
+    action: z.enum(reviewActions),
+    segment: z.number().int().min(0).optional(),
+    note: z.string().max(2000).default(''),
+    reviewer: z.string().max(200).default(''),
+  })
+  .refine((value) => value.action !== 'move' || value.segment !== undefined, {
+    message: 'a move needs the target segment',
+    path: ['segment'],
+  });
+
+export const renameSegmentInput = z.strictObject({
+  runId,
+  segment: z.number().int().min(0),
+  name: nonEmpty('name').max(80),
+});
+
+// ---------------------------------------------------------------------------------------------
+// Movement
+
+export interface MovementResult {
+  runId: number;
+  parentRunId: number | null;
+  parentSegments: { segment: number; name: string }[];
+  currentSegments: { segment: number; name: string }[];
+  /** matrix[i][j] = customers in parent segment i and current segment j. */
+  matrix: number[][];
+  entered: number;
+  left: number;
+  /** Adjusted Rand index on common customers, null without a parent. */
+  stability: number | null;
+  warnings: string[];
+}
+
+// ---------------------------------------------------------------------------------------------
+// Export and demo
+
+export const exportRunInput = z.strictObject({
+  runId,
+  out: nonEmpty('out'),
+  format: z.enum(['xlsx', 'csv']).default('xlsx'),
+  /** Final segment names to list; absent = every segment. */
+  segments: z.array(nonEmpty('segment name')).optional(),
+  minConfidence: probability.default(0),
+  includeReviewed: z.boolean().default(true),
+});
+/** Exactly the `export --json` object of DESIGN.md §10. */
+export interface ExportResult {
+  out: string;
+  sheets: string[];
+  customersExported: number;
+  suppressedNoConsent: number;
+}
+
+export const loadDemoInput = z.strictObject({
+  customers: z.number().int().min(50).max(200000).default(6000),
+  seed: z.number().int().min(0).default(1),
+});
+/** Exactly the `demo --db --json` object of DESIGN.md §10. */
+export interface DemoResult {
+  db: string;
+  customers: number;
+  receipts: number;
+  visits: number;
+}
+
+// ---------------------------------------------------------------------------------------------
+// Tasks
+
+export const taskInput = z.strictObject({ taskId: nonEmpty('taskId') });
+export interface CancelResult {
+  taskId: string;
+  /** False when the task had already finished. */
+  cancelled: boolean;
+}
+
+// ---------------------------------------------------------------------------------------------
+// The method table: name → input schema. Output types are in `ApiOutputs`.
+
+export const apiSchemas = {
+  appInfo: appInfoInput,
+  openDatabase: openDatabaseInput,
+  databaseInfo: databaseInfoInput,
+  previewFile: previewFileInput,
+  importFile: importFileInput,
+  listImports: listImportsInput,
+  importReport: importReportInput,
+  savedMapping: savedMappingInput,
+  modelOptions: modelOptionsInput,
+  startRun: startRunInput,
+  listRuns: listRunsInput,
+  runSummary: runInput,
+  segments: runInput,
+  sweepTable: runInput,
+  segmentSample: segmentSampleInput,
+  featureDistribution: featureDistributionInput,
+  membershipsPage: membershipsPageInput,
+  certainty: certaintyInput,
+  borderline: borderlineInput,
+  reviewQueue: reviewQueueInput,
+  decideReview: decideReviewInput,
+  renameSegment: renameSegmentInput,
+  movement: runInput,
+  exportRun: exportRunInput,
+  loadDemo: loadDemoInput,
+  cancelTask: taskInput,
+  taskStatus: taskInput,
+} as const;
+
+export type ApiMethod = keyof typeof apiSchemas;
+
+/** The long tasks and what their `done` event carries. */
+export interface TaskResults {
+  importFile: ImportResult;
+  startRun: RunSummary;
+  exportRun: ExportResult;
+  loadDemo: DemoResult;
+}
+export type LongTaskMethod = keyof TaskResults;
+export const longTaskMethods: readonly LongTaskMethod[] = ['importFile', 'startRun', 'exportRun', 'loadDemo'];
+
+export interface ApiOutputs {
+  appInfo: AppInfo;
+  openDatabase: DatabaseInfo;
+  databaseInfo: DatabaseInfo;
+  previewFile: FilePreview;
+  importFile: TaskStarted<'importFile'>;
+  listImports: ImportRecord[];
+  importReport: ImportReportPage;
+  savedMapping: SavedMapping;
+  modelOptions: ModelOptions;
+  startRun: TaskStarted<'startRun'>;
+  listRuns: RunListItem[];
+  runSummary: RunDetail;
+  segments: SegmentsResult;
+  sweepTable: SweepRow[];
+  segmentSample: SegmentSample;
+  featureDistribution: FeatureDistribution;
+  membershipsPage: MembershipsPage;
+  certainty: CertaintySummary;
+  borderline: BorderlinePage;
+  reviewQueue: ReviewQueuePage;
+  decideReview: ReviewItem;
+  renameSegment: SegmentProfile;
+  movement: MovementResult;
+  exportRun: TaskStarted<'exportRun'>;
+  loadDemo: TaskStarted<'loadDemo'>;
+  cancelTask: CancelResult;
+  taskStatus: TaskStatus;
+}
+
+/** What the caller sends: the schema's input side (defaults may be left out). */
+export type ApiInput<M extends ApiMethod> = z.input<(typeof apiSchemas)[M]>;
+/** What a handler receives after validation (defaults filled in). */
+export type ApiParsedInput<M extends ApiMethod> = z.output<(typeof apiSchemas)[M]>;
+export type ApiOutput<M extends ApiMethod> = ApiOutputs[M];
+
+/** The API as the screens see it, whatever the transport. */
+export type Api = { [M in ApiMethod]: (input: ApiInput<M>) => Promise<ApiOutput<M>> };
+
+// ---------------------------------------------------------------------------------------------
+// What a shell adds around the Api (the renderer's one entry point)
+
+/** Commands the application menu sends to the screens. */
+export type MenuCommand =
+  | { command: 'database-opened'; path: string }
+  | { command: 'import-file'; path: string }
+  | { command: 'export' }
+  | { command: 'offer-demo' };
+
+export interface SpendmixShell {
+  kind: 'electron' | 'browser';
+  /** Native open dialog (Electron); null where there is none or the user cancelled. */
+  chooseOpenFile(options: { title: string; extensions: string[] }): Promise<string | null>;
+  /** Native save dialog (Electron); null where there is none or the user cancelled. */
+  chooseSavePath(options: { title: string; defaultName: string; extensions: string[] }): Promise<string | null>;
+  /**
+   * Turns a File the user dropped or chose into a path the core can read: its own path in
+   * Electron, an upload into the host's session folder in the browser.
+   */
+  pathForFile(file: File): Promise<string>;
+  onMenuCommand(listener: (command: MenuCommand) => void): () => void;
+}
+
+/** What `renderer/src/api-client` hands the screens. */
+export interface SpendmixClient {
+  api: Api;
+  shell: SpendmixShell;
+  /** Every task event, for progress bars; returns the unsubscribe function. */
+  onTaskEvent(listener: (event: TaskEvent) => void): () => void;
+  /** Resolves with the task's result, rejects with an Error carrying `ApiError` fields. */
+  waitForTask<M extends LongTaskMethod>(
+    started: TaskStarted<M>,
+    onProgress?: (progress: TaskProgress) => void,
+  ): Promise<TaskResults[M]>;
+}
