@@ -1,0 +1,82 @@
+/**
+ * Number formatting for the screens: everything goes through Intl.NumberFormat in the user's
+ * locale (money in EUR, the chain's currency). Formatters are cached per locale because building
+ * one is far slower than using it, and tables format thousands of cells.
+ */
+export interface Formatters {
+  count(value: number): string;
+  euros(value: number): string;
+  eurosPrecise(value: number): string;
+  percent(share: number, digits?: number): string;
+  decimal(value: number, digits?: number): string;
+  probability(value: number): string;
+  date(iso: string): string;
+  dateTime(iso: string): string;
+}
+
+const cache = new Map<string, Formatters>();
+
+export function formattersFor(locale: string | undefined): Formatters {
+  const key = locale ?? '';
+  const cached = cache.get(key);
+  if (cached) return cached;
+  const count = new Intl.NumberFormat(locale, { maximumFractionDigits: 0 });
+  const euros = new Intl.NumberFormat(locale, { style: 'currency', currency: 'EUR', maximumFractionDigits: 0 });
+  const eurosPrecise = new Intl.NumberFormat(locale, { style: 'currency', currency: 'EUR', minimumFractionDigits: 2, maximumFractionDigits: 2 });
+  const percents = new Map<number, Intl.NumberFormat>();
+  const decimals = new Map<number, Intl.NumberFormat>();
+  const percentFormat = (digits: number) => {
+    let format = percents.get(digits);
+    if (!format) {
+      format = new Intl.NumberFormat(locale, { style: 'percent', minimumFractionDigits: digits, maximumFractionDigits: digits });
+      percents.set(digits, format);
+    }
+    return format;
+  };
+  const decimalFormat = (digits: number) => {
+    let format = decimals.get(digits);
+    if (!format) {
+      format = new Intl.NumberFormat(locale, { minimumFractionDigits: digits, maximumFractionDigits: digits });
+      decimals.set(digits, format);
+    }
+    return format;
+  };
+  const dates = new Intl.DateTimeFormat(locale, { year: 'numeric', month: 'short', day: 'numeric', timeZone: 'UTC' });
+  const dateTimes = new Intl.DateTimeFormat(locale, { year: 'numeric', month: 'short', day: 'numeric', hour: '2-digit', minute: '2-digit' });
+  const guard = (value: number, write: (v: number) => string) => (Number.isFinite(value) ? write(value) : '—');
+  const formatters: Formatters = {
+    count: (value) => guard(value, (v) => count.format(v)),
+    euros: (value) => guard(value, (v) => euros.format(v)),
+    eurosPrecise: (value) => guard(value, (v) => eurosPrecise.format(v)),
+    percent: (share, digits = 1) => guard(share, (v) => percentFormat(digits).format(v)),
+    decimal: (value, digits = 2) => guard(value, (v) => decimalFormat(digits).format(v)),
+    probability: (value) => guard(value, (v) => decimalFormat(3).format(v)),
+    date: (iso) => {
+      const time = Date.parse(iso.length === 10 ? `${iso}T00:00:00Z` : iso);
+      return Number.isNaN(time) ? iso : dates.format(time);
+    },
+    dateTime: (iso) => {
+      const time = Date.parse(iso);
+      return Number.isNaN(time) ? iso : dateTimes.format(time);
+    },
+  };
+  cache.set(key, formatters);
+  return formatters;
+}
+
+/** The locale the screens format for: the browser's first preference (Intl's default elsewhere). */
+export function userLocale(): string | undefined {
+  // Read through globalThis so this module also type-checks and runs in Node's tests.
+  const browser = (globalThis as { navigator?: { language?: string } }).navigator;
+  return browser?.language;
+}
+
+/** "showing 5,000 of 1,000,000 customers", or "all 812 customers" when nothing was left out. */
+export function sampleCaption(shown: number, total: number, format: Formatters, noun = 'customers'): string {
+  if (!Number.isInteger(shown) || !Number.isInteger(total) || shown < 0 || total < 0) {
+    throw new RangeError(`Sample sizes must be non-negative integers (shown ${shown}, total ${total}).`);
+  }
+  if (shown > total) throw new RangeError(`A sample cannot hold more than the whole (shown ${shown}, total ${total}).`);
+  if (shown === total) return `all ${format.count(total)} ${noun}`;
+  return `showing ${format.count(shown)} of ${format.count(total)} ${noun} (random sample)`;
+}

@@ -1,0 +1,41 @@
+import { describe, expect, it } from 'vitest';
+import { formattersFor, sampleCaption } from '../../renderer/src/lib/format.js';
+
+// Expected strings follow the CLDR conventions Node's ICU implements (from memory): en-GB groups
+// with commas and puts € first; de-DE groups with dots, uses a decimal comma and puts € last
+// after a no-break space.
+describe('locale formatting', () => {
+  it('formats euros, counts and shares in en-GB', () => {
+    const f = formattersFor('en-GB');
+    expect(f.euros(1234567.4)).toBe('€1,234,567');
+    expect(f.eurosPrecise(-12.5)).toBe('-€12.50');
+    expect(f.count(1000000)).toBe('1,000,000');
+    expect(f.percent(0.1234)).toBe('12.3%');
+    expect(f.probability(0.70049)).toBe('0.700');
+  });
+
+  it('formats euros and decimals in de-DE', () => {
+    const f = formattersFor('de-DE');
+    expect(f.euros(1234567.4)).toBe('1.234.567\u00a0€');
+    expect(f.decimal(3.14159, 2)).toBe('3,14');
+    expect(f.count(1000000)).toBe('1.000.000');
+  });
+
+  it('shows a dash rather than NaN or Infinity', () => {
+    const f = formattersFor('en-GB');
+    expect(f.euros(Number.NaN)).toBe('—');
+    expect(f.percent(Number.POSITIVE_INFINITY)).toBe('—');
+  });
+
+  it('formats ISO dates without shifting the day', () => {
+    expect(formattersFor('en-GB').date('2026-11-30')).toBe('30 Nov 2026');
+  });
+
+  it('states the sample a chart draws', () => {
+    const f = formattersFor('en-GB');
+    expect(sampleCaption(5000, 1000000, f)).toBe('showing 5,000 of 1,000,000 customers (random sample)');
+    expect(sampleCaption(812, 812, f)).toBe('all 812 customers');
+    expect(() => sampleCaption(10, 5, f)).toThrow(RangeError);
+    expect(() => sampleCaption(-1, 5, f)).toThrow(RangeError);
+  });
+});
