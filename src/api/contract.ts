@@ -53,7 +53,8 @@ export interface TaskStarted<M extends LongTaskMethod = LongTaskMethod> {
   method: M;
 }
 
-export type TaskState = 'running' | 'done' | 'failed' | 'cancelled';
+/** Long tasks run one at a time per database (one writer): later ones wait as `queued`. */
+export type TaskState = 'queued' | 'running' | 'done' | 'failed' | 'cancelled';
 
 export interface TaskProgress {
   taskId: string;
@@ -706,6 +707,35 @@ export interface SpendmixShell {
   pathForFile(file: File): Promise<string>;
   onMenuCommand(listener: (command: MenuCommand) => void): () => void;
 }
+
+/** One call's answer over a transport: the value, or the error with its fields intact. */
+export type CallOutcome<T = unknown> = { ok: true; value: T } | { ok: false; error: ApiError };
+
+/**
+ * What the Electron preload exposes as `window.spendmix` (contextBridge): the task-shaped API
+ * and the shell's dialogs, nothing else. `call` only reaches methods of `apiSchemas`; the main
+ * process validates every input with their zod schemas and checks the sending frame.
+ */
+export interface SpendmixBridge {
+  call(method: ApiMethod, input: unknown): Promise<CallOutcome>;
+  onTaskEvent(listener: (event: TaskEvent) => void): () => void;
+  chooseOpenFile(options: { title: string; extensions: string[] }): Promise<string | null>;
+  chooseSavePath(options: { title: string; defaultName: string; extensions: string[] }): Promise<string | null>;
+  /** webUtils.getPathForFile: the dropped file's path on disk ('' when it has none). */
+  pathForFile(file: File): string;
+  onMenuCommand(listener: (command: MenuCommand) => void): () => void;
+}
+
+/**
+ * The browser host's HTTP surface (DESIGN.md §12), for the browser client:
+ * - `POST /api/<method>` with a JSON body → 200 `CallOutcome` ok, or 400 (input) / 409
+ *   (cancelled) / 500 (internal) with `CallOutcome` not ok;
+ * - `GET /api/events` → server-sent events, one `TaskEvent` per `data:` line;
+ * - `POST /api/upload?name=<file name>` with the file's bytes → `{ path }` in the session folder.
+ * Every `/api/` request carries the session token, as the `x-spendmix-token` header or, where a
+ * header cannot be set (EventSource), the `token` query parameter; without it: 401.
+ */
+export const tokenHeader = 'x-spendmix-token';
 
 /** What `renderer/src/api-client` hands the screens. */
 export interface SpendmixClient {
