@@ -1,0 +1,7 @@
+/**
+ * The mixture engine's public surface. Import from here (`src/model/index.js`), not from the
+ * individual modules, so the engine can be reorganised without touching callers.
+ */
+export * from './types.js';
+export { parameterCount, bayesianInformationCriterion, akaikeInformationCriterion, integratedCompletedLikelihood } from './criteria.js';
+export { modelToJSON, modelFromJSON } from './serialize.js';

@@ -1,0 +1,189 @@
+/**
+ * Public shapes of the mixture engine. Other layers (runs, api, cli) code against these; keep them
+ * stable. All matrices are row-major Float64Arrays with their shape written beside them.
+ */
+
+/** Covariance structures, named as scikit-learn's GaussianMixture names them. */
+export type CovarianceType = 'full' | 'diag' | 'spherical' | 'tied';
+
+export const covarianceTypes: readonly CovarianceType[] = ['full', 'diag', 'spherical', 'tied'];
+
+/** How the starting responsibilities of a restart are chosen. */
+export type InitMethod = 'kmeans' | 'kmeans++' | 'random';
+
+export const initMethods: readonly InitMethod[] = ['kmeans', 'kmeans++', 'random'];
+
+/** 'reject': NaN/Infinity anywhere is bad input. 'em': NaN marks a missing value, fitted by EM. */
+export type MissingPolicy = 'reject' | 'em';
+
+/** Model-selection criterion for a sweep; both are "lower is better". */
+export type SelectionCriterion = 'bic' | 'icl';
+
+/**
+ * An n × d data matrix: `values[i * cols + j]` is feature j of row i (row-major).
+ * NaN marks a missing value, allowed only with `missing: 'em'`.
+ */
+export interface DataMatrix {
+  values: Float64Array;
+  rows: number;
+  cols: number;
+  /** Optional feature names, used in error messages (zero-variance feature, bad cell). */
+  columnNames?: readonly string[];
+}
+
+/**
+ * A fitted Gaussian mixture with k components in d dimensions.
+ * - weights: k, summing to 1
+ * - means: k × d
+ * - covariances: k × d × d, always expanded to full symmetric matrices (also for diag, spherical
+ *   and tied, where every component repeats the shared matrix), so consumers never branch on
+ *   the structure; the structure itself is kept in `covarianceType`.
+ * - precisionCholesky: k × d × d, lower-triangular W_k with W_k Σ_k W_kᵀ = I (W_k = L_k⁻¹ for
+ *   Σ_k = L_k L_kᵀ), so that (x−μ)ᵀ Σ⁻¹ (x−μ) = ‖W (x−μ)‖² and log|Σ_k|^(-1/2) = Σ log diag W_k.
+ */
+export interface MixtureModel {
+  covarianceType: CovarianceType;
+  components: number;
+  dimensions: number;
+  weights: Float64Array;
+  means: Float64Array;
+  covariances: Float64Array;
+  precisionCholesky: Float64Array;
+  /** Regularisation that was added to the covariance diagonals when fitting. */
+  regularization: number;
+}
+
+/** Progress of a fit, reported after each EM iteration (and at each restart's start). */
+export interface FitProgress {
+  k: number;
+  covarianceType: CovarianceType;
+  /** 0-based restart index. */
+  restart: number;
+  /** EM iterations completed in this restart (0 at the start of the restart). */
+  iteration: number;
+  /** Mean log-likelihood per row at this iteration (NaN at iteration 0). */
+  logLikelihood: number;
+}
+
+export interface FitOptions {
+  /** Number of mixture components k ≥ 1. */
+  components: number;
+  covarianceType: CovarianceType;
+  /** Independent starts; the one with the highest log-likelihood wins (default 5). */
+  restarts?: number;
+  /** Seed of the pure-rand generator; same seed, same bits (default 0). */
+  seed?: number;
+  /** Convergence threshold on the change of mean log-likelihood (default 1e-3; 0 runs to maxIterations). */
+  tol?: number;
+  /** Maximum EM iterations per restart (default 200). */
+  maxIterations?: number;
+  /** Added to covariance diagonals (default 1e-6). */
+  regularization?: number;
+  /** Initialisation (default 'kmeans': k-means++ seeding then k-means). */
+  init?: InitMethod;
+  /** Missing values (default 'reject'). */
+  missing?: MissingPolicy;
+  signal?: AbortSignal;
+  onProgress?: (progress: FitProgress) => void;
+}
+
+export interface FitResult {
+  model: MixtureModel;
+  /** Total log-likelihood over rows (observed coordinates only when values are missing). */
+  logLikelihood: number;
+  /** logLikelihood / n. */
+  meanLogLikelihood: number;
+  /** −2 log L + p ln n (lower is better). */
+  bic: number;
+  /** −2 log L + 2p. */
+  aic: number;
+  /** BIC − 2 Σᵢ log z_i,MAP (BIC plus twice the entropy of the hard assignments). */
+  icl: number;
+  /** Free parameters p, counted as scikit-learn's GaussianMixture._n_parameters. */
+  parameterCount: number;
+  /** Whether the winning restart met tol before maxIterations. */
+  converged: boolean;
+  /** EM iterations of the winning restart. */
+  iterations: number;
+  /** Human-readable notes: emptied components re-seeded, covariances regularised, … */
+  warnings: string[];
+  /** Final total log-likelihood of every restart, in restart order. */
+  restartLogLikelihoods: number[];
+  /** 0-based index of the winning restart. */
+  bestRestart: number;
+}
+
+export interface SweepOptions extends Omit<FitOptions, 'components' | 'covarianceType'> {
+  /** Inclusive range of k to try, [min, max], 1 ≤ min ≤ max. */
+  componentRange: [number, number];
+  covarianceTypes: readonly CovarianceType[];
+  /** Criterion for the winner (default 'bic'). */
+  criterion?: SelectionCriterion;
+  /** Worker threads to use (default os.availableParallelism()). */
+  threads?: number;
+}
+
+export interface SweepRow {
+  k: number;
+  covarianceType: CovarianceType;
+  logLikelihood: number;
+  bic: number;
+  aic: number;
+  icl: number;
+  converged: boolean;
+  iterations: number;
+  parameterCount: number;
+  /** Warnings of that fit, so a table can flag cells that needed regularisation. */
+  warnings: string[];
+}
+
+export interface SweepResult {
+  /** One row per (k, structure), ordered by structure as given, then k ascending. */
+  table: SweepRow[];
+  best: FitResult;
+  bestRow: SweepRow;
+  criterion: SelectionCriterion;
+}
+
+/**
+ * Per-row results of scoring rows with a fitted model.
+ * - posteriors: n × k, rows sum to 1
+ * - topSegment / secondSegment: n, 0-based component indices (secondSegment is -1 when k = 1)
+ * - confidence: n, highest posterior; margin: n, highest minus second highest (1 when k = 1)
+ * - logDensity: n, log of the mixture density at the row (marginal over observed features)
+ * - partial: n, 1 where the row had missing values and was scored on the marginal of its
+ *   observed features
+ */
+export interface Memberships {
+  rows: number;
+  components: number;
+  posteriors: Float64Array;
+  topSegment: Int32Array;
+  secondSegment: Int32Array;
+  confidence: Float64Array;
+  margin: Float64Array;
+  logDensity: Float64Array;
+  partial: Uint8Array;
+}
+
+/** JSON form of a MixtureModel; numbers are plain JSON numbers (which round-trip doubles exactly). */
+export interface MixtureModelJSON {
+  format: 'spendmix-mixture';
+  version: 1;
+  covarianceType: CovarianceType;
+  components: number;
+  dimensions: number;
+  regularization: number;
+  weights: number[];
+  means: number[][];
+  covariances: number[][][];
+}
+
+/** Signatures of the engine's entry points (implemented in this folder, re-exported by index.ts). */
+export type FitMixtureFunction = (data: DataMatrix, options: FitOptions) => FitResult;
+export type FitMixtureParallelFunction = (data: DataMatrix, options: FitOptions & { threads?: number }) => Promise<FitResult>;
+export type SweepMixturesFunction = (data: DataMatrix, options: SweepOptions) => Promise<SweepResult>;
+export type ScoreRowsFunction = (model: MixtureModel, data: DataMatrix) => Memberships;
+/** Returns a copy of the data with every NaN replaced by Σ_k posterior_k · E[x_missing | x_observed, k]. */
+export type ImputeMissingFunction = (model: MixtureModel, data: DataMatrix) => DataMatrix;
+export type ParameterCountFunction = (k: number, d: number, covarianceType: CovarianceType) => number;
