@@ -30,13 +30,20 @@ export type ImportKind = (typeof importKinds)[number];
 export const covarianceTypes = ['full', 'diag', 'spherical', 'tied'] as const;
 export type CovarianceType = (typeof covarianceTypes)[number];
 
-export const transformNames = ['log1p', 'zscore', 'clip'] as const;
-export type TransformName = (typeof transformNames)[number];
+/** How one model feature is transformed before the fit: log1p, then clipping, then z-score. */
+export interface FeatureTransformSpec {
+  feature: string;
+  log1p: boolean;
+  /** Clip below/above these percentiles (0–100); null = no clipping on that side. */
+  clipLowerPercentile: number | null;
+  clipUpperPercentile: number | null;
+  zScore: boolean;
+}
 
 export const reviewActions = ['keep', 'move', 'exclude'] as const;
 export type ReviewAction = (typeof reviewActions)[number];
 
-/** A column mapping: the file's column name for each field it supplies (field → column). */
+/** A column mapping: for each of the file's columns used, the field it supplies (column → field), as `--map col=field`. */
 const columnMapping = z.record(z.string(), z.string());
 export type ColumnMapping = Record<string, string>;
 
@@ -233,8 +240,11 @@ export interface FeatureOption {
   label: string;
   /** 'EUR', 'visits', 'days', 'months', 'share' … for formatting. */
   unit: string;
-  defaultTransforms: TransformName[];
+  /** What the number means, for tooltips. */
+  meaning: string;
   inDefaultSet: boolean;
+  /** The transform used when the analyst picks this feature without choosing one. */
+  defaultTransform: FeatureTransformSpec;
 }
 export interface ModelOptions {
   features: FeatureOption[];
@@ -242,11 +252,13 @@ export interface ModelOptions {
   defaults: RunSettings;
 }
 
+const percentile = z.number().min(0).max(100);
 const transformSpec = z.strictObject({
   feature: nonEmpty('feature'),
-  transforms: z.array(z.enum(transformNames)),
-  /** Percentile for `clip` (e.g. 99 clips at the 1st and 99th percentiles). */
-  clipPercentile: z.number().gt(50).lt(100).optional(),
+  log1p: z.boolean().default(false),
+  clipLowerPercentile: percentile.nullable().default(null),
+  clipUpperPercentile: percentile.nullable().default(null),
+  zScore: z.boolean().default(true),
 });
 
 export const startRunInput = z
@@ -314,10 +326,13 @@ export interface RunDetail extends RunSummary {
   createdAt: string;
   settings: RunSettings;
   /** Features in model order with their stored transforms. */
-  features: { feature: string; transforms: TransformName[]; clipPercentile?: number }[];
+  features: FeatureTransformSpec[];
+  /** Every feature stored per customer (model features first). */
+  storedFeatures: string[];
+  logLikelihood: number;
+  icl: number;
   criterion: 'bic' | 'icl';
-  /** Segment matching against the parent (refit): new and retired segment names. */
-  newSegments: string[];
+  /** Parent segments that found no match in a refit. */
   retiredSegments: string[];
   warnings: string[];
 }
@@ -402,29 +417,40 @@ export interface FeatureDistribution {
   counts: { segment: number; counts: number[] }[];
 }
 
-export const membershipSortKeys = ['spend', 'confidence', 'margin', 'logDensity', 'customerId'] as const;
+export const membershipSortKeys = ['spend', 'revenue', 'confidence', 'margin', 'logDensity', 'customerId'] as const;
 export const membershipsPageInput = z.strictObject({
   runId,
   offset: pageOffset,
   limit: pageLimit,
   sortBy: z.enum(membershipSortKeys).default('spend'),
   descending: z.boolean().default(true),
-  segment: z.number().int().min(0).optional(),
-  flag: z.enum(['borderline', 'atypical', 'reviewed']).optional(),
+  /** Model segment index, or null for the too-new customers. */
+  segment: z.number().int().min(0).nullable().optional(),
+  flag: z.enum(['borderline', 'atypical', 'partial', 'tooNew', 'review', 'decided']).optional(),
 });
 export interface MembershipRow {
   customerId: string;
-  modelSegment: number;
+  /** Model segment index and name; null for too-new customers. */
+  segment: number | null;
+  segmentName: string | null;
+  /** Final segment (the review decision's where one exists). */
   finalSegment: number | null;
-  confidence: number;
-  margin: number;
+  finalSegmentName: string | null;
+  confidence: number | null;
+  margin: number | null;
   secondSegment: number | null;
+  secondSegmentName: string | null;
   secondProbability: number | null;
-  logDensity: number;
+  logDensity: number | null;
   borderline: boolean;
   atypical: boolean;
-  decision: ReviewAction | null;
-  spendPerMonth: number;
+  partial: boolean;
+  tooNew: boolean;
+  excluded: boolean;
+  /** Net spend in the window, EUR. */
+  revenue: number;
+  spendPerMonth: number | null;
+  decision: ReviewDecision | null;
 }
 export interface MembershipsPage {
   runId: number;
@@ -462,18 +488,18 @@ export const borderlineInput = z.strictObject({
   borderlineConfidence: probability.optional(),
   borderlineMargin: probability.optional(),
 });
-export interface BorderlineRow {
-  customerId: string;
-  topSegment: number;
-  topProbability: number;
-  secondSegment: number;
-  secondProbability: number;
-  confidence: number;
-  margin: number;
-  /** Features ranked by how strongly they pull between the two segments. */
-  pulls: { feature: string; towards: number; weight: number }[];
+/** Why a customer sits between their top two segments. */
+export interface BorderlineWhy {
+  /** Features ranked by |contribution| to log(p_top / p_second); positive pulls to the top segment. */
+  terms: { feature: string; label: string; contribution: number; fits: string }[];
+  priorLogOdds: number;
+  /** 'exact' for diag/spherical; 'marginal' (correlations ignored) for full/tied. */
+  method: 'exact' | 'marginal';
   /** Plain words, e.g. "basket size fits Tier 2, visit rate fits Tier 3". */
-  why: string;
+  text: string;
+}
+export interface BorderlineRow extends MembershipRow {
+  why: BorderlineWhy;
 }
 export interface BorderlinePage {
   runId: number;
@@ -491,27 +517,24 @@ export const reviewQueueInput = z.strictObject({
   limit: pageLimit,
   status: z.enum(['all', 'open', 'done']).default('all'),
 });
-export interface ReviewItem {
-  customerId: string;
-  reason: 'borderline' | 'atypical' | 'mover';
-  spendAtStake: number;
-  topSegment: number;
-  topProbability: number;
-  secondSegment: number | null;
-  secondProbability: number | null;
-  /** The customer's features in original units, beside each segment median. */
-  features: { feature: string; unit: string; value: number }[];
+/** A queued customer; `revenue` (spend in the window) is the spend at stake the queue is ordered by. */
+export interface ReviewItem extends MembershipRow {
+  reasons: ('borderline' | 'atypical' | 'mover')[];
+  why: BorderlineWhy | null;
+  /** The customer's model features (original units) beside the medians of the top two segments. */
+  featureComparison: { feature: string; label: string; value: number | null; topMedian: number | null; secondMedian: number | null }[];
   previousSegmentName: string | null;
   previousDecision: ReviewDecision | null;
-  decision: ReviewDecision | null;
 }
 export interface ReviewDecision {
   action: ReviewAction;
-  /** Target segment for `move`. */
-  segment: number | null;
-  note: string;
-  reviewer: string;
+  /** The segment the decision places the customer in (keep: the model's; move: the target). */
+  segmentName: string | null;
+  note: string | null;
+  reviewer: string | null;
   decidedAt: string;
+  /** Run the decision was made in when carried over from an earlier month; null when made here. */
+  carriedFromRunId: number | null;
 }
 export interface ReviewQueuePage {
   runId: number;
@@ -544,6 +567,16 @@ export const renameSegmentInput = z.strictObject({
 // ---------------------------------------------------------------------------------------------
 // Movement
 
+export interface DriftWarning {
+  segmentName: string;
+  kind: 'mean-shift' | 'share-change';
+  /** Feature for mean shifts; null for share changes. */
+  feature: string | null;
+  /** Shift in parent standard deviations, or share change in percentage points. */
+  amount: number;
+  message: string;
+}
+/** Movement against the parent run; `parentRunId` null (and everything empty) for a first run. */
 export interface MovementResult {
   runId: number;
   parentRunId: number | null;
@@ -551,11 +584,16 @@ export interface MovementResult {
   currentSegments: { segment: number; name: string }[];
   /** matrix[i][j] = customers in parent segment i and current segment j. */
   matrix: number[][];
+  /** Customers placed in both runs (the matrix's sum). */
+  common: number;
   entered: number;
   left: number;
   /** Adjusted Rand index on common customers, null without a parent. */
   stability: number | null;
-  warnings: string[];
+  warnings: DriftWarning[];
+  /** Refit only: parent segments without a match, and segments new this month. */
+  retired: string[];
+  added: string[];
 }
 
 // ---------------------------------------------------------------------------------------------
