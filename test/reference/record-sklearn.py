@@ -31,6 +31,7 @@ import sklearn
 from sklearn.cluster import KMeans
 from sklearn.metrics import adjusted_rand_score
 from sklearn.mixture import GaussianMixture
+from scipy.optimize import linear_sum_assignment
 
 HERE = os.path.dirname(os.path.abspath(__file__))
 DATA = os.path.join(HERE, "data")
@@ -186,6 +187,24 @@ def ari_cases():
     return cases
 
 
+def assignment_cases():
+    """scipy's linear_sum_assignment (the solver scikit-learn itself depends on) on seeded
+    random cost matrices, square and rectangular, larger than brute force reaches."""
+    cases = []
+    rng = np.random.RandomState(1)
+    for rows, cols in [(8, 8), (10, 10), (5, 9), (9, 4), (12, 12), (3, 11)]:
+        cost = rng.rand(rows, cols) * 100
+        row_index, column_index = linear_sum_assignment(cost)
+        cases.append({
+            "rows": rows,
+            "cols": cols,
+            "cost": cost.tolist(),
+            "pairs": [[int(r), int(c)] for r, c in zip(row_index, column_index)],
+            "totalCost": float(cost[row_index, column_index].sum()),
+        })
+    return cases
+
+
 def main():
     result = {
         "generatedBy": "test/reference/record-sklearn.py",
@@ -198,6 +217,7 @@ def main():
         "settings": {**SETTINGS, "fitKs": FIT_KS, "structures": STRUCTURES},
         "datasets": {name: record_dataset(name, spec) for name, spec in DATASETS.items()},
         "adjustedRand": ari_cases(),
+        "linearSumAssignment": assignment_cases(),
     }
     with open(OUTPUT, "w") as handle:
         json.dump(result, handle, indent=1)
