@@ -227,8 +227,8 @@ export interface ImportReportPage {
 export const savedMappingInput = z.strictObject({ kind: z.enum(importKinds) });
 export interface SavedMapping {
   kind: ImportKind;
+  /** The mapping last used for this kind, offered again next month; null before the first import. */
   mapping: ColumnMapping | null;
-  savedAt: string | null;
 }
 
 // ---------------------------------------------------------------------------------------------
