@@ -5,3 +5,5 @@
 export * from './types.js';
 export { parameterCount, bayesianInformationCriterion, akaikeInformationCriterion, integratedCompletedLikelihood } from './criteria.js';
 export { modelToJSON, modelFromJSON } from './serialize.js';
+export { fitMixture } from './em.js';
+export { scoreRows, imputeMissing } from './score.js';

@@ -1,0 +1,236 @@
+import { throwIfAborted } from '../errors.js';
+import { akaikeInformationCriterion, bayesianInformationCriterion, integratedCompletedLikelihood, parameterCount } from './criteria.js';
+import { emptyStatistics, expectationStep, expectationTerms, type ExpectationSummary, type SufficientStatistics } from './estep.js';
+import { initialLabels, statisticsFromLabels } from './init.js';
+import { groupByMissingPattern, meanFilled, patternExpectationStep, type MissingPattern } from './missing.js';
+import { factorWithRegularisation, maximizationStep, type MaximizationOutcome } from './mstep.js';
+import { restartStream, type RandomStream } from './random.js';
+import { resolveFitOptions, validateFitInput, type ResolvedFitOptions } from './validate.js';
+import type { DataMatrix, FitOptions, FitProgress, FitResult, MixtureModel } from './types.js';
+
+/** What one restart produced; restarts are independent, so any thread can run any of them. */
+export interface RestartOutcome {
+  restart: number;
+  model: MixtureModel;
+  logLikelihood: number;
+  sumLogMaxPosterior: number;
+  converged: boolean;
+  iterations: number;
+  warnings: string[];
+}
+
+/** Data prepared once per fit and shared by its restarts. */
+export interface FitContext {
+  values: Float64Array;
+  rows: number;
+  cols: number;
+  /** Rows grouped by missing pattern; null when nothing is missing (the fast kernel runs). */
+  patterns: MissingPattern[] | null;
+  /** Values with NaNs filled by column means, for k-means and re-seeding; `values` when complete. */
+  filledValues: Float64Array;
+}
+
+export function prepareFitContext(data: DataMatrix, anyMissing: boolean): FitContext {
+  const { values, rows, cols } = data;
+  return {
+    values,
+    rows,
+    cols,
+    patterns: anyMissing ? groupByMissingPattern(values, rows, cols) : null,
+    filledValues: anyMissing ? meanFilled(values, rows, cols) : values,
+  };
+}
+
+/** Collects warnings, counting repeats of the same kind instead of listing each. */
+class WarningLog {
+  private readonly entries = new Map<string, { text: string; count: number }>();
+
+  add(key: string, text: string): void {
+    const entry = this.entries.get(key);
+    if (entry) entry.count++;
+    else this.entries.set(key, { text, count: 1 });
+  }
+
+  list(): string[] {
+    return [...this.entries.values()].map(({ text, count }) => (count > 1 ? `${text} (${count} times in all)` : text));
+  }
+}
+
+/** Runs one E-step over the whole context with the kernel its data needs. */
+function runExpectation(context: FitContext, model: MixtureModel, statistics: SufficientStatistics | null): ExpectationSummary {
+  if (context.patterns) return patternExpectationStep(context.values, model, context.patterns, { statistics });
+  return expectationStep(context.values, 0, context.rows, expectationTerms(model), statistics, null);
+}
+
+/** Total and mean log-likelihood of a model on the context's rows (observed features only where missing). */
+export function logLikelihoodOf(context: FitContext, model: MixtureModel): ExpectationSummary {
+  return runExpectation(context, model, null);
+}
+
+function noteMaximization(outcome: MaximizationOutcome, iteration: number, warnings: WarningLog): void {
+  for (const { component, added } of outcome.regularised) {
+    warnings.add(
+      `singular-${component}`,
+      `Covariance of component ${component + 1} was singular at iteration ${iteration}; ${added.toPrecision(3)} was added to its diagonal.`,
+    );
+  }
+}
+
+/**
+ * Replaces emptied components: the first takes the worst-explained row as its mean, further ones
+ * random rows; each gets the data's overall covariance (in the model's structure) and weight 1/k.
+ */
+function reseedEmptied(
+  model: MixtureModel,
+  emptied: number[],
+  worstRow: number,
+  context: FitContext,
+  random: RandomStream,
+  iteration: number,
+  warnings: WarningLog,
+): void {
+  const { components: k, dimensions: d, covarianceType } = model;
+  const overall = overallCovariance(context.filledValues, context.rows, d);
+  emptied.forEach((component, position) => {
+    const row = position === 0 && worstRow >= 0 ? worstRow : random.integer(0, context.rows - 1);
+    model.means.set(context.filledValues.subarray(row * d, row * d + d), component * d);
+    if (covarianceType !== 'tied') {
+      const offset = component * d * d;
+      let average = 0;
+      for (let a = 0; a < d; a++) average += overall[a * d + a] / d;
+      for (let a = 0; a < d; a++) {
+        for (let b = 0; b < d; b++) {
+          const value = covarianceType === 'full' ? overall[a * d + b] : a !== b ? 0 : covarianceType === 'diag' ? overall[a * d + a] : average;
+          model.covariances[offset + a * d + b] = value + (a === b ? model.regularization : 0);
+        }
+      }
+    }
+    model.weights[component] = 1 / k;
+    warnings.add(
+      `empty-${component}`,
+      `Component ${component + 1} emptied at iteration ${iteration} and was re-seeded at row ${row + 1}${position === 0 ? ' (the worst-explained row)' : ''}.`,
+    );
+  });
+  let total = 0;
+  for (let c = 0; c < k; c++) total += model.weights[c];
+  for (let c = 0; c < k; c++) model.weights[c] /= total;
+  model.precisionCholesky = factorWithRegularisation(model.covariances, k, d, covarianceType, model.regularization).precisionCholesky;
+}
+
+function overallCovariance(values: Float64Array, n: number, d: number): Float64Array {
+  const mean = new Float64Array(d);
+  for (let row = 0; row < n; row++) for (let a = 0; a < d; a++) mean[a] += values[row * d + a] / n;
+  const covariance = new Float64Array(d * d);
+  for (let row = 0; row < n; row++) {
+    for (let a = 0; a < d; a++) {
+      const differenceA = values[row * d + a] - mean[a];
+      for (let b = 0; b <= a; b++) covariance[a * d + b] += (differenceA * (values[row * d + b] - mean[b])) / n;
+    }
+  }
+  for (let a = 0; a < d; a++) for (let b = a + 1; b < d; b++) covariance[a * d + b] = covariance[b * d + a];
+  return covariance;
+}
+
+/**
+ * One restart of EM: initial hard assignment → M-step, then E-step/M-step pairs until the mean
+ * log-likelihood changes by less than tol (as scikit-learn's GaussianMixture checks it, the
+ * M-step after the last E-step is kept) or maxIterations; finally the log-likelihood of the
+ * returned parameters.
+ */
+export function fitRestart(
+  context: FitContext,
+  options: ResolvedFitOptions,
+  restart: number,
+  signal?: AbortSignal,
+  onProgress?: (progress: FitProgress) => void,
+): RestartOutcome {
+  const { rows: n, cols: d } = context;
+  const { components: k, covarianceType, tol, maxIterations, regularization } = options;
+  const diagonalOnly = context.patterns === null && (covarianceType === 'diag' || covarianceType === 'spherical');
+  const random = restartStream(options.seed, restart);
+  const warnings = new WarningLog();
+  const report = (iteration: number, logLikelihood: number) => onProgress?.({ k, covarianceType, restart, iteration, logLikelihood });
+
+  throwIfAborted(signal);
+  report(0, NaN);
+  const labels = initialLabels(context.filledValues, n, d, k, options.init, random);
+  let outcome = maximizationStep(statisticsFromLabels(context.filledValues, n, d, labels, k, diagonalOnly), covarianceType, regularization);
+  noteMaximization(outcome, 0, warnings);
+  let model = outcome.model;
+  if (outcome.emptied.length > 0) reseedEmptied(model, outcome.emptied, -1, context, random, 0, warnings);
+
+  let previous = -Infinity;
+  let converged = false;
+  let iterations = 0;
+  for (let iteration = 1; iteration <= maxIterations; iteration++) {
+    throwIfAborted(signal);
+    const statistics = emptyStatistics(k, d, diagonalOnly, model.means);
+    const summary = runExpectation(context, model, statistics);
+    const meanLogLikelihood = summary.logLikelihood / n;
+    outcome = maximizationStep(statistics, covarianceType, regularization);
+    noteMaximization(outcome, iteration, warnings);
+    model = outcome.model;
+    iterations = iteration;
+    report(iteration, meanLogLikelihood);
+    if (outcome.emptied.length > 0) {
+      reseedEmptied(model, outcome.emptied, summary.worstRow, context, random, iteration, warnings);
+      previous = -Infinity; // the re-seeded model starts a new climb
+      continue;
+    }
+    if (Math.abs(meanLogLikelihood - previous) < tol) {
+      converged = true;
+      break;
+    }
+    previous = meanLogLikelihood;
+  }
+  const final = logLikelihoodOf(context, model);
+  return {
+    restart,
+    model,
+    logLikelihood: final.logLikelihood,
+    sumLogMaxPosterior: final.sumLogMaxPosterior,
+    converged,
+    iterations,
+    warnings: warnings.list(),
+  };
+}
+
+/** Best restart (highest log-likelihood, the earliest on ties) turned into a FitResult. */
+export function summarizeRestarts(outcomes: RestartOutcome[], options: ResolvedFitOptions, rows: number, cols: number): FitResult {
+  const ordered = [...outcomes].sort((a, b) => a.restart - b.restart);
+  let best = ordered[0];
+  for (const outcome of ordered) if (outcome.logLikelihood > best.logLikelihood) best = outcome;
+  const parameters = parameterCount(options.components, cols, options.covarianceType);
+  const bic = bayesianInformationCriterion(best.logLikelihood, parameters, rows);
+  return {
+    model: best.model,
+    logLikelihood: best.logLikelihood,
+    meanLogLikelihood: best.logLikelihood / rows,
+    bic,
+    aic: akaikeInformationCriterion(best.logLikelihood, parameters),
+    icl: integratedCompletedLikelihood(bic, best.sumLogMaxPosterior),
+    parameterCount: parameters,
+    converged: best.converged,
+    iterations: best.iterations,
+    warnings: best.warnings,
+    restartLogLikelihoods: ordered.map((outcome) => outcome.logLikelihood),
+    bestRestart: best.restart,
+  };
+}
+
+/** Validates and prepares a fit; shared by the single-thread and the worker paths. */
+export function prepareFit(data: DataMatrix, options: FitOptions): { resolved: ResolvedFitOptions; context: FitContext } {
+  const resolved = resolveFitOptions(options);
+  const anyMissing = validateFitInput(data, resolved);
+  return { resolved, context: prepareFitContext(data, anyMissing) };
+}
+
+/** Fits a Gaussian mixture by EM on this thread: every restart in turn, the best kept. */
+export function fitMixture(data: DataMatrix, options: FitOptions): FitResult {
+  const { resolved, context } = prepareFit(data, options);
+  const outcomes: RestartOutcome[] = [];
+  for (let restart = 0; restart < resolved.restarts; restart++) {
+    outcomes.push(fitRestart(context, resolved, restart, options.signal, options.onProgress));
+  }
+  return summarizeRestarts(outcomes, resolved, data.rows, data.cols);
+}

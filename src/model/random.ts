@@ -1,0 +1,25 @@
+import { xoroshiro128plus } from 'pure-rand/generator/xoroshiro128plus';
+import { uniformFloat64 } from 'pure-rand/distribution/uniformFloat64';
+import { uniformInt } from 'pure-rand/distribution/uniformInt';
+import type { JumpableRandomGenerator } from 'pure-rand/types/JumpableRandomGenerator';
+
+/** A seeded stream of random numbers (pure-rand's xoroshiro128+). */
+export interface RandomStream {
+  /** Uniform in [0, 1). */
+  float(): number;
+  /** Uniform integer in [from, to], both included. */
+  integer(from: number, to: number): number;
+}
+
+/**
+ * The stream of one restart: the seed's generator jumped `restart` times, so restarts draw from
+ * non-overlapping parts of one sequence and any restart can be replayed alone (on any thread).
+ */
+export function restartStream(seed: number, restart: number): RandomStream {
+  const generator: JumpableRandomGenerator = xoroshiro128plus(seed | 0);
+  for (let i = 0; i < restart; i++) generator.jump();
+  return {
+    float: () => uniformFloat64(generator),
+    integer: (from, to) => uniformInt(generator, from, to),
+  };
+}
