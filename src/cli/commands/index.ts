@@ -1,4 +1,5 @@
 import type { RegisterCommand } from '../run-command.js';
+import { registerDemo } from './demo.js';
 
 /** Every CLI command, in the order `--help` lists them. Add a command by adding its module here. */
-export const commandModules: RegisterCommand[] = [];
+export const commandModules: RegisterCommand[] = [registerDemo];
