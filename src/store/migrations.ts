@@ -1,5 +1,6 @@
 import type { Migration } from './migration-types.js';
 import { coreTables } from './migrations/001-core-tables.js';
+import { runTables } from './migrations/002-runs.js';
 
 export type { Migration } from './migration-types.js';
 
@@ -9,6 +10,7 @@ export type { Migration } from './migration-types.js';
  */
 export const migrations: readonly Migration[] = [
   coreTables,
+  runTables,
 ];
 
 export const CURRENT_SCHEMA_VERSION = migrations.length;

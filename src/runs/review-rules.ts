@@ -1,0 +1,58 @@
+/**
+ * Review queue rules (DESIGN.md §7): who is queued and why, what a decision makes of the final
+ * segment, and which decisions carry over to next month's run.
+ */
+import type { ReviewAction } from './types.js';
+
+/** Why a customer is queued, as bits of the stored `review` column. */
+export const REVIEW_BORDERLINE = 1;
+export const REVIEW_ATYPICAL = 2;
+export const REVIEW_MOVER = 4;
+
+export type ReviewReason = 'borderline' | 'atypical' | 'mover';
+
+export function reviewMask(borderline: boolean, atypical: boolean, lowConfidenceMover: boolean): number {
+  return (borderline ? REVIEW_BORDERLINE : 0) | (atypical ? REVIEW_ATYPICAL : 0) | (lowConfidenceMover ? REVIEW_MOVER : 0);
+}
+
+export function reviewReasons(mask: number): ReviewReason[] {
+  const reasons: ReviewReason[] = [];
+  if (mask & REVIEW_BORDERLINE) reasons.push('borderline');
+  if (mask & REVIEW_ATYPICAL) reasons.push('atypical');
+  if (mask & REVIEW_MOVER) reasons.push('mover');
+  return reasons;
+}
+
+/** A mover worth a look: placed in a different segment (by key) than last month, and unsure now. */
+export function isLowConfidenceMover(previousKey: string | null, currentKey: string, confidence: number, threshold: number | null): boolean {
+  return threshold !== null && previousKey !== null && previousKey !== currentKey && confidence < threshold;
+}
+
+export interface StoredDecision {
+  action: ReviewAction;
+  segmentKey: string | null;
+}
+
+/**
+ * The final segment: the decision's where one exists and its segment is in this run (keep → the
+ * confirmed segment, move → the target), else the model's. `exclude` keeps the model segment and
+ * marks the customer as excluded from campaigns.
+ */
+export function finalSegmentKey(modelKey: string | null, decision: StoredDecision | null, keysInRun: ReadonlySet<string>): {
+  key: string | null;
+  excluded: boolean;
+} {
+  if (!decision) return { key: modelKey, excluded: false };
+  if (decision.action === 'exclude') return { key: modelKey, excluded: true };
+  if (decision.segmentKey !== null && keysInRun.has(decision.segmentKey)) return { key: decision.segmentKey, excluded: false };
+  return { key: modelKey, excluded: false };
+}
+
+/**
+ * Whether a decision of the parent run carries into the new run for a customer placed there:
+ * exclusions always do; keep and move only while their segment still exists.
+ */
+export function carriesOver(decision: StoredDecision, keysInRun: ReadonlySet<string>): boolean {
+  if (decision.action === 'exclude') return true;
+  return decision.segmentKey !== null && keysInRun.has(decision.segmentKey);
+}

@@ -1,0 +1,47 @@
+/**
+ * Benchmark: our per-customer features against a plain one-pass
+ * `SELECT customer_id, SUM(amount_cents) FROM receipts GROUP BY customer_id` over the same table,
+ * in the same process, alternating, best of `--repeat` each. Required ratio ≤ 2.0, aim ≤ 1.2.
+ *   npx tsx test/bench/features-vs-groupby.ts [--customers 1000000] [--rows 20000000] [--repeat 2]
+ */
+import { computeReceiptFeatures } from '../../src/features/compute.js';
+import { openDatabase } from '../../src/store/database.js';
+import { SYNTHETIC_AS_OF, syntheticReceiptsDatabase } from './synthetic-receipts.js';
+
+function flag(name: string, fallback: number): number {
+  const at = process.argv.indexOf(`--${name}`);
+  return at >= 0 ? Number(process.argv[at + 1]) : fallback;
+}
+
+const customers = flag('customers', 1_000_000);
+const rows = flag('rows', 20_000_000);
+const repeat = flag('repeat', 2);
+const built = syntheticReceiptsDatabase(customers, rows);
+console.log(`database ${built.path} (${built.reused ? 'reused' : `built in ${built.seconds.toFixed(1)} s`})`);
+const db = openDatabase(built.path);
+
+function time(run: () => number): { seconds: number; result: number } {
+  const started = performance.now();
+  const result = run();
+  return { seconds: (performance.now() - started) / 1000, result };
+}
+
+const plain = () => {
+  let groups = 0;
+  for (const _ of db.prepare('SELECT customer_id, SUM(amount_cents) FROM receipts GROUP BY customer_id').raw().iterate()) groups++;
+  return groups;
+};
+const ours = () =>
+  computeReceiptFeatures(db, { asOf: SYNTHETIC_AS_OF, windowMonths: 12, minPurchases: 2, minTenureMonths: 2 }).customerIds.length;
+
+let bestPlain = Infinity;
+let bestOurs = Infinity;
+for (let round = 0; round < repeat; round++) {
+  const a = time(plain);
+  const b = time(ours);
+  bestPlain = Math.min(bestPlain, a.seconds);
+  bestOurs = Math.min(bestOurs, b.seconds);
+  console.log(`round ${round + 1}: plain GROUP BY ${a.seconds.toFixed(2)} s (${a.result} groups), features ${b.seconds.toFixed(2)} s (${b.result} customers)`);
+}
+console.log(`rows ${rows}, customers ${customers}: plain ${bestPlain.toFixed(2)} s, features ${bestOurs.toFixed(2)} s, ratio ${(bestOurs / bestPlain).toFixed(2)} (required ≤ 2.0, aim ≤ 1.2)`);
+db.close();
