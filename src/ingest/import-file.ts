@@ -1,0 +1,303 @@
+import { basename, dirname, join, resolve } from 'node:path';
+import type { Database } from 'better-sqlite3';
+import { CancelledError, InputError, throwIfAborted } from '../errors.js';
+import { asDatabaseInputError } from '../store/database.js';
+import {
+  customerWriter,
+  featureWriter,
+  knownStoreIds,
+  receiptWriter,
+  recordStoreIds,
+  visitWriter,
+  type BulkWriter,
+} from '../store/bulk-writers.js';
+import {
+  findImportByHash,
+  finishImport,
+  IMPORT_KINDS,
+  insertImport,
+  saveMapping,
+  savedMapping,
+  type ImportKind,
+} from '../store/imports-repo.js';
+import type { CsvRecord } from './csv-tokenizer.js';
+import { probeFile } from './file-probe.js';
+import { ImportReport } from './import-report.js';
+import { resolveMapping, type ColumnMapping } from './mapping.js';
+import { openRecordSource } from './record-source.js';
+import { isRowRejection, makeRowConverter } from './row-converters.js';
+import { DATE_FORMATS, type DateFormat } from './values.js';
+
+export interface ImportOptions {
+  /** How non-ISO dates are read; ISO dates are always accepted. Default 'iso' (others rejected). */
+  dateFormat?: DateFormat;
+  /** Amounts and numbers use a decimal comma. Default false. */
+  decimalComma?: boolean;
+  /** Above this share of rejected rows the whole file is refused. Default 0.05. */
+  maxRejectedShare?: number;
+  /** XLSX: sheet to read (default the first). */
+  sheet?: string;
+  /** CSV: force the delimiter instead of sniffing. */
+  delimiter?: string;
+  /** Folder for the import report (default: the database's folder). */
+  reportDir?: string;
+}
+
+export type ImportPhase = 'checking' | 'reading' | 'committing' | 'done';
+
+export interface ImportProgress {
+  phase: ImportPhase;
+  rows: number;
+  bytes: number;
+  totalBytes: number;
+}
+
+export interface ImportRequest {
+  path: string;
+  kind: ImportKind;
+  /** Source column → field; wins over the saved mapping and automatic names. */
+  mapping?: ColumnMapping;
+  options?: ImportOptions;
+  signal?: AbortSignal;
+  onProgress?: (progress: ImportProgress) => void;
+}
+
+/** Exactly the JSON of `import` in DESIGN.md §10. */
+export interface ImportResult {
+  file: string;
+  kind: ImportKind;
+  rowsRead: number;
+  rowsImported: number;
+  rowsRejected: number;
+  duplicatesSkipped: number;
+  alreadyImported: boolean;
+  /** Sum of the imported receipt amounts in currency units; null for other kinds. */
+  amountTotal: number | null;
+  /** Path of the import report (rejected rows), or null when no row was rejected. */
+  report: string | null;
+}
+
+export const DEFAULT_MAX_REJECTED_SHARE = 0.05;
+
+function validateRequest(request: ImportRequest): Required<Pick<ImportOptions, 'dateFormat' | 'decimalComma' | 'maxRejectedShare'>> {
+  if (!IMPORT_KINDS.includes(request.kind)) {
+    throw new InputError(`Unknown import kind "${request.kind}"; expected one of ${IMPORT_KINDS.join(', ')}.`);
+  }
+  if (typeof request.path !== 'string' || request.path.trim() === '') throw new InputError('No file to import was given.');
+  const options = request.options ?? {};
+  const dateFormat = options.dateFormat ?? 'iso';
+  if (!DATE_FORMATS.includes(dateFormat)) {
+    throw new InputError(`Date format must be one of ${DATE_FORMATS.join(', ')}; got "${dateFormat}".`);
+  }
+  const maxRejectedShare = options.maxRejectedShare ?? DEFAULT_MAX_REJECTED_SHARE;
+  if (!Number.isFinite(maxRejectedShare) || maxRejectedShare < 0 || maxRejectedShare > 1) {
+    throw new InputError(`The maximum rejected share must be between 0 and 1; got ${maxRejectedShare}.`);
+  }
+  return { dateFormat, decimalComma: options.decimalComma ?? false, maxRejectedShare };
+}
+
+function reportPathFor(db: Database, request: ImportRequest): string {
+  const databasePath = db.name && db.name !== ':memory:' ? resolve(db.name) : undefined;
+  const folder = request.options?.reportDir ?? (databasePath ? dirname(databasePath) : dirname(resolve(request.path)));
+  const stamp = new Date().toISOString().replace(/[-:]/g, '').replace(/\..*$/, '').replace('T', '-');
+  const base = databasePath ? basename(databasePath) : 'spendmix';
+  return join(folder, `${base}.import-${stamp}-${basename(request.path).replace(/[^\w.-]+/g, '_')}.report.csv`);
+}
+
+function writerFor(db: Database, kind: ImportKind, importId: number, featureNames: string[]): BulkWriter {
+  switch (kind) {
+    case 'receipts':
+      return receiptWriter(db, importId);
+    case 'visits':
+      return visitWriter(db, importId);
+    case 'customers':
+      return customerWriter(db, importId);
+    case 'features':
+      return featureWriter(db, importId, featureNames);
+  }
+}
+
+/** Column of the store id in each kind's row values (see row-converters.ts), for recording unknown stores. */
+const STORE_VALUE_INDEX: Record<ImportKind, number> = { receipts: 5, visits: 3, customers: 3, features: -1 };
+
+function isUniqueViolation(error: unknown): boolean {
+  return (error as { code?: string }).code === 'SQLITE_CONSTRAINT_UNIQUE';
+}
+
+/**
+ * Imports one file into the database as one transaction: all of its valid rows or nothing.
+ * A file whose content was imported before (same kind, same SHA-256) is recognised and skipped.
+ * Rows that fail validation go to the import report; above the rejection threshold the whole
+ * file is refused. Cancelling through `signal` rolls everything back.
+ *
+ * The connection must not be used by anything else until the promise settles: the transaction
+ * stays open across the awaits of the file reads.
+ */
+export async function importFile(db: Database, request: ImportRequest): Promise<ImportResult> {
+  const settings = validateRequest(request);
+  const { kind, signal, onProgress } = request;
+  const file = request.path;
+  let totalBytes = 0;
+  const progress = (phase: ImportPhase, rows: number, bytes: number) => onProgress?.({ phase, rows, bytes, totalBytes });
+
+  const probe = await probeFile(file, signal, (bytes) => progress('checking', 0, bytes));
+  totalBytes = probe.bytes;
+  const earlier = findImportByHash(db, kind, probe.contentHash);
+  const alreadyImported = (): ImportResult => ({
+    file,
+    kind,
+    rowsRead: 0,
+    rowsImported: 0,
+    rowsRejected: 0,
+    duplicatesSkipped: 0,
+    alreadyImported: true,
+    amountTotal: kind === 'receipts' ? 0 : null,
+    report: null,
+  });
+  if (earlier) {
+    progress('done', 0, totalBytes);
+    return alreadyImported();
+  }
+
+  let bytesRead = 0;
+  const source = await openRecordSource(probe, {
+    sheet: request.options?.sheet,
+    delimiter: request.options?.delimiter,
+    decimalComma: settings.decimalComma,
+    signal,
+    onBytes: (bytes) => {
+      bytesRead = bytes;
+    },
+  });
+  const resolved = resolveMapping({
+    kind,
+    header: source.header,
+    explicit: request.mapping,
+    saved: savedMapping(db, kind),
+    context: source.context(),
+  });
+  const convert = makeRowConverter(kind, resolved, source.header, settings);
+  const width = source.header.length;
+  const report = new ImportReport(reportPathFor(db, request));
+
+  try {
+    db.exec('BEGIN IMMEDIATE');
+  } catch (error) {
+    report.discard();
+    throw asDatabaseInputError(db.name, error);
+  }
+  try {
+    let importId: number;
+    try {
+      importId = insertImport(db, {
+        fileName: basename(file),
+        kind,
+        contentHash: probe.contentHash,
+        mapping: resolved.mapping,
+        rowsRead: 0,
+        rowsImported: 0,
+        rowsRejected: 0,
+        duplicatesSkipped: 0,
+        amountTotalCents: null,
+        reportPath: null,
+        importedAt: new Date().toISOString(),
+      });
+    } catch (error) {
+      // Another process imported the same file since the check above.
+      if (isUniqueViolation(error)) {
+        db.exec('ROLLBACK');
+        return alreadyImported();
+      }
+      throw error;
+    }
+    const writer = writerFor(db, kind, importId, resolved.featureColumns.map(([, name]) => name));
+    const storeIndex = STORE_VALUE_INDEX[kind];
+    const knownStores = storeIndex >= 0 ? knownStoreIds(db) : new Set<string>();
+    const newStores = new Set<string>();
+    let rowsRead = 0;
+    const padded = (record: CsvRecord): string[] | undefined => {
+      const fields = record.fields;
+      if (fields.length === width) return fields;
+      if (source.padShortRows && fields.length < width) return [...fields, ...new Array<string>(width - fields.length).fill('')];
+      return undefined;
+    };
+    for await (const batch of source.batches) {
+      throwIfAborted(signal);
+      for (const record of batch) {
+        rowsRead += 1;
+        if (record.malformed) {
+          report.add(record.line, { column: '', value: record.fields.join(source.delimiter ?? ','), reason: record.malformed });
+          continue;
+        }
+        const fields = padded(record);
+        if (fields === undefined) {
+          report.add(record.line, {
+            column: '',
+            value: record.fields.join(source.delimiter ?? ',').slice(0, 200),
+            reason: `expected ${width} columns, found ${record.fields.length}`,
+          });
+          continue;
+        }
+        const values = convert(fields);
+        if (isRowRejection(values)) {
+          report.add(record.line, values);
+          continue;
+        }
+        if (storeIndex >= 0) {
+          const storeId = values[storeIndex] as string | null;
+          if (storeId !== null && !knownStores.has(storeId)) {
+            knownStores.add(storeId);
+            newStores.add(storeId);
+          }
+        }
+        writer.add(values);
+      }
+      progress('reading', rowsRead, bytesRead);
+    }
+    throwIfAborted(signal);
+    if (rowsRead === 0) throw new InputError(`${file} has a header but no data rows.`);
+    writer.flush();
+    const rowsRejected = report.rejectedRows;
+    if (rowsRejected / rowsRead > settings.maxRejectedShare) {
+      const reportPath = report.finish();
+      db.exec('ROLLBACK');
+      throw new InputError(
+        `${file}: ${rowsRejected} of ${rowsRead} rows (${((100 * rowsRejected) / rowsRead).toFixed(1)}%) failed validation, ` +
+          `above the ${(100 * settings.maxRejectedShare).toFixed(1)}% limit, so nothing was imported. ` +
+          `Most common: ${report.topReasons()}. Rows and reasons: ${reportPath}`,
+        { rowsRead, rowsRejected, report: reportPath },
+      );
+    }
+    progress('committing', rowsRead, bytesRead);
+    recordStoreIds(db, newStores);
+    const reportPath = report.finish();
+    const result: ImportResult = {
+      file,
+      kind,
+      rowsRead,
+      rowsImported: writer.rowsWritten,
+      rowsRejected,
+      duplicatesSkipped: writer.rowsAdded - writer.rowsWritten,
+      alreadyImported: false,
+      amountTotal: kind === 'receipts' ? writer.amountWrittenCents / 100 : null,
+      report: reportPath,
+    };
+    finishImport(db, importId, {
+      rowsRead,
+      rowsImported: result.rowsImported,
+      rowsRejected,
+      duplicatesSkipped: result.duplicatesSkipped,
+      amountTotalCents: kind === 'receipts' ? writer.amountWrittenCents : null,
+      reportPath,
+    });
+    saveMapping(db, kind, resolved.mapping);
+    db.exec('COMMIT');
+    progress('done', rowsRead, totalBytes);
+    return result;
+  } catch (error) {
+    if (db.inTransaction) db.exec('ROLLBACK');
+    if (!(error instanceof InputError && error.details?.report)) report.discard();
+    if (error instanceof CancelledError || error instanceof InputError) throw error;
+    throw asDatabaseInputError(db.name, error);
+  }
+}
