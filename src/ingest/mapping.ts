@@ -100,7 +100,7 @@ export function resolveMapping(input: MappingInput): ResolvedMapping {
   if (missing.length > 0) {
     throw new InputError(
       `The ${kind} file lacks required column${missing.length > 1 ? 's' : ''} ${missing.join(', ')}. ` +
-        `Columns found: ${listColumns(header)}. Map yours with --map COLUMN=FIELD (e.g. --map "${header[0] ?? 'Card'}=${missing[0]}").` +
+        `Columns found: ${listColumns(header)}. Map yours with --map COLUMN=FIELD (e.g. --map "Your Column=${missing[0]}").` +
         (input.context ? ` ${input.context}` : ''),
       { missing, found: [...header] },
     );
