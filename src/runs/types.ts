@@ -280,7 +280,8 @@ export interface Movement {
   entered: number;
   /** Placed in the parent, not placed now (lapsed, or too new again). */
   left: number;
-  adjustedRandIndex: number;
+  /** Null when fewer than two customers are common to both runs. */
+  adjustedRandIndex: number | null;
   warnings: DriftWarning[];
   /** Refit only: parent segments without a match and current segments new this month. */
   retired: { key: string; name: string }[];

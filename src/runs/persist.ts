@@ -1,0 +1,171 @@
+/**
+ * Writes a computed run in one transaction: the run row, its segments with profiles, a
+ * membership row for every customer of the feature table (placed or too new) and the review
+ * decisions carried over from the parent. Either all of it is stored or none.
+ */
+import type { Database } from 'better-sqlite3';
+import type { FeatureTable } from '../features/compute.js';
+import type { FeatureTransform } from '../features/transforms.js';
+import { modelToJSON } from '../model/serialize.js';
+import type { Memberships, MixtureModel, SelectionCriterion, SweepRow } from '../model/types.js';
+import { encodeFloat64 } from './blobs.js';
+import type { Flags } from './flags.js';
+import type { NamedSegment } from './naming.js';
+import type { ParentDecision } from './parent.js';
+import type { ProfileNumbers } from './profiles.js';
+import type { Movement, ResolvedRunSettings } from './types.js';
+
+export type CarriedDecision = ParentDecision;
+
+export interface RunRecord {
+  settings: ResolvedRunSettings;
+  features: string[];
+  transforms: Record<string, FeatureTransform>;
+  table: FeatureTable;
+  model: MixtureModel;
+  sweep: SweepRow[];
+  criterion: SelectionCriterion;
+  logLikelihood: number;
+  bic: number;
+  icl: number;
+  /** Table rows of the placed customers, in the order of `memberships`, `flags` and `review`. */
+  placedRows: number[];
+  memberships: Memberships;
+  flags: Flags;
+  review: Uint8Array;
+  /** Parent segment key per table row (null when not placed in the parent). */
+  previousKeys: (string | null)[];
+  segments: NamedSegment[];
+  profiles: ProfileNumbers[];
+  retired: { key: string; name: string }[];
+  movement: Movement | null;
+  warnings: string[];
+  carried: CarriedDecision[];
+  onProgress?: (done: number) => void;
+}
+
+/** Stores the run and returns its id. */
+export function persistRun(db: Database, record: RunRecord): number {
+  const { table, model, memberships, flags } = record;
+  const k = model.components;
+  const d = model.dimensions;
+  // Stored features: model features first, then the rest of the table, all in original units.
+  const storedFeatures = [...record.features, ...table.names.filter((name) => !record.features.includes(name))];
+  const storedColumns = storedFeatures.map((name) => table.columns[table.names.indexOf(name)]);
+  const spendColumn = table.names.indexOf('spend_per_month');
+  const placedAt = new Int32Array(table.customerIds.length).fill(-1);
+  record.placedRows.forEach((row, p) => (placedAt[row] = p));
+
+  const insertRun = db.prepare(`
+    INSERT INTO runs (parent_run_id, created_at, as_of, window_months, mode, source, settings, features, stored_features,
+                      transforms, model, sweep, criterion, k, covariance, log_likelihood, bic, icl, customers, too_new,
+                      borderline, atypical, atypical_log_density_below, stability, warnings, retired, movement)
+    VALUES (@parent, @createdAt, @asOf, @windowMonths, @mode, @source, @settings, @features, @storedFeatures,
+            @transforms, @model, @sweep, @criterion, @k, @covariance, @logLikelihood, @bic, @icl, @customers, @tooNew,
+            @borderline, @atypical, @atypicalCut, @stability, @warnings, @retired, @movement)`);
+  const insertSegment = db.prepare(`
+    INSERT INTO run_segments (run_id, segment_index, segment_key, name, spend_rank, origin, customers, share, revenue_cents, revenue_share, profile)
+    VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`);
+  const insertMembership = db.prepare(`
+    INSERT INTO run_memberships (run_id, customer_id, segment_index, confidence, margin, second_index, second_probability, log_density,
+                                 borderline, atypical, partial, too_new, review, previous_key, revenue_cents, spend_per_month, features, posteriors)
+    VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`);
+  const insertDecision = db.prepare(`
+    INSERT INTO review_decisions (run_id, customer_id, action, segment_key, note, reviewer, decided_at, carried_from_run_id)
+    VALUES (?, ?, ?, ?, ?, ?, ?, ?)`);
+
+  const store = db.transaction(() => {
+    const placed = record.placedRows.length;
+    const runId = Number(
+      insertRun.run({
+        parent: record.settings.parentRunId,
+        createdAt: new Date().toISOString(),
+        asOf: record.settings.asOf,
+        windowMonths: record.settings.windowMonths,
+        mode: record.settings.mode,
+        source: table.source,
+        settings: JSON.stringify(record.settings),
+        features: JSON.stringify(record.features),
+        storedFeatures: JSON.stringify(storedFeatures),
+        transforms: JSON.stringify(record.transforms),
+        model: JSON.stringify(modelToJSON(model)),
+        sweep: JSON.stringify(record.sweep),
+        criterion: record.criterion,
+        k,
+        covariance: model.covarianceType,
+        logLikelihood: record.logLikelihood,
+        bic: record.bic,
+        icl: record.icl,
+        customers: placed,
+        tooNew: table.customerIds.length - placed,
+        borderline: flags.borderline.reduce((a, b) => a + b, 0),
+        atypical: flags.atypical.reduce((a, b) => a + b, 0),
+        atypicalCut: Number.isFinite(flags.atypicalLogDensityBelow) ? flags.atypicalLogDensityBelow : null,
+        stability: record.movement?.adjustedRandIndex ?? null,
+        warnings: JSON.stringify(record.warnings),
+        retired: JSON.stringify(record.retired),
+        movement: record.movement ? JSON.stringify(record.movement) : null,
+      }).lastInsertRowid,
+    );
+    for (const segment of record.segments) {
+      const profile = record.profiles[segment.index];
+      const c = segment.index;
+      insertSegment.run(
+        runId,
+        c,
+        segment.key,
+        segment.name,
+        segment.spendRank,
+        segment.origin,
+        profile.customers,
+        profile.share,
+        Math.round(profile.revenueCents),
+        profile.revenueShare,
+        JSON.stringify({
+          features: profile.features,
+          weight: model.weights[c],
+          transformedMean: Array.from(model.means.subarray(c * d, (c + 1) * d)),
+          transformedStdDev: Array.from({ length: d }, (_, j) => Math.sqrt(model.covariances[(c * d + j) * d + j])),
+        }),
+      );
+    }
+    const featureVector = new Float64Array(storedFeatures.length);
+    for (let i = 0; i < table.customerIds.length; i++) {
+      for (let j = 0; j < storedColumns.length; j++) featureVector[j] = storedColumns[j][i];
+      const spend = spendColumn >= 0 && !Number.isNaN(table.columns[spendColumn][i]) ? table.columns[spendColumn][i] : null;
+      const p = placedAt[i];
+      const revenue = Math.round(table.revenueCents[i]);
+      if (p < 0) {
+        insertMembership.run(runId, table.customerIds[i], null, null, null, null, null, null, 0, 0, 0, 1, 0, record.previousKeys[i], revenue, spend, encodeFloat64(featureVector), null);
+      } else {
+        const second = memberships.secondSegment[p];
+        insertMembership.run(
+          runId,
+          table.customerIds[i],
+          memberships.topSegment[p],
+          memberships.confidence[p],
+          memberships.margin[p],
+          second >= 0 ? second : null,
+          second >= 0 ? memberships.posteriors[p * k + second] : null,
+          memberships.logDensity[p],
+          flags.borderline[p],
+          flags.atypical[p],
+          memberships.partial[p],
+          0,
+          record.review[p],
+          record.previousKeys[i],
+          revenue,
+          spend,
+          encodeFloat64(featureVector),
+          encodeFloat64(memberships.posteriors.subarray(p * k, (p + 1) * k)),
+        );
+      }
+      if ((i + 1) % 50_000 === 0) record.onProgress?.(i + 1);
+    }
+    for (const decision of record.carried) {
+      insertDecision.run(runId, decision.customerId, decision.action, decision.segmentKey, decision.note, decision.reviewer, decision.decidedAt, decision.originRunId);
+    }
+    return runId;
+  });
+  return store.immediate();
+}
