@@ -114,9 +114,9 @@ export interface DatabaseInfo {
   visits: number;
   imports: number;
   runs: number;
-  /** Earliest and latest receipt date (YYYY-MM-DD), null when no receipts yet. */
-  firstReceiptDate: string | null;
-  lastReceiptDate: string | null;
+  /** First and last day with receipts or visits (YYYY-MM-DD), null when there are none yet. */
+  firstDataDate: string | null;
+  lastDataDate: string | null;
 }
 
 export const appInfoInput = z.strictObject({});
@@ -272,10 +272,10 @@ export const startRunInput = z
     features: z.array(transformSpec).min(1).optional(),
     /** A fixed k, or 'auto' to sweep kMin..kMax. */
     k: z.union([z.number().int().min(1).max(20), z.literal('auto')]).default('auto'),
-    kMin: z.number().int().min(1).max(20).default(1),
+    kMin: z.number().int().min(1).max(20).default(2),
     kMax: z.number().int().min(1).max(20).default(8),
-    /** One structure, or several to sweep (auto = all four). */
-    covariance: z.array(z.enum(covarianceTypes)).min(1).default([...covarianceTypes]),
+    /** One structure, or 'auto' to sweep all four. */
+    covariance: z.union([z.enum(covarianceTypes), z.literal('auto')]).default('auto'),
     criterion: z.enum(['bic', 'icl']).default('bic'),
     restarts: z.number().int().min(1).max(50).default(5),
     seed: z.number().int().min(0).max(2 ** 31 - 1).default(0),
@@ -730,7 +730,8 @@ export type MenuCommand =
   | { command: 'database-opened'; path: string }
   | { command: 'import-file'; path: string }
   | { command: 'export' }
-  | { command: 'offer-demo' };
+  /** The user accepted the first-start offer; the demo is loading as this task. */
+  | { command: 'demo-started'; taskId: string };
 
 export interface SpendmixShell {
   kind: 'electron' | 'browser';
@@ -757,8 +758,8 @@ export type CallOutcome<T = unknown> = { ok: true; value: T } | { ok: false; err
 export interface SpendmixBridge {
   call(method: ApiMethod, input: unknown): Promise<CallOutcome>;
   onTaskEvent(listener: (event: TaskEvent) => void): () => void;
-  chooseOpenFile(options: { title: string; extensions: string[] }): Promise<string | null>;
-  chooseSavePath(options: { title: string; defaultName: string; extensions: string[] }): Promise<string | null>;
+  chooseOpenFile(options: { title: string; extensions: string[] }): Promise<CallOutcome<string | null>>;
+  chooseSavePath(options: { title: string; defaultName: string; extensions: string[] }): Promise<CallOutcome<string | null>>;
   /** webUtils.getPathForFile: the dropped file's path on disk ('' when it has none). */
   pathForFile(file: File): string;
   onMenuCommand(listener: (command: MenuCommand) => void): () => void;
