@@ -7,3 +7,19 @@ export { parameterCount, bayesianInformationCriterion, akaikeInformationCriterio
 export { modelToJSON, modelFromJSON } from './serialize.js';
 export { fitMixture } from './em.js';
 export { scoreRows, imputeMissing } from './score.js';
+export {
+  bhattacharyyaDistance,
+  bhattacharyyaCostMatrix,
+  componentsOf,
+  costMatrixFromRows,
+  minimumCostAssignment,
+  matchComponents,
+  type GaussianComponent,
+  type ComponentSet,
+  type CostMatrix,
+  type AssignedPair,
+  type Assignment,
+  type ComponentPair,
+  type ComponentMatching,
+} from './matching.js';
+export { contingencyTable, adjustedRandIndex, adjustedRandIndexFromTable, type ContingencyTable } from './agreement.js';
