@@ -1,0 +1,158 @@
+import { existsSync, statSync } from 'node:fs';
+import { dirname, resolve } from 'node:path';
+import { InputError } from '../errors.js';
+import { computedFeatureNames, featureDescriptions } from '../features/definitions.js';
+import { dataRange } from '../features/compute.js';
+import { isoDateFromDay } from '../store/days.js';
+import { tableCounts } from '../store/customers-repo.js';
+import { listImports, savedMapping } from '../store/imports-repo.js';
+import { CURRENT_SCHEMA_VERSION } from '../store/database.js';
+import { inputErrorFromZod, toApiError } from './api-errors.js';
+import {
+  apiSchemas,
+  covarianceTypes,
+  startRunInput,
+  type ApiMethod,
+  type ApiOutput,
+  type ApiParsedInput,
+  type CallOutcome,
+  type DatabaseInfo,
+  type FeatureOption,
+} from './contract.js';
+import { appVersion } from './package-root.js';
+import type { ApiSession } from './session.js';
+
+export type Handler<M extends ApiMethod> = (session: ApiSession, input: ApiParsedInput<M>) => Promise<ApiOutput<M>> | ApiOutput<M>;
+export type HandlerMap = { [M in ApiMethod]: Handler<M> };
+
+/** Features the model uses when the analyst picks none (DESIGN.md §4). */
+const defaultModelFeatures = new Set(['spend_per_month', 'visits_per_month', 'average_basket']);
+
+function databaseInfo(session: ApiSession): DatabaseInfo {
+  const db = session.db();
+  const counts = tableCounts(db);
+  const range = dataRange(db);
+  return {
+    path: session.requirePath(),
+    schemaVersion: CURRENT_SCHEMA_VERSION,
+    customers: counts.customers,
+    receipts: counts.receipts,
+    visits: counts.visits,
+    imports: listImports(db).length,
+    runs: countRuns(session),
+    firstDataDate: range ? isoDateFromDay(range.firstDay) : null,
+    lastDataDate: range ? isoDateFromDay(range.lastDay) : null,
+  };
+}
+
+/** An input file the user named: it must exist and be a file; the message says which. */
+function requireReadableFile(path: string): string {
+  const absolute = resolve(path);
+  if (!existsSync(absolute)) throw new InputError(`File ${absolute} does not exist.`);
+  if (!statSync(absolute).isFile()) throw new InputError(`${absolute} is a folder, not a file.`);
+  return absolute;
+}
+
+/** An output path: its folder must exist (the exporter reports everything else). */
+function requireWritableTarget(path: string): string {
+  const absolute = resolve(path);
+  if (!existsSync(dirname(absolute))) throw new InputError(`Folder ${dirname(absolute)} does not exist; choose an existing folder.`);
+  if (existsSync(absolute) && statSync(absolute).isDirectory()) throw new InputError(`${absolute} is a folder; give a file name.`);
+  return absolute;
+}
+
+/**
+ * The one handler map: each takes validated input (see `callApi`), calls the core and returns the
+ * contract's output. The CLI, Electron IPC and the browser host all go through it.
+ */
+export const handlers = {
+  appInfo: (session) => ({
+    version: appVersion(),
+    shell: session.shell,
+    databasePath: session.dbPath,
+    recentDatabases: session.recentDatabases,
+    cautions: [],
+  }),
+  openDatabase: (session, input) => {
+    session.open(input.path);
+    return databaseInfo(session);
+  },
+  databaseInfo: (session) => databaseInfo(session),
+  listImports: (session) =>
+    listImports(session.db()).map((record) => ({
+      importId: record.importId,
+      fileName: record.fileName,
+      kind: record.kind,
+      rowsRead: record.rowsRead,
+      rowsImported: record.rowsImported,
+      rowsRejected: record.rowsRejected,
+      duplicatesSkipped: record.duplicatesSkipped,
+      amountTotal: record.amountTotalCents === null ? null : record.amountTotalCents / 100,
+      reportPath: record.reportPath,
+      importedAt: record.importedAt,
+      mapping: record.mapping,
+    })),
+  savedMapping: (session, input) => ({ kind: input.kind, mapping: savedMapping(session.db(), input.kind) ?? null }),
+  modelOptions: (session) => {
+    const range = dataRange(session.db());
+    const features: FeatureOption[] = computedFeatureNames.map((name) => {
+      const description = featureDescriptions[name];
+      const inDefaultSet = defaultModelFeatures.has(name);
+      return {
+        name,
+        label: description.label,
+        unit: description.unit,
+        meaning: description.meaning,
+        inDefaultSet,
+        defaultTransform: {
+          feature: name,
+          // log1p suits the skewed, positive money and rate features (common practice).
+          log1p: inDefaultSet,
+          clipLowerPercentile: null,
+          clipUpperPercentile: null,
+          zScore: true,
+        },
+      };
+    });
+    const asOf = range ? isoDateFromDay(range.lastDay) : new Date().toISOString().slice(0, 10);
+    return { features, covarianceTypes: [...covarianceTypes], defaults: startRunInput.parse({ asOf }) };
+  },
+  importFile: (session, input) => session.startTask('importFile', { ...input, path: requireReadableFile(input.path) }),
+  startRun: (session, input) => session.startTask('startRun', input),
+  exportRun: (session, input) => session.startTask('exportRun', { ...input, out: requireWritableTarget(input.out) }),
+  loadDemo: (session, input) => session.startTask('loadDemo', input),
+  cancelTask: (session, input) => session.tasks.cancel(input.taskId),
+  taskStatus: (session, input) => session.tasks.status(input.taskId),
+} satisfies Partial<HandlerMap>;
+
+function countRuns(session: ApiSession): number {
+  void session;
+  return 0;
+}
+
+function isApiMethod(method: string): method is ApiMethod {
+  return Object.prototype.hasOwnProperty.call(apiSchemas, method);
+}
+
+/**
+ * Validates the raw input of one call with its zod schema and runs the handler. Unknown methods
+ * and malformed input become InputErrors naming the method and every offending field.
+ */
+export async function callApi(session: ApiSession, method: string, rawInput: unknown): Promise<unknown> {
+  if (!isApiMethod(method) || !(method in handlers)) {
+    throw new InputError(`Unknown API method "${method}". Known methods: ${Object.keys(handlers).join(', ')}.`);
+  }
+  const parsed = apiSchemas[method].safeParse(rawInput === undefined || rawInput === null ? {} : rawInput);
+  if (!parsed.success) throw inputErrorFromZod(method, parsed.error);
+  const handler = (handlers as Record<string, Handler<ApiMethod>>)[method];
+  return handler(session, parsed.data as never);
+}
+
+/** `callApi` with the error folded into the transport-neutral outcome (IPC, HTTP). */
+export async function callApiOutcome(session: ApiSession, method: string, rawInput: unknown): Promise<CallOutcome> {
+  try {
+    return { ok: true, value: await callApi(session, method, rawInput) };
+  } catch (error) {
+    return { ok: false, error: toApiError(error) };
+  }
+}

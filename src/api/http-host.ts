@@ -1,0 +1,260 @@
+import { randomBytes, timingSafeEqual } from 'node:crypto';
+import { createReadStream, createWriteStream, existsSync, mkdtempSync, rmSync, statSync } from 'node:fs';
+import { createServer, type IncomingMessage, type ServerResponse } from 'node:http';
+import type { AddressInfo } from 'node:net';
+import { tmpdir } from 'node:os';
+import { basename, extname, join, normalize, resolve, sep } from 'node:path';
+import { pipeline } from 'node:stream/promises';
+import { InputError } from '../errors.js';
+import { httpStatusFor, toApiError } from './api-errors.js';
+import { tokenHeader, type CallOutcome, type TaskEvent } from './contract.js';
+import { callApiOutcome } from './handlers.js';
+import type { ApiSession } from './session.js';
+
+/** The only interface the host listens on (DESIGN.md §12). */
+export const HOST_ADDRESS = '127.0.0.1';
+
+/** Largest JSON body a call may send; inputs are small (files go through /api/upload). */
+const MAX_JSON_BYTES = 1024 * 1024;
+/** SSE comment sent this often so idle connections are not dropped by anything in between. */
+const HEARTBEAT_MS = 15_000;
+
+/**
+ * The page's content security policy: everything from this origin only, no plug-ins, no framing,
+ * no inline or remote scripts. Inline styles stay allowed because chart libraries position
+ * tooltips with style attributes.
+ */
+export const contentSecurityPolicy = [
+  "default-src 'self'",
+  "script-src 'self'",
+  "style-src 'self' 'unsafe-inline'",
+  "img-src 'self' data: blob:",
+  "font-src 'self'",
+  "connect-src 'self'",
+  "object-src 'none'",
+  "base-uri 'none'",
+  "frame-ancestors 'none'",
+  "form-action 'none'",
+].join('; ');
+
+const contentTypes: Record<string, string> = {
+  '.html': 'text/html; charset=utf-8',
+  '.js': 'text/javascript; charset=utf-8',
+  '.mjs': 'text/javascript; charset=utf-8',
+  '.css': 'text/css; charset=utf-8',
+  '.json': 'application/json; charset=utf-8',
+  '.svg': 'image/svg+xml',
+  '.png': 'image/png',
+  '.ico': 'image/x-icon',
+  '.woff2': 'font/woff2',
+  '.map': 'application/json; charset=utf-8',
+};
+
+export interface HostOptions {
+  session: ApiSession;
+  /** Folder of the built renderer (index.html and its assets). */
+  rendererDir: string;
+  /** 0 (default) picks a free port. */
+  port?: number;
+  /** Session token; a fresh random one by default. */
+  token?: string;
+}
+
+export interface RunningHost {
+  /** The page's address with the session token, e.g. http://127.0.0.1:4310/?token=… */
+  url: string;
+  port: number;
+  token: string;
+  /** Folder that holds the files uploaded in this session (removed on close). */
+  uploadsDir: string;
+  close(): Promise<void>;
+}
+
+/**
+ * The local browser host: serves the built renderer and the API (POST /api/<method>), task
+ * events as server-sent events (GET /api/events) and file uploads (POST /api/upload), on
+ * 127.0.0.1 only. Every request must name this host in its Host header (127.0.0.1 or localhost
+ * with our port; others get 421 — a defence against DNS rebinding), and every /api/ request must
+ * carry the session token (401 otherwise, whatever the route).
+ */
+export async function startHost(options: HostOptions): Promise<RunningHost> {
+  const rendererDir = resolve(options.rendererDir);
+  if (!existsSync(join(rendererDir, 'index.html'))) {
+    throw new InputError(`The renderer is not built: ${join(rendererDir, 'index.html')} is missing. Run \`npm run build:renderer\` first.`);
+  }
+  const token = options.token ?? randomBytes(24).toString('base64url');
+  const tokenBytes = Buffer.from(token);
+  const uploadsDir = mkdtempSync(join(tmpdir(), 'spendmix-uploads-'));
+  const eventStreams = new Set<ServerResponse>();
+  let port = 0;
+
+  const unsubscribe = options.session.tasks.onEvent((event: TaskEvent) => {
+    const frame = `data: ${JSON.stringify(event)}\n\n`;
+    for (const stream of eventStreams) stream.write(frame);
+  });
+  const heartbeat = setInterval(() => {
+    for (const stream of eventStreams) stream.write(': keep-alive\n\n');
+  }, HEARTBEAT_MS);
+  heartbeat.unref();
+
+  const hasToken = (request: IncomingMessage, url: URL): boolean => {
+    const header = request.headers[tokenHeader];
+    const given = typeof header === 'string' ? header : url.searchParams.get('token') ?? '';
+    const givenBytes = Buffer.from(given);
+    return givenBytes.length === tokenBytes.length && timingSafeEqual(givenBytes, tokenBytes);
+  };
+
+  const server = createServer((request, response) => {
+    void handle(request, response).catch((error: unknown) => {
+      if (!response.headersSent) sendJson(response, 500, { ok: false, error: toApiError(error) });
+      else response.destroy();
+    });
+  });
+
+  async function handle(request: IncomingMessage, response: ServerResponse): Promise<void> {
+    response.setHeader('X-Content-Type-Options', 'nosniff');
+    response.setHeader('Referrer-Policy', 'no-referrer');
+    if (!isOwnHost(request.headers.host, port)) {
+      sendText(response, 421, 'This host only answers requests addressed to 127.0.0.1 or localhost on its own port.');
+      return;
+    }
+    const url = new URL(request.url ?? '/', `http://${HOST_ADDRESS}:${port}`);
+    if (url.pathname === '/api' || url.pathname.startsWith('/api/')) {
+      response.setHeader('Cache-Control', 'no-store');
+      if (!hasToken(request, url)) {
+        sendJson(response, 401, { ok: false, error: { kind: 'input', message: 'Missing or wrong session token.' } });
+        return;
+      }
+      await handleApi(request, response, url);
+      return;
+    }
+    if (request.method !== 'GET' && request.method !== 'HEAD') {
+      sendText(response, 405, 'Only GET and HEAD are served outside /api/.');
+      return;
+    }
+    serveStatic(response, url.pathname, request.method === 'HEAD');
+  }
+
+  async function handleApi(request: IncomingMessage, response: ServerResponse, url: URL): Promise<void> {
+    const route = url.pathname.slice('/api/'.length);
+    if (route === 'events') {
+      if (request.method !== 'GET') return sendText(response, 405, 'Use GET for /api/events.');
+      response.writeHead(200, { 'Content-Type': 'text/event-stream; charset=utf-8', Connection: 'keep-alive' });
+      response.write(': connected\n\n');
+      eventStreams.add(response);
+      request.on('close', () => eventStreams.delete(response));
+      return;
+    }
+    if (request.method !== 'POST') return sendText(response, 405, `Use POST for /api/${route}.`);
+    if (route === 'upload') {
+      const outcome = await receiveUpload(request, url, uploadsDir);
+      sendJson(response, outcome.ok ? 200 : httpStatusFor(outcome.error), outcome);
+      return;
+    }
+    const body = await readJsonBody(request);
+    const outcome = body.ok ? await callApiOutcome(options.session, route, body.value) : body;
+    sendJson(response, outcome.ok ? 200 : httpStatusFor(outcome.error), outcome);
+  }
+
+  function serveStatic(response: ServerResponse, pathname: string, headOnly: boolean): void {
+    let relativePath: string;
+    try {
+      relativePath = decodeURIComponent(pathname);
+    } catch {
+      return sendText(response, 400, 'Malformed path.');
+    }
+    const candidate = normalize(join(rendererDir, relativePath));
+    if (candidate !== rendererDir && !candidate.startsWith(rendererDir + sep)) return sendText(response, 404, 'Not found.');
+    // Paths without a file behind them are the single-page app's own: answer with index.html.
+    const file = existsSync(candidate) && statSync(candidate).isFile() ? candidate : join(rendererDir, 'index.html');
+    const type = contentTypes[extname(file).toLowerCase()] ?? 'application/octet-stream';
+    const headers: Record<string, string | number> = { 'Content-Type': type, 'Content-Length': statSync(file).size };
+    if (type.startsWith('text/html')) {
+      headers['Content-Security-Policy'] = contentSecurityPolicy;
+      headers['Cache-Control'] = 'no-store';
+    }
+    response.writeHead(200, headers);
+    if (headOnly) response.end();
+    else createReadStream(file).pipe(response);
+  }
+
+  await new Promise<void>((resolveListen, rejectListen) => {
+    server.once('error', (error: NodeJS.ErrnoException) => {
+      rejectListen(
+        error.code === 'EADDRINUSE'
+          ? new InputError(`Port ${options.port} on ${HOST_ADDRESS} is in use; choose another with --port.`)
+          : error,
+      );
+    });
+    server.listen({ host: HOST_ADDRESS, port: options.port ?? 0 }, () => resolveListen());
+  });
+  port = (server.address() as AddressInfo).port;
+
+  return {
+    url: `http://${HOST_ADDRESS}:${port}/?token=${token}`,
+    port,
+    token,
+    uploadsDir,
+    close: async () => {
+      clearInterval(heartbeat);
+      unsubscribe();
+      for (const stream of eventStreams) stream.end();
+      eventStreams.clear();
+      await new Promise<void>((done) => {
+        server.close(() => done());
+        server.closeAllConnections();
+      });
+      rmSync(uploadsDir, { recursive: true, force: true });
+    },
+  };
+}
+
+/** Host header check: exactly 127.0.0.1:<port> or localhost:<port> (any letter case for the name). */
+export function isOwnHost(hostHeader: string | undefined, port: number): boolean {
+  if (!hostHeader) return false;
+  const host = hostHeader.toLowerCase();
+  return host === `${HOST_ADDRESS}:${port}` || host === `localhost:${port}`;
+}
+
+async function readJsonBody(request: IncomingMessage): Promise<CallOutcome> {
+  const chunks: Buffer[] = [];
+  let size = 0;
+  for await (const chunk of request as AsyncIterable<Buffer>) {
+    size += chunk.length;
+    if (size > MAX_JSON_BYTES) {
+      return { ok: false, error: { kind: 'input', message: `Request body over ${MAX_JSON_BYTES} bytes; files go through /api/upload.` } };
+    }
+    chunks.push(chunk);
+  }
+  const text = Buffer.concat(chunks).toString('utf8').trim();
+  if (text === '') return { ok: true, value: {} };
+  try {
+    return { ok: true, value: JSON.parse(text) as unknown };
+  } catch (error) {
+    return { ok: false, error: { kind: 'input', message: `The request body is not valid JSON: ${(error as Error).message}` } };
+  }
+}
+
+/** Streams an uploaded file into the session folder under its own (sanitised) name. */
+async function receiveUpload(request: IncomingMessage, url: URL, uploadsDir: string): Promise<CallOutcome<{ path: string }>> {
+  const name = basename(url.searchParams.get('name') ?? '').replace(/[^\w.\- ()]+/g, '_');
+  if (!name || name === '.' || name === '..') {
+    request.resume();
+    return { ok: false, error: { kind: 'input', message: 'Give the file name as ?name=… on /api/upload.' } };
+  }
+  // One sub-folder per upload keeps the user's file name and never overwrites an earlier upload.
+  const target = join(mkdtempSync(join(uploadsDir, 'file-')), name);
+  await pipeline(request, createWriteStream(target));
+  return { ok: true, value: { path: target } };
+}
+
+function sendJson(response: ServerResponse, status: number, body: unknown): void {
+  const text = JSON.stringify(body);
+  response.writeHead(status, { 'Content-Type': 'application/json; charset=utf-8', 'Content-Length': Buffer.byteLength(text) });
+  response.end(text);
+}
+
+function sendText(response: ServerResponse, status: number, text: string): void {
+  response.writeHead(status, { 'Content-Type': 'text/plain; charset=utf-8', 'Content-Length': Buffer.byteLength(text) });
+  response.end(text);
+}
