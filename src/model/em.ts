@@ -59,7 +59,7 @@ class WarningLog {
 /** Runs one E-step over the whole context with the kernel its data needs. */
 function runExpectation(context: FitContext, model: MixtureModel, statistics: SufficientStatistics | null): ExpectationSummary {
   if (context.patterns) return patternExpectationStep(context.values, model, context.patterns, { statistics });
-  return expectationStep(context.values, 0, context.rows, expectationTerms(model), statistics, null);
+  return expectationStep(context.values, context.rows, expectationTerms(model), statistics, null);
 }
 
 /** Total and mean log-likelihood of a model on the context's rows (observed features only where missing). */
@@ -131,19 +131,27 @@ function overallCovariance(values: Float64Array, n: number, d: number): Float64A
   return covariance;
 }
 
+/** An E-step the EM loop asks for: on `model`, adding into `statistics` (null: log-likelihood only). */
+export interface ExpectationRequest {
+  model: MixtureModel;
+  statistics: SufficientStatistics | null;
+}
+
 /**
- * One restart of EM: initial hard assignment → M-step, then E-step/M-step pairs until the mean
- * log-likelihood changes by less than tol (as scikit-learn's GaussianMixture checks it, the
+ * One restart of EM as a generator that yields each E-step it needs and receives its summary,
+ * so one loop serves both the single-thread fit and the fit whose E-steps are split over
+ * worker threads. Initial hard assignment → M-step, then E-step/M-step pairs until the mean
+ * log-likelihood changes by less than tol (checked as scikit-learn's GaussianMixture does: the
  * M-step after the last E-step is kept) or maxIterations; finally the log-likelihood of the
  * returned parameters.
  */
-export function fitRestart(
+export function* restartSteps(
   context: FitContext,
   options: ResolvedFitOptions,
   restart: number,
   signal?: AbortSignal,
   onProgress?: (progress: FitProgress) => void,
-): RestartOutcome {
+): Generator<ExpectationRequest, RestartOutcome, ExpectationSummary> {
   const { rows: n, cols: d } = context;
   const { components: k, covarianceType, tol, maxIterations, regularization } = options;
   const diagonalOnly = context.patterns === null && (covarianceType === 'diag' || covarianceType === 'spherical');
@@ -165,7 +173,7 @@ export function fitRestart(
   for (let iteration = 1; iteration <= maxIterations; iteration++) {
     throwIfAborted(signal);
     const statistics = emptyStatistics(k, d, diagonalOnly, model.means);
-    const summary = runExpectation(context, model, statistics);
+    const summary: ExpectationSummary = yield { model, statistics };
     const meanLogLikelihood = summary.logLikelihood / n;
     outcome = maximizationStep(statistics, covarianceType, regularization);
     noteMaximization(outcome, iteration, warnings);
@@ -183,7 +191,8 @@ export function fitRestart(
     }
     previous = meanLogLikelihood;
   }
-  const final = logLikelihoodOf(context, model);
+  throwIfAborted(signal);
+  const final: ExpectationSummary = yield { model, statistics: null };
   return {
     restart,
     model,
@@ -193,6 +202,20 @@ export function fitRestart(
     iterations,
     warnings: warnings.list(),
   };
+}
+
+/** One restart of EM on this thread. */
+export function fitRestart(
+  context: FitContext,
+  options: ResolvedFitOptions,
+  restart: number,
+  signal?: AbortSignal,
+  onProgress?: (progress: FitProgress) => void,
+): RestartOutcome {
+  const steps = restartSteps(context, options, restart, signal, onProgress);
+  let step = steps.next();
+  while (!step.done) step = steps.next(runExpectation(context, step.value.model, step.value.statistics));
+  return step.value;
 }
 
 /** Best restart (highest log-likelihood, the earliest on ties) turned into a FitResult. */

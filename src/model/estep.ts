@@ -1,3 +1,4 @@
+import { expectationKernel, type StatisticsMode } from './kernel.js';
 import { logDiagonalSum } from './linalg.js';
 import type { MixtureModel } from './types.js';
 
@@ -76,107 +77,125 @@ export function emptyStatistics(k: number, d: number, diagonalOnly: boolean, cen
 }
 
 /**
- * E-step over complete rows [rowStart, rowEnd) of the n × d row-major `values`: per row the
- * component log densities log w_c + log N(x | μ_c, Σ_c) via ‖W_c (x − μ_c)‖², their log-sum-exp
- * (the row's log density), the responsibilities τ_ic, and — in the same pass — the sufficient
- * statistics for the M-step (when `statistics` is given; its centers must equal terms.means) and
- * the posteriors (n × k, when `posteriors` is given, written at row i's own offset).
+ * Rows per chunk: E-step statistics are summed per chunk and chunks are added in order, so the
+ * result has the same bits however the chunks are spread over threads.
  */
-export function expectationStep(
+export const CHUNK_ROWS = 65_536;
+
+/**
+ * Per-chunk partial results of an E-step over chunks [firstChunk, firstChunk + count):
+ * weightSums count × k, firstMoments count × k × d, secondMoments count × k × d × d,
+ * summaries count × 4 (Σ log density, Σ log max posterior, worst row, worst log density).
+ */
+export interface ChunkPartials {
+  firstChunk: number;
+  count: number;
+  weightSums: Float64Array;
+  firstMoments: Float64Array;
+  secondMoments: Float64Array;
+  summaries: Float64Array;
+}
+
+/**
+ * E-step over the complete rows of chunks [firstChunk, lastChunk) of the n × d row-major
+ * `values`: per row the component log densities log w_c + log N(x | μ_c, Σ_c) via
+ * ‖W_c (x − μ_c)‖², their log-sum-exp (the row's log density) and responsibilities τ_ic, and in
+ * the same pass the M-step statistics of each chunk (statistics 'none' skips them) and the
+ * posteriors (n × k at each row's own offset, when given).
+ */
+export function expectationChunks(
   values: Float64Array,
-  rowStart: number,
-  rowEnd: number,
+  rows: number,
   terms: ExpectationTerms,
-  statistics: SufficientStatistics | null,
+  statistics: StatisticsMode,
+  firstChunk: number,
+  lastChunk: number,
   posteriors: Float64Array | null,
-): ExpectationSummary {
-  const { components: k, dimensions: d, triangular, logConstants, means, factors } = terms;
-  const differences = new Float64Array(k * d);
-  const logDensities = new Float64Array(k);
-  const weightSums = statistics?.weightSums;
-  const firstMoments = statistics?.firstMoments;
-  const secondMoments = statistics?.secondMoments;
-  const diagonalOnly = statistics?.diagonalOnly ?? true;
+): ChunkPartials {
+  const { components: k, dimensions: d } = terms;
+  const count = lastChunk - firstChunk;
+  const withStatistics = statistics !== 'none';
+  const partials: ChunkPartials = {
+    firstChunk,
+    count,
+    weightSums: new Float64Array(withStatistics ? count * k : 0),
+    firstMoments: new Float64Array(withStatistics ? count * k * d : 0),
+    secondMoments: new Float64Array(withStatistics ? count * k * d * d : 0),
+    summaries: new Float64Array(count * 4),
+  };
+  const kernel = expectationKernel({ dimensions: d, triangular: terms.triangular, statistics, posteriors: posteriors !== null });
+  for (let index = 0; index < count; index++) {
+    const chunk = firstChunk + index;
+    kernel(
+      values,
+      chunk * CHUNK_ROWS,
+      Math.min((chunk + 1) * CHUNK_ROWS, rows),
+      k,
+      terms.logConstants,
+      terms.means,
+      terms.factors,
+      withStatistics ? partials.weightSums.subarray(index * k, (index + 1) * k) : noArray,
+      withStatistics ? partials.firstMoments.subarray(index * k * d, (index + 1) * k * d) : noArray,
+      withStatistics ? partials.secondMoments.subarray(index * k * d * d, (index + 1) * k * d * d) : noArray,
+      posteriors ?? noArray,
+      partials.summaries.subarray(index * 4, index * 4 + 4),
+    );
+  }
+  return partials;
+}
+
+export function chunkCount(rows: number): number {
+  return Math.ceil(rows / CHUNK_ROWS);
+}
+
+/**
+ * Adds chunk partials (given in any grouping, combined in chunk order) into `statistics` (when
+ * given) and returns the summed summary: the same bits for any split of the chunks.
+ */
+export function combineChunks(parts: readonly ChunkPartials[], statistics: SufficientStatistics | null): ExpectationSummary {
+  const ordered = [...parts].sort((a, b) => a.firstChunk - b.firstChunk);
   let logLikelihood = 0;
   let sumLogMaxPosterior = 0;
   let worstRow = -1;
   let worstLogDensity = Infinity;
-  const dd = d * d;
-  for (let row = rowStart; row < rowEnd; row++) {
-    const base = row * d;
-    let best = -Infinity;
-    for (let c = 0; c < k; c++) {
-      const meanOffset = c * d;
-      let squared = 0;
-      if (triangular) {
-        const factorOffset = c * dd;
-        for (let a = 0; a < d; a++) {
-          const difference = values[base + a] - means[meanOffset + a];
-          differences[meanOffset + a] = difference;
-          let projected = 0;
-          const rowOffset = factorOffset + a * d;
-          for (let b = 0; b < a; b++) projected += factors[rowOffset + b] * differences[meanOffset + b];
-          projected += factors[rowOffset + a] * difference;
-          squared += projected * projected;
-        }
-      } else {
-        for (let a = 0; a < d; a++) {
-          const difference = values[base + a] - means[meanOffset + a];
-          differences[meanOffset + a] = difference;
-          const scaled = difference * factors[meanOffset + a];
-          squared += scaled * scaled;
-        }
+  for (const part of ordered) {
+    for (let index = 0; index < part.count; index++) {
+      if (statistics) {
+        const { components: k, dimensions: d } = statistics;
+        addRange(statistics.weightSums, part.weightSums, index * k);
+        addRange(statistics.firstMoments, part.firstMoments, index * k * d);
+        addRange(statistics.secondMoments, part.secondMoments, index * k * d * d);
       }
-      const logDensity = logConstants[c] - 0.5 * squared;
-      logDensities[c] = logDensity;
-      if (logDensity > best) best = logDensity;
-    }
-    let total = 0;
-    for (let c = 0; c < k; c++) {
-      const scaled = Math.exp(logDensities[c] - best);
-      logDensities[c] = scaled;
-      total += scaled;
-    }
-    const logTotal = Math.log(total);
-    const rowLogDensity = best + logTotal;
-    logLikelihood += rowLogDensity;
-    sumLogMaxPosterior -= logTotal; // the top component's scaled value is exactly 1
-    if (rowLogDensity < worstLogDensity) {
-      worstLogDensity = rowLogDensity;
-      worstRow = row;
-    }
-    const inverseTotal = 1 / total;
-    if (posteriors) for (let c = 0; c < k; c++) posteriors[row * k + c] = logDensities[c] * inverseTotal;
-    if (weightSums && firstMoments && secondMoments) {
-      for (let c = 0; c < k; c++) {
-        const responsibility = logDensities[c] * inverseTotal;
-        if (responsibility === 0) continue;
-        weightSums[c] += responsibility;
-        const meanOffset = c * d;
-        const momentOffset = c * dd;
-        for (let a = 0; a < d; a++) {
-          const weighted = responsibility * differences[meanOffset + a];
-          firstMoments[meanOffset + a] += weighted;
-          if (diagonalOnly) {
-            secondMoments[momentOffset + a * d + a] += weighted * differences[meanOffset + a];
-          } else {
-            const rowOffset = momentOffset + a * d;
-            for (let b = 0; b <= a; b++) secondMoments[rowOffset + b] += weighted * differences[meanOffset + b];
-          }
-        }
+      logLikelihood += part.summaries[index * 4];
+      sumLogMaxPosterior += part.summaries[index * 4 + 1];
+      if (part.summaries[index * 4 + 3] < worstLogDensity) {
+        worstLogDensity = part.summaries[index * 4 + 3];
+        worstRow = part.summaries[index * 4 + 2];
       }
     }
   }
   return { logLikelihood, sumLogMaxPosterior, worstRow, worstLogDensity };
 }
 
-/** Adds `source` into `target` (same shape): used to combine statistics of row blocks in order. */
-export function addStatistics(target: SufficientStatistics, source: SufficientStatistics): void {
-  addInto(target.weightSums, source.weightSums);
-  addInto(target.firstMoments, source.firstMoments);
-  addInto(target.secondMoments, source.secondMoments);
+function addRange(target: Float64Array, source: Float64Array, offset: number): void {
+  for (let i = 0; i < target.length; i++) target[i] += source[offset + i];
 }
 
-function addInto(target: Float64Array, source: Float64Array): void {
-  for (let i = 0; i < target.length; i++) target[i] += source[i];
+/** Statistics mode the fast kernel needs for a structure. */
+export function statisticsModeOf(statistics: SufficientStatistics | null): StatisticsMode {
+  return !statistics ? 'none' : statistics.diagonalOnly ? 'diagonal' : 'full';
 }
+
+/** The E-step over all complete rows on this thread (see expectationChunks). */
+export function expectationStep(
+  values: Float64Array,
+  rows: number,
+  terms: ExpectationTerms,
+  statistics: SufficientStatistics | null,
+  posteriors: Float64Array | null,
+): ExpectationSummary {
+  const partials = expectationChunks(values, rows, terms, statisticsModeOf(statistics), 0, chunkCount(rows), posteriors);
+  return combineChunks([partials], statistics);
+}
+
+const noArray = new Float64Array(0);
