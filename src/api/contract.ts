@@ -775,6 +775,8 @@ export interface SpendmixBridge {
  * header cannot be set (EventSource), the `token` query parameter; without it: 401.
  */
 export const tokenHeader = 'x-spendmix-token';
+/** The header's name as a type, so the renderer (which may import types only) is checked against it. */
+export type TokenHeader = typeof tokenHeader;
 
 /** What `renderer/src/api-client` hands the screens. */
 export interface SpendmixClient {
