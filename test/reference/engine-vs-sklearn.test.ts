@@ -6,8 +6,11 @@
  */
 import { describe, expect, it } from 'vitest';
 import { covarianceTypes, modelFromJSON, scoreRows, type CovarianceType, type FitResult } from '../../src/model/index.js';
+import { adjustedRandIndex } from '../../src/model/agreement.js';
+import { componentsOf, matchComponents } from '../../src/model/matching.js';
 import {
   bicWinner,
+  fitLikeRecorded,
   loadRecordedResults,
   parameterGap,
   readReferenceMatrix,
@@ -153,3 +156,42 @@ for (const datasetName of datasetNames) {
     });
   });
 }
+
+describe('segments of real data, compared as partitions and matched across refits', () => {
+  const adjustedRandCases = (recorded as unknown as { adjustedRand: { name: string; a: number[]; b: number[]; ari: number }[] }).adjustedRand;
+
+  it('partitions iris (full, k = 3) as scikit-learn does, with its ARI against the species', () => {
+    // Recorded: adjusted_rand_score(species, GaussianMixture(full, k=3).predict(iris)) by
+    // record-sklearn.py. Same optimum (checked above) → same most-probable components.
+    const reference = adjustedRandCases.find((example) => example.name === 'iris species vs GaussianMixture full k=3')!;
+    const { data } = readReferenceMatrix(recorded.datasets.iris.file);
+    const ours = ourFits('iris', 'full').get(3)!;
+    const segments = scoreRows(ours.model, data).topSegment;
+    expect(adjustedRandIndex(Int32Array.from(reference.a), segments)).toBeCloseTo(reference.ari, 12);
+    expect(adjustedRandIndex(Int32Array.from(reference.b), segments)).toBe(1);
+    expect(reference.ari).toBeGreaterThan(0.9);
+  });
+
+  it('carries Old Faithful\'s two eruption types across fits on the two halves of the record', () => {
+    // Two "months": rows 1–136 and 137–272. Both halves show the short and the long eruptions
+    // (Azzalini & Bowman 1990), so matching by Bhattacharyya distance must pair short with short.
+    const { data } = readReferenceMatrix(recorded.datasets.faithful.file);
+    const half = data.rows / 2;
+    const part = (start: number) => ({ values: data.values.slice(start * data.cols, (start + half) * data.cols), rows: half, cols: data.cols });
+    const settings = { ...recorded.settings, n_init: 5 };
+    const first = fitLikeRecorded(part(0), 2, 'full', settings);
+    // A different seed, so the second fit's component order is its own.
+    const second = fitLikeRecorded(part(half), 2, 'full', { ...settings, random_state: 11 });
+    const matching = matchComponents(componentsOf(first.model), componentsOf(second.model));
+    expect(matching.pairs).toHaveLength(2);
+    for (const { parent, child, distance } of matching.pairs) {
+      const eruptionsParent = first.model.means[parent * data.cols];
+      const eruptionsChild = second.model.means[child * data.cols];
+      // Short eruptions near 2 minutes, long ones near 4.3 (from memory of the data's histogram).
+      expect(Math.abs(eruptionsParent - eruptionsChild)).toBeLessThan(0.5);
+      expect(distance).toBeLessThan(0.2);
+    }
+    const crossed = matching.distances.values[1] + matching.distances.values[2];
+    expect(crossed).toBeGreaterThan(10 * matching.totalDistance);
+  });
+});
