@@ -1,0 +1,149 @@
+import { mkdtempSync, rmSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { generateDemoChain } from '../../demo-data/generator/index.js';
+import { exportRun } from '../export/export-run.js';
+import { importFile } from '../ingest/import-file.js';
+import { runSegmentation } from '../runs/run.js';
+import type { RunSettings as CoreRunSettings } from '../runs/types.js';
+import { listImports, type ImportKind } from '../store/imports-repo.js';
+import { openDatabase, type Database } from '../store/database.js';
+import { tableCounts } from '../store/customers-repo.js';
+import { throwIfAborted } from '../errors.js';
+import type { ApiParsedInput, ImportResult, LongTaskMethod, TaskResults } from './contract.js';
+import type { LongTaskRequest } from './long-task-request.js';
+import type { ProgressReporter } from './tasks.js';
+
+export interface LongTaskContext {
+  signal: AbortSignal;
+  onProgress: ProgressReporter;
+}
+
+/** The contract's run settings in the runs core's terms. */
+export function toCoreRunSettings(input: ApiParsedInput<'startRun'>): CoreRunSettings {
+  const { features, ...rest } = input;
+  return {
+    ...rest,
+    ...(features
+      ? {
+          features: features.map((spec) => spec.feature),
+          transforms: Object.fromEntries(
+            features.map(({ feature, ...transform }) => [feature, transform]),
+          ),
+        }
+      : {}),
+  };
+}
+
+async function importOne(
+  db: Database,
+  input: ApiParsedInput<'importFile'>,
+  context: LongTaskContext,
+  phasePrefix = '',
+): Promise<ImportResult> {
+  const before = listImports(db).at(-1)?.importId ?? 0;
+  const result = await importFile(db, {
+    path: input.path,
+    kind: input.kind,
+    mapping: input.mapping,
+    options: {
+      dateFormat: input.dateOrder,
+      decimalComma: input.decimalSeparator === ',',
+      maxRejectedShare: input.rejectionThreshold,
+      sheet: input.sheet,
+    },
+    signal: context.signal,
+    onProgress: (progress) =>
+      context.onProgress({
+        phase: `${phasePrefix}${progress.phase}`,
+        done: progress.bytes,
+        total: progress.totalBytes || null,
+        message: `${progress.rows.toLocaleString('en-GB')} rows read`,
+      }),
+  });
+  // Long tasks run one at a time, so a new import row after `before` is this one.
+  const added = listImports(db).filter((record) => record.importId > before && record.kind === input.kind).at(-1);
+  return { importId: result.alreadyImported ? null : (added?.importId ?? null), ...result };
+}
+
+/** The demo files and how each is read: their columns are named as the fields. */
+const demoImports: { kind: ImportKind; file: 'customers' | 'receipts' | 'visits'; mapping: Record<string, string> }[] = [
+  { kind: 'customers', file: 'customers', mapping: { customer_id: 'customer_id', joined: 'joined', marketing_consent: 'marketing_consent', home_store: 'home_store' } },
+  {
+    kind: 'receipts',
+    file: 'receipts',
+    mapping: { receipt_id: 'receipt_id', customer_id: 'customer_id', store_id: 'store_id', date: 'date', category: 'category', amount: 'amount' },
+  },
+  { kind: 'visits', file: 'visits', mapping: { customer_id: 'customer_id', date: 'date', store_id: 'store_id', channel: 'channel' } },
+];
+
+/** Generates the invented demo chain into a scratch folder and loads it through the importer. */
+async function loadDemo(db: Database, dbPath: string, input: ApiParsedInput<'loadDemo'>, context: LongTaskContext): Promise<TaskResults['loadDemo']> {
+  const scratch = mkdtempSync(join(tmpdir(), 'spendmix-demo-'));
+  try {
+    const chain = await generateDemoChain({
+      outDir: scratch,
+      customers: input.customers,
+      seed: input.seed,
+      signal: context.signal,
+      onProgress: (progress) =>
+        context.onProgress({
+          phase: 'generating',
+          done: progress.monthsDone,
+          total: progress.months,
+          message: `Generating ${progress.month} (${progress.receipts.toLocaleString('en-GB')} receipts so far)`,
+        }),
+    });
+    for (const { kind, file, mapping } of demoImports) {
+      throwIfAborted(context.signal);
+      await importOne(
+        db,
+        { path: chain.files[file], kind, mapping, rejectionThreshold: 0.05, dateOrder: 'iso', decimalSeparator: '.', sheet: undefined },
+        context,
+        `importing ${kind}: `,
+      );
+    }
+    const counts = tableCounts(db);
+    return { db: dbPath, customers: counts.customers, receipts: chain.receipts, visits: counts.visits };
+  } finally {
+    rmSync(scratch, { recursive: true, force: true });
+  }
+}
+
+/**
+ * Runs one long task's core work on its own database connection: import, segmentation run,
+ * export or demo. Called on a worker thread (task-worker.ts) by the app, and directly by tests.
+ */
+export async function runLongTask<M extends LongTaskMethod>(request: LongTaskRequest<M>, context: LongTaskContext): Promise<TaskResults[M]> {
+  const db = openDatabase(request.dbPath);
+  try {
+    return (await runOn(db, request as LongTaskRequest, context)) as TaskResults[M];
+  } finally {
+    db.close();
+  }
+}
+
+async function runOn(db: Database, request: LongTaskRequest, context: LongTaskContext): Promise<TaskResults[LongTaskMethod]> {
+  switch (request.method) {
+    case 'importFile':
+      return importOne(db, request.input, context);
+    case 'startRun':
+      return runSegmentation(db, toCoreRunSettings(request.input), {
+        signal: context.signal,
+        onProgress: (progress) =>
+          context.onProgress({ phase: progress.phase, done: progress.done, total: progress.total || null, message: progress.message }),
+      });
+    case 'exportRun': {
+      const { runId, ...options } = request.input;
+      return exportRun(db, {
+        run: runId,
+        ...options,
+        signal: context.signal,
+        onProgress: (progress) =>
+          context.onProgress({ phase: progress.phase, done: progress.done, total: progress.total || null, message: progress.message }),
+      });
+    }
+    case 'loadDemo':
+      return loadDemo(db, request.dbPath, request.input, context);
+  }
+}
