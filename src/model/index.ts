@@ -23,3 +23,4 @@ export {
   type ComponentMatching,
 } from './matching.js';
 export { contingencyTable, adjustedRandIndex, adjustedRandIndexFromTable, type ContingencyTable } from './agreement.js';
+export { fitMixtureParallel, sweepMixtures } from './parallel.js';

@@ -1,0 +1,251 @@
+import { availableParallelism } from 'node:os';
+import type { Worker } from 'node:worker_threads';
+import { CancelledError, InputError, throwIfAborted } from '../errors.js';
+import { chunkCount, combineChunks, statisticsModeOf, type ChunkPartials, type ExpectationSummary } from './estep.js';
+import { prepareFit, restartSteps, summarizeRestarts, type FitContext, type RestartOutcome } from './em.js';
+import { resolveFitOptions, checkCells, checkEnoughRows, checkFeatureVariance, checkShape, type ResolvedFitOptions } from './validate.js';
+import { startModuleWorker } from './worker-host.js';
+import type { WorkerData, WorkerReply, WorkerRequest } from './worker-protocol.js';
+import type { DataMatrix, FitOptions, FitProgress, FitResult, SweepOptions, SweepResult, SweepRow } from './types.js';
+
+type RequestBody = WorkerRequest extends infer R ? (R extends WorkerRequest ? Omit<R, 'id'> : never) : never;
+
+interface Pending {
+  resolve: (value: unknown) => void;
+  reject: (error: Error) => void;
+  onProgress?: (progress: FitProgress) => void;
+}
+
+/**
+ * A fixed set of worker threads sharing one copy of the data (SharedArrayBuffer). `run` sends a
+ * request to the next idle worker (queued when all are busy), `runOn` to a given one. Aborting
+ * terminates every worker at once and rejects what is pending with CancelledError.
+ */
+class MixtureWorkerPool {
+  private readonly idle: number[] = [];
+  private readonly waiting: { body: RequestBody; pending: Pending }[] = [];
+  private readonly pending = new Map<number, Pending & { worker: number }>();
+  private nextId = 1;
+  private failure: Error | null = null;
+  private closing = false;
+
+  private constructor(private readonly workers: Worker[]) {
+    workers.forEach((worker, index) => {
+      this.idle.push(index);
+      worker.on('message', (reply: WorkerReply) => this.receive(index, reply));
+      worker.on('error', (error) => this.fail(error instanceof Error ? error : new Error(String(error))));
+      worker.on('exit', (code) => {
+        if (code !== 0 && !this.closing) this.fail(new Error(`A fitting worker stopped unexpectedly (exit code ${code}).`));
+      });
+    });
+  }
+
+  static open(data: DataMatrix, anyMissing: boolean, threads: number): MixtureWorkerPool {
+    const shared = new Float64Array(new SharedArrayBuffer(data.values.byteLength));
+    shared.set(data.values);
+    const workerData: WorkerData = { values: shared, rows: data.rows, cols: data.cols, anyMissing };
+    const workers = Array.from({ length: threads }, () => startModuleWorker(import.meta.url, 'worker', { workerData }));
+    return new MixtureWorkerPool(workers);
+  }
+
+  get size(): number {
+    return this.workers.length;
+  }
+
+  run<T>(body: RequestBody, onProgress?: (progress: FitProgress) => void): Promise<T> {
+    return new Promise<T>((resolve, reject) => {
+      const pending: Pending = { resolve: resolve as (value: unknown) => void, reject, onProgress };
+      if (this.failure) return reject(this.failure);
+      const worker = this.idle.shift();
+      if (worker === undefined) this.waiting.push({ body, pending });
+      else this.send(worker, body, pending);
+    });
+  }
+
+  runOn<T>(worker: number, body: RequestBody): Promise<T> {
+    return new Promise<T>((resolve, reject) => {
+      if (this.failure) return reject(this.failure);
+      const position = this.idle.indexOf(worker);
+      if (position >= 0) this.idle.splice(position, 1);
+      this.send(worker, body, { resolve: resolve as (value: unknown) => void, reject });
+    });
+  }
+
+  private send(worker: number, body: RequestBody, pending: Pending): void {
+    const id = this.nextId++;
+    this.pending.set(id, { ...pending, worker });
+    this.workers[worker].postMessage({ ...body, id } as WorkerRequest);
+  }
+
+  private receive(worker: number, reply: WorkerReply): void {
+    const pending = this.pending.get(reply.id);
+    if (!pending) return;
+    if (reply.type === 'progress') {
+      pending.onProgress?.(reply.progress);
+      return;
+    }
+    this.pending.delete(reply.id);
+    const next = this.waiting.shift();
+    if (next) this.send(worker, next.body, next.pending);
+    else this.idle.push(worker);
+    if (reply.type === 'done') pending.resolve(reply.result);
+    else pending.reject(reply.name === 'InputError' ? new InputError(reply.message) : new Error(reply.message));
+  }
+
+  fail(error: Error): void {
+    if (this.failure) return;
+    this.failure = error;
+    for (const pending of this.pending.values()) pending.reject(error);
+    for (const { pending } of this.waiting) pending.reject(error);
+    this.pending.clear();
+    this.waiting.length = 0;
+    void this.close();
+  }
+
+  async close(): Promise<void> {
+    this.closing = true;
+    await Promise.all(this.workers.map((worker) => worker.terminate()));
+  }
+}
+
+function threadCount(requested: number | undefined, tasks: number): number {
+  const threads = requested ?? availableParallelism();
+  if (!Number.isInteger(threads) || threads < 1) throw new InputError(`threads must be a whole number ≥ 1; got ${threads}.`);
+  return Math.max(1, Math.min(threads, tasks));
+}
+
+/** Opens a pool for the signal's lifetime: aborting terminates the workers, closing always follows. */
+async function withPool<T>(
+  data: DataMatrix,
+  anyMissing: boolean,
+  threads: number,
+  signal: AbortSignal | undefined,
+  body: (pool: MixtureWorkerPool) => Promise<T>,
+): Promise<T> {
+  throwIfAborted(signal);
+  const pool = MixtureWorkerPool.open(data, anyMissing, threads);
+  const onAbort = () => pool.fail(new CancelledError());
+  signal?.addEventListener('abort', onAbort, { once: true });
+  try {
+    return await body(pool);
+  } finally {
+    signal?.removeEventListener('abort', onAbort);
+    await pool.close();
+  }
+}
+
+/**
+ * Drives one restart with its E-steps split over every worker by row chunks (for a single
+ * restart on big data). Chunk partials are combined in chunk order, so the result has the bits
+ * of the single-thread fit.
+ */
+async function fitRestartSplitRows(
+  pool: MixtureWorkerPool,
+  context: FitContext,
+  options: ResolvedFitOptions,
+  restart: number,
+  signal?: AbortSignal,
+  onProgress?: (progress: FitProgress) => void,
+): Promise<RestartOutcome> {
+  const chunks = chunkCount(context.rows);
+  const share = Math.ceil(chunks / pool.size);
+  const steps = restartSteps(context, options, restart, signal, onProgress);
+  let step = steps.next();
+  while (!step.done) {
+    const { model, statistics } = step.value;
+    const requests: Promise<ChunkPartials>[] = [];
+    for (let worker = 0; worker < pool.size && worker * share < chunks; worker++) {
+      requests.push(
+        pool.runOn<ChunkPartials>(worker, {
+          type: 'expectation',
+          model,
+          statistics: statisticsModeOf(statistics),
+          firstChunk: worker * share,
+          lastChunk: Math.min(chunks, (worker + 1) * share),
+        }),
+      );
+    }
+    const summary: ExpectationSummary = combineChunks(await Promise.all(requests), statistics);
+    step = steps.next(summary);
+  }
+  return step.value;
+}
+
+/**
+ * fitMixture on worker threads: restarts spread over the workers, or — with fewer restarts than
+ * threads and no missing values — each restart's E-steps split over the workers by rows. Same
+ * result, bit for bit, as fitMixture with the same options.
+ */
+export async function fitMixtureParallel(data: DataMatrix, options: FitOptions & { threads?: number }): Promise<FitResult> {
+  const { resolved, context } = prepareFit(data, options);
+  const anyMissing = context.patterns !== null;
+  const splitRows = !anyMissing && resolved.restarts < (options.threads ?? availableParallelism()) && chunkCount(data.rows) > 1;
+  const threads = threadCount(options.threads, splitRows ? chunkCount(data.rows) : resolved.restarts);
+  return withPool(data, anyMissing, threads, options.signal, async (pool) => {
+    const outcomes: RestartOutcome[] = [];
+    if (splitRows) {
+      for (let restart = 0; restart < resolved.restarts; restart++) {
+        outcomes.push(await fitRestartSplitRows(pool, context, resolved, restart, options.signal, options.onProgress));
+      }
+    } else {
+      const runs = Array.from({ length: resolved.restarts }, (_, restart) =>
+        pool.run<RestartOutcome>({ type: 'restart', options: resolved, restart }, options.onProgress),
+      );
+      outcomes.push(...(await Promise.all(runs)));
+    }
+    return summarizeRestarts(outcomes, resolved, data.rows, data.cols);
+  });
+}
+
+/**
+ * Fits every (structure, k) of the grid — each restart a task on the worker threads, the
+ * larger k first so the threads finish together — and returns the table and the winner by the
+ * criterion (lowest; the first in table order on ties). Each cell equals fitMixture's result.
+ */
+export async function sweepMixtures(data: DataMatrix, options: SweepOptions): Promise<SweepResult> {
+  const [minK, maxK] = options.componentRange ?? [];
+  if (!Number.isInteger(minK) || !Number.isInteger(maxK) || minK < 1 || maxK < minK) {
+    throw new InputError(`componentRange must be two whole numbers [min, max] with 1 ≤ min ≤ max; got [${minK}, ${maxK}].`);
+  }
+  const structures = [...new Set(options.covarianceTypes)];
+  if (structures.length === 0) throw new InputError('Choose at least one covariance structure for the sweep.');
+  const criterion = options.criterion ?? 'bic';
+  if (criterion !== 'bic' && criterion !== 'icl') throw new InputError(`Unknown criterion "${String(criterion)}"; use bic or icl.`);
+  const cells: ResolvedFitOptions[] = [];
+  for (const covarianceType of structures) {
+    for (let k = minK; k <= maxK; k++) cells.push(resolveFitOptions({ ...options, components: k, covarianceType }));
+  }
+  checkShape(data);
+  const anyMissing = checkCells(data, cells[0].missing);
+  checkFeatureVariance(data);
+  for (const cell of cells) checkEnoughRows(data.rows, data.cols, cell);
+
+  const tasks = cells.flatMap((cell, index) => Array.from({ length: cell.restarts }, (_, restart) => ({ cell, index, restart })));
+  tasks.sort((a, b) => b.cell.components - a.cell.components || a.index - b.index || a.restart - b.restart);
+  return withPool(data, anyMissing, threadCount(options.threads, tasks.length), options.signal, async (pool) => {
+    const outcomes = cells.map((): RestartOutcome[] => []);
+    await Promise.all(
+      tasks.map(async ({ cell, index, restart }) => {
+        outcomes[index].push(await pool.run<RestartOutcome>({ type: 'restart', options: cell, restart }, options.onProgress));
+      }),
+    );
+    const fits = cells.map((cell, index) => summarizeRestarts(outcomes[index], cell, data.rows, data.cols));
+    const table: SweepRow[] = fits.map((fit, index) => ({
+      k: cells[index].components,
+      covarianceType: cells[index].covarianceType,
+      logLikelihood: fit.logLikelihood,
+      bic: fit.bic,
+      aic: fit.aic,
+      icl: fit.icl,
+      converged: fit.converged,
+      iterations: fit.iterations,
+      parameterCount: fit.parameterCount,
+      warnings: fit.warnings,
+    }));
+    let bestIndex = 0;
+    table.forEach((row, index) => {
+      if (row[criterion] < table[bestIndex][criterion]) bestIndex = index;
+    });
+    return { table, best: fits[bestIndex], bestRow: table[bestIndex], criterion };
+  });
+}
