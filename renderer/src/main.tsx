@@ -1,6 +1,5 @@
-import { createRoot } from 'react-dom/client';
+import { mountApp, mountFailure } from './app/mount.js';
+import { createClient } from './api-client/index.js';
 
-// Entry of the renderer bundle; the screens mount here.
-const container = document.getElementById('root');
-if (!container) throw new Error('The page has no #root element.');
-createRoot(container).render(<main>Spendmix</main>);
+// Entry of the renderer bundle: make the transport-agnostic client, then mount the screens.
+createClient().then(mountApp, (error: unknown) => mountFailure(error instanceof Error ? error.message : String(error)));

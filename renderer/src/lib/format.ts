@@ -80,3 +80,25 @@ export function sampleCaption(shown: number, total: number, format: Formatters, 
   if (shown === total) return `all ${format.count(total)} ${noun}`;
   return `showing ${format.count(shown)} of ${format.count(total)} ${noun} (random sample)`;
 }
+
+/** A feature value in its own unit, as the core labels it ('EUR', 'visits', 'days', 'months', 'share'). */
+export function formatInUnit(value: number, unit: string, format: Formatters): string {
+  switch (unit) {
+    case 'EUR':
+      return Math.abs(value) < 100 ? format.eurosPrecise(value) : format.euros(value);
+    case 'share':
+      return format.percent(value);
+    case 'days':
+      return `${format.count(value)} days`;
+    case 'months':
+      return `${format.decimal(value, 1)} months`;
+    case 'visits':
+      return `${format.decimal(value, 1)} visits`;
+    case 'purchases':
+      return `${format.count(value)} purchases`;
+    case '':
+      return format.decimal(value, 2);
+    default:
+      return `${format.decimal(value, 2)} ${unit}`;
+  }
+}

@@ -1,0 +1,94 @@
+import type { EChartsCoreOption } from 'echarts/core';
+import type { MovementResult } from '../../../src/api/contract.js';
+import type { Formatters } from '../lib/format.js';
+import { ui } from '../lib/palette.js';
+import { baseOption, categoryAxis } from './theme.js';
+
+/** Parent × current counts as a single-hue heatmap (reads the same in any colour vision). */
+export function heatmapOption(movement: MovementResult, format: Formatters): EChartsCoreOption {
+  const data: [number, number, number][] = [];
+  let largest = 0;
+  movement.matrix.forEach((row, i) =>
+    row.forEach((count, j) => {
+      data.push([j, i, count]);
+      largest = Math.max(largest, count);
+    }),
+  );
+  return {
+    ...baseOption,
+    grid: { left: 180, right: 24, top: 24, bottom: 96 },
+    tooltip: {
+      ...(baseOption.tooltip as object),
+      formatter: (params: { value: [number, number, number] }) => {
+        const [j, i, count] = params.value;
+        return `${movement.parentSegments[i].name} → ${movement.currentSegments[j].name}: ${format.count(count)} customers`;
+      },
+    },
+    xAxis: categoryAxis('this run', movement.currentSegments.map((s) => s.name), { nameGap: 72, axisLabel: { interval: 0, rotate: 20, color: ui.inkSoft } }),
+    yAxis: categoryAxis('previous run', movement.parentSegments.map((s) => s.name), { nameGap: 160, inverse: true }),
+    visualMap: { show: false, min: 0, max: Math.max(1, largest), inRange: { color: [ui.rampLow, ui.rampHigh] } },
+    series: [
+      {
+        type: 'heatmap',
+        data,
+        label: {
+          show: true,
+          formatter: (params: { value: [number, number, number] }) => format.count(params.value[2]),
+          color: ui.ink,
+          textBorderColor: ui.panel,
+          textBorderWidth: 2,
+        },
+        itemStyle: { borderColor: ui.panel, borderWidth: 2 },
+      },
+    ],
+  };
+}
+
+/**
+ * Flow from last run's segments to this run's over the customers in both. Entered and left are
+ * totals without a split by segment in the movement result, so the screen states them beside
+ * the chart rather than inventing flows. Node names carry a side prefix because a sankey needs
+ * unique names and matched segments keep theirs.
+ */
+export function flowOption(movement: MovementResult, colourForName: (name: string) => string, format: Formatters): EChartsCoreOption {
+  const before = (name: string) => `before: ${name}`;
+  const after = (name: string) => `now: ${name}`;
+  const nodes: Record<string, unknown>[] = [
+    ...movement.parentSegments.map((s) => ({ name: before(s.name), itemStyle: { color: colourForName(s.name) } })),
+    ...movement.currentSegments.map((s) => ({ name: after(s.name), itemStyle: { color: colourForName(s.name) } })),
+  ];
+  const links: { source: string; target: string; value: number }[] = [];
+  movement.matrix.forEach((row, i) =>
+    row.forEach((count, j) => {
+      if (count > 0) links.push({ source: before(movement.parentSegments[i].name), target: after(movement.currentSegments[j].name), value: count });
+    }),
+  );
+  return {
+    ...baseOption,
+    tooltip: {
+      ...(baseOption.tooltip as object),
+      trigger: 'item',
+      formatter: (params: { dataType: string; data: { source?: string; target?: string; value?: number; name?: string }; value: number }) =>
+        params.dataType === 'edge'
+          ? `${params.data.source} → ${params.data.target}: ${format.count(params.value)} customers`
+          : `${params.data.name}`,
+    },
+    series: [
+      {
+        type: 'sankey',
+        left: 8,
+        right: 140,
+        top: 12,
+        bottom: 12,
+        nodeGap: 10,
+        nodeAlign: 'justify',
+        draggable: false,
+        data: nodes,
+        links,
+        lineStyle: { color: 'source', opacity: 0.35, curveness: 0.5 },
+        label: { color: ui.ink, fontSize: 12 },
+        emphasis: { focus: 'adjacency' },
+      },
+    ],
+  };
+}

@@ -1,0 +1,151 @@
+import type { ApiInput, CovarianceType, FeatureOption, FeatureTransformSpec, ModelOptions, RunSettings } from '../../../src/api/contract.js';
+
+/**
+ * The Model screen's settings form. Text boxes hold strings; this turns them into the startRun
+ * input. Range checks live in the core's schema (one source of truth): its issues come back by
+ * field path and are shown beside the field, so here we only refuse what is not a number.
+ */
+export interface FeatureChoice {
+  feature: string;
+  selected: boolean;
+  /** Applied in this order by the core: log(1 + x), clipping at percentiles, z-score. */
+  log1p: boolean;
+  clip: boolean;
+  clipLower: string;
+  clipUpper: string;
+  zScore: boolean;
+}
+
+export interface ModelForm {
+  asOf: string;
+  windowMonths: string;
+  mode: 'refit' | 'rescore';
+  features: FeatureChoice[];
+  kMode: 'auto' | 'fixed';
+  k: string;
+  kMin: string;
+  kMax: string;
+  /** One structure, or 'auto' to sweep all four. */
+  covariance: CovarianceType | 'auto';
+  criterion: 'bic' | 'icl';
+  restarts: string;
+  seed: string;
+  borderlineConfidence: string;
+  borderlineMargin: string;
+  atypicalPercentile: string;
+  minPurchases: string;
+  minTenureMonths: string;
+}
+
+const text = (value: number | undefined, fallback: number) => String(value ?? fallback);
+
+/** The form filled with the core's defaults (or a previous run's settings) for a given as-of date. */
+export function formFromSettings(options: ModelOptions, settings: RunSettings, asOf: string): ModelForm {
+  const chosen = new Map((settings.features ?? []).map((spec) => [spec.feature, spec]));
+  const features = options.features.map((option: FeatureOption): FeatureChoice => {
+    const spec: Partial<FeatureTransformSpec> = chosen.get(option.name) ?? option.defaultTransform;
+    const lower = spec.clipLowerPercentile ?? null;
+    const upper = spec.clipUpperPercentile ?? null;
+    return {
+      feature: option.name,
+      selected: settings.features ? chosen.has(option.name) : option.inDefaultSet,
+      log1p: Boolean(spec.log1p),
+      clip: lower !== null || upper !== null,
+      clipLower: lower === null ? '1' : String(lower),
+      clipUpper: upper === null ? '99' : String(upper),
+      zScore: spec.zScore ?? true,
+    };
+  });
+  return {
+    asOf,
+    windowMonths: text(settings.windowMonths, 12),
+    mode: settings.mode,
+    features,
+    kMode: settings.k === 'auto' ? 'auto' : 'fixed',
+    k: settings.k === 'auto' ? '4' : String(settings.k),
+    kMin: text(settings.kMin, 1),
+    kMax: text(settings.kMax, 8),
+    covariance: settings.covariance,
+    criterion: settings.criterion,
+    restarts: text(settings.restarts, 5),
+    seed: text(settings.seed, 0),
+    borderlineConfidence: text(settings.borderlineConfidence, 0.7),
+    borderlineMargin: text(settings.borderlineMargin, 0.2),
+    atypicalPercentile: text(settings.atypicalPercentile, 1),
+    minPurchases: text(settings.minPurchases, 2),
+    minTenureMonths: text(settings.minTenureMonths, 2),
+  };
+}
+
+export type FormErrors = Partial<Record<string, string>>;
+
+/** Reads a number typed in any locale's style ("0,7" as well as "0.7"). */
+export function readNumber(raw: string): number | null {
+  const trimmed = raw.trim().replace(',', '.');
+  if (!/^-?\d+(\.\d+)?$/.test(trimmed)) return null;
+  return Number(trimmed);
+}
+
+export function toStartRunInput(form: ModelForm): { input: ApiInput<'startRun'>; errors: FormErrors } {
+  const errors: FormErrors = {};
+  const number = (field: keyof ModelForm & string): number => {
+    const value = readNumber(String(form[field]));
+    if (value === null) {
+      errors[field] = 'enter a number';
+      return Number.NaN;
+    }
+    return value;
+  };
+  if (!/^\d{4}-\d{2}-\d{2}$/.test(form.asOf)) errors.asOf = 'enter a date as YYYY-MM-DD';
+  const features = form.features
+    .filter((choice) => choice.selected)
+    .map((choice) => {
+      let clipLowerPercentile: number | null = null;
+      let clipUpperPercentile: number | null = null;
+      if (choice.clip) {
+        // An empty box leaves that side unclipped; anything else must be a number.
+        clipLowerPercentile = choice.clipLower.trim() === '' ? null : readNumber(choice.clipLower);
+        clipUpperPercentile = choice.clipUpper.trim() === '' ? null : readNumber(choice.clipUpper);
+        if ((choice.clipLower.trim() !== '' && clipLowerPercentile === null) || (choice.clipUpper.trim() !== '' && clipUpperPercentile === null)) {
+          errors[`features.${choice.feature}`] = 'enter the clipping percentiles as numbers';
+        }
+      }
+      return { feature: choice.feature, log1p: choice.log1p, clipLowerPercentile, clipUpperPercentile, zScore: choice.zScore };
+    });
+  if (features.length === 0) errors.features = 'choose at least one feature';
+  const input: ApiInput<'startRun'> = {
+    asOf: form.asOf,
+    windowMonths: number('windowMonths'),
+    mode: form.mode,
+    features,
+    k: form.kMode === 'auto' ? 'auto' : number('k'),
+    kMin: number('kMin'),
+    kMax: number('kMax'),
+    covariance: form.covariance,
+    criterion: form.criterion,
+    restarts: number('restarts'),
+    seed: number('seed'),
+    borderlineConfidence: number('borderlineConfidence'),
+    borderlineMargin: number('borderlineMargin'),
+    atypicalPercentile: number('atypicalPercentile'),
+    minPurchases: number('minPurchases'),
+    minTenureMonths: number('minTenureMonths'),
+  };
+  return { input, errors };
+}
+
+/** Zod issue paths from the core ("features.1.clipPercentile") onto the form's field keys. */
+export function errorsFromIssues(issues: { path: string; message: string }[] | undefined, form: ModelForm): FormErrors {
+  const errors: FormErrors = {};
+  for (const issue of issues ?? []) {
+    const parts = issue.path.split('.');
+    if (parts[0] === 'features' && parts.length > 1) {
+      const selected = form.features.filter((choice) => choice.selected);
+      const choice = selected[Number(parts[1])];
+      errors[choice ? `features.${choice.feature}` : 'features'] = issue.message;
+    } else {
+      errors[parts[0] || 'form'] = issue.message;
+    }
+  }
+  return errors;
+}
