@@ -122,9 +122,10 @@ export async function writeFileAtomically<T>(
     await files.rename(temporary, path);
     return result;
   } catch (error) {
+    // Decide the cause before closing: destroying the stream makes pending writes fail too.
+    const cause = streamError ?? error;
     await closeStream(output);
     await rm(temporary, { force: true });
-    const cause = streamError ?? error;
     if (cause instanceof CancelledError && options.signal?.aborted) throw cause;
     throw asPathError(path, cause);
   }

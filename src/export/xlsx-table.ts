@@ -75,7 +75,6 @@ export class TableSheetWriter<Row> {
 
   /** Closes and commits the current sheet (an empty table still gets its header sheet); returns every sheet name. */
   finish(): string[] {
-    if (this.sheet === null) this.openSheet();
     this.closeTable();
     this.commitSheet();
     return this.sheetNames;
@@ -95,6 +94,7 @@ export class TableSheetWriter<Row> {
 
   /** Fixes the auto-filter to the table written so far; call before any lines after the table. */
   closeTable(): void {
+    if (this.sheet === null) this.openSheet();
     if (this.sheet === null) return;
     this.sheet.autoFilter = {
       from: { row: 1, column: 1 },
