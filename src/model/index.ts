@@ -24,3 +24,4 @@ export {
 } from './matching.js';
 export { contingencyTable, adjustedRandIndex, adjustedRandIndexFromTable, type ContingencyTable } from './agreement.js';
 export { fitMixtureParallel, sweepMixtures } from './parallel.js';
+export { parseNumericCsv, membershipsHeader, membershipsLines, type NumericCsv } from './matrix-csv.js';

@@ -1,8 +1,8 @@
 import { availableParallelism } from 'node:os';
 import type { Worker } from 'node:worker_threads';
 import { CancelledError, InputError, throwIfAborted } from '../errors.js';
-import { chunkCount, combineChunks, statisticsModeOf, type ChunkPartials, type ExpectationSummary } from './estep.js';
-import { prepareFit, restartSteps, summarizeRestarts, type FitContext, type RestartOutcome } from './em.js';
+import { chunkCount, combineChunks, expectationChunks, expectationTerms, statisticsModeOf, type ChunkPartials, type ExpectationSummary } from './estep.js';
+import { fitRestart, prepareFit, prepareFitContext, restartSteps, summarizeRestarts, type FitContext, type RestartOutcome } from './em.js';
 import { resolveFitOptions, checkCells, checkEnoughRows, checkFeatureVariance, checkShape, type ResolvedFitOptions } from './validate.js';
 import { startModuleWorker } from './worker-host.js';
 import type { WorkerData, WorkerReply, WorkerRequest } from './worker-protocol.js';
@@ -16,12 +16,50 @@ interface Pending {
   onProgress?: (progress: FitProgress) => void;
 }
 
+/** Where restarts and E-steps run: worker threads, or this thread for work too small to ship. */
+interface TaskRunner {
+  readonly size: number;
+  run<T>(body: RequestBody, onProgress?: (progress: FitProgress) => void): Promise<T>;
+  runOn<T>(worker: number, body: RequestBody): Promise<T>;
+  fail(error: Error): void;
+  close(): Promise<void>;
+}
+
+/**
+ * Runs the same requests as a worker would, on this thread, one at a time with a pause for the
+ * event loop before each (so an abort in between is seen).
+ */
+class InThreadRunner implements TaskRunner {
+  readonly size = 1;
+  private failure: Error | null = null;
+
+  constructor(private readonly context: FitContext) {}
+
+  async run<T>(body: RequestBody, onProgress?: (progress: FitProgress) => void): Promise<T> {
+    await new Promise((resolve) => setImmediate(resolve));
+    if (this.failure) throw this.failure;
+    if (body.type === 'restart') return fitRestart(this.context, body.options, body.restart, undefined, onProgress) as T;
+    const { model, statistics, firstChunk, lastChunk } = body;
+    return expectationChunks(this.context.values, this.context.rows, expectationTerms(model), statistics, firstChunk, lastChunk, null) as T;
+  }
+
+  runOn<T>(_worker: number, body: RequestBody): Promise<T> {
+    return this.run<T>(body);
+  }
+
+  fail(error: Error): void {
+    this.failure = error;
+  }
+
+  async close(): Promise<void> {}
+}
+
 /**
  * A fixed set of worker threads sharing one copy of the data (SharedArrayBuffer). `run` sends a
  * request to the next idle worker (queued when all are busy), `runOn` to a given one. Aborting
  * terminates every worker at once and rejects what is pending with CancelledError.
  */
-class MixtureWorkerPool {
+class MixtureWorkerPool implements TaskRunner {
   private readonly idle: number[] = [];
   private readonly waiting: { body: RequestBody; pending: Pending }[] = [];
   private readonly pending = new Map<number, Pending & { worker: number }>();
@@ -108,22 +146,30 @@ class MixtureWorkerPool {
   }
 }
 
-function threadCount(requested: number | undefined, tasks: number): number {
+/**
+ * Below this many row-visits per task list (rows × tasks) starting threads costs more than it
+ * saves, so the work runs on this thread (same results either way).
+ */
+const IN_THREAD_WORK = 400_000;
+
+/** Threads to use: the request (0 = this thread), or all cores, and never more than tasks. */
+function threadCount(requested: number | undefined, tasks: number, rows: number): number {
+  if (requested === undefined && rows * tasks < IN_THREAD_WORK) return 0;
   const threads = requested ?? availableParallelism();
-  if (!Number.isInteger(threads) || threads < 1) throw new InputError(`threads must be a whole number ≥ 1; got ${threads}.`);
-  return Math.max(1, Math.min(threads, tasks));
+  if (!Number.isInteger(threads) || threads < 0) throw new InputError(`threads must be a whole number ≥ 0 (0: this thread); got ${threads}.`);
+  return threads === 0 ? 0 : Math.max(1, Math.min(threads, tasks));
 }
 
-/** Opens a pool for the signal's lifetime: aborting terminates the workers, closing always follows. */
+/** Opens a runner for the signal's lifetime: aborting terminates the workers, closing always follows. */
 async function withPool<T>(
+  context: FitContext,
   data: DataMatrix,
-  anyMissing: boolean,
   threads: number,
   signal: AbortSignal | undefined,
-  body: (pool: MixtureWorkerPool) => Promise<T>,
+  body: (pool: TaskRunner) => Promise<T>,
 ): Promise<T> {
   throwIfAborted(signal);
-  const pool = MixtureWorkerPool.open(data, anyMissing, threads);
+  const pool: TaskRunner = threads === 0 ? new InThreadRunner(context) : MixtureWorkerPool.open(data, context.patterns !== null, threads);
   const onAbort = () => pool.fail(new CancelledError());
   signal?.addEventListener('abort', onAbort, { once: true });
   try {
@@ -140,7 +186,7 @@ async function withPool<T>(
  * of the single-thread fit.
  */
 async function fitRestartSplitRows(
-  pool: MixtureWorkerPool,
+  pool: TaskRunner,
   context: FitContext,
   options: ResolvedFitOptions,
   restart: number,
@@ -180,8 +226,8 @@ export async function fitMixtureParallel(data: DataMatrix, options: FitOptions &
   const { resolved, context } = prepareFit(data, options);
   const anyMissing = context.patterns !== null;
   const splitRows = !anyMissing && resolved.restarts < (options.threads ?? availableParallelism()) && chunkCount(data.rows) > 1;
-  const threads = threadCount(options.threads, splitRows ? chunkCount(data.rows) : resolved.restarts);
-  return withPool(data, anyMissing, threads, options.signal, async (pool) => {
+  const threads = threadCount(options.threads, splitRows ? chunkCount(data.rows) : resolved.restarts, data.rows);
+  return withPool(context, data, threads, options.signal, async (pool) => {
     const outcomes: RestartOutcome[] = [];
     if (splitRows) {
       for (let restart = 0; restart < resolved.restarts; restart++) {
@@ -219,10 +265,11 @@ export async function sweepMixtures(data: DataMatrix, options: SweepOptions): Pr
   const anyMissing = checkCells(data, cells[0].missing);
   checkFeatureVariance(data);
   for (const cell of cells) checkEnoughRows(data.rows, data.cols, cell);
+  const context = prepareFitContext(data, anyMissing);
 
   const tasks = cells.flatMap((cell, index) => Array.from({ length: cell.restarts }, (_, restart) => ({ cell, index, restart })));
   tasks.sort((a, b) => b.cell.components - a.cell.components || a.index - b.index || a.restart - b.restart);
-  return withPool(data, anyMissing, threadCount(options.threads, tasks.length), options.signal, async (pool) => {
+  return withPool(context, data, threadCount(options.threads, tasks.length, data.rows), options.signal, async (pool) => {
     const outcomes = cells.map((): RestartOutcome[] => []);
     await Promise.all(
       tasks.map(async ({ cell, index, restart }) => {

@@ -119,7 +119,7 @@ export interface SweepOptions extends Omit<FitOptions, 'components' | 'covarianc
   covarianceTypes: readonly CovarianceType[];
   /** Criterion for the winner (default 'bic'). */
   criterion?: SelectionCriterion;
-  /** Worker threads to use (default os.availableParallelism()). */
+  /** Worker threads (default os.availableParallelism(), or this thread when the work is small; 0 = this thread). */
   threads?: number;
 }
 
@@ -181,6 +181,7 @@ export interface MixtureModelJSON {
 
 /** Signatures of the engine's entry points (implemented in this folder, re-exported by index.ts). */
 export type FitMixtureFunction = (data: DataMatrix, options: FitOptions) => FitResult;
+/** `threads` as in SweepOptions. */
 export type FitMixtureParallelFunction = (data: DataMatrix, options: FitOptions & { threads?: number }) => Promise<FitResult>;
 export type SweepMixturesFunction = (data: DataMatrix, options: SweepOptions) => Promise<SweepResult>;
 export type ScoreRowsFunction = (model: MixtureModel, data: DataMatrix) => Memberships;
