@@ -385,6 +385,9 @@ export interface SweepRow {
   parameterCount: number;
   converged: boolean;
   iterations: number;
+  /** Warnings of that fit (e.g. a covariance that needed regularisation). */
+  warnings: string[];
+  /** The model the run kept. */
   chosen: boolean;
 }
 
@@ -408,13 +411,19 @@ export const featureDistributionInput = z.strictObject({
   feature: nonEmpty('feature'),
   bins: z.number().int().min(2).max(200).default(40),
 });
-/** A histogram per segment over all placed customers, computed in the core. */
+/**
+ * A histogram per segment of one feature (original units), computed in the core over a seeded
+ * sample of at most 20,000 placed customers; bins span the 1st to 99th percentile.
+ */
 export interface FeatureDistribution {
   runId: number;
   feature: string;
   unit: string;
   edges: number[];
   counts: { segment: number; counts: number[] }[];
+  /** Customers the histogram counts, and all placed customers of the run (say so when fewer). */
+  customersUsed: number;
+  totalCustomers: number;
 }
 
 export const membershipSortKeys = ['spend', 'revenue', 'confidence', 'margin', 'logDensity', 'customerId'] as const;
@@ -485,6 +494,7 @@ export const borderlineInput = z.strictObject({
   runId,
   offset: pageOffset,
   limit: pageLimit,
+  /** Thresholds to list by (the Certainty sliders); absent = the run's own borderline flag. */
   borderlineConfidence: probability.optional(),
   borderlineMargin: probability.optional(),
 });

@@ -7,6 +7,28 @@ import { isoDateFromDay } from '../store/days.js';
 import { tableCounts } from '../store/customers-repo.js';
 import { listImports, savedMapping } from '../store/imports-repo.js';
 import { CURRENT_SCHEMA_VERSION } from '../store/database.js';
+import { cautions } from '../export/cautions.js';
+import {
+  decideReview,
+  getBorderline,
+  getMemberships,
+  getReviewQueue,
+  getRunSummary,
+  getSweepTable,
+  listRuns,
+  renameSegment,
+} from '../runs/repository.js';
+import { importReportPage, previewFile } from './preview.js';
+import {
+  certaintyView,
+  featureDistributionView,
+  movementView,
+  reviewItemView,
+  runDetailView,
+  segmentProfileView,
+  segmentSampleView,
+  segmentsView,
+} from './run-views.js';
 import { inputErrorFromZod, toApiError } from './api-errors.js';
 import {
   apiSchemas,
@@ -39,7 +61,7 @@ function databaseInfo(session: ApiSession): DatabaseInfo {
     receipts: counts.receipts,
     visits: counts.visits,
     imports: listImports(db).length,
-    runs: countRuns(session),
+    runs: listRuns(db).length,
     firstDataDate: range ? isoDateFromDay(range.firstDay) : null,
     lastDataDate: range ? isoDateFromDay(range.lastDay) : null,
   };
@@ -71,7 +93,7 @@ export const handlers = {
     shell: session.shell,
     databasePath: session.dbPath,
     recentDatabases: session.recentDatabases,
-    cautions: [],
+    cautions: [...cautions],
   }),
   openDatabase: (session, input) => {
     session.open(input.path);
@@ -117,18 +139,90 @@ export const handlers = {
     const asOf = range ? isoDateFromDay(range.lastDay) : new Date().toISOString().slice(0, 10);
     return { features, covarianceTypes: [...covarianceTypes], defaults: startRunInput.parse({ asOf }) };
   },
+  previewFile: (session, input) => previewFile(session.db(), { ...input, path: requireReadableFile(input.path) }),
+  importReport: (session, input) => {
+    const record = listImports(session.db()).find((entry) => entry.importId === input.importId);
+    if (!record) throw new InputError(`There is no import ${input.importId} in this database.`);
+    return importReportPage(record.reportPath, input);
+  },
+  listRuns: (session) =>
+    listRuns(session.db()).map(({ runId, parentRunId, asOf, mode, k, covariance, customers, createdAt }) => ({
+      runId,
+      parentRunId,
+      asOf,
+      mode,
+      k,
+      covariance,
+      customers,
+      createdAt,
+    })),
+  runSummary: (session, input) => {
+    getRunSummary(session.db(), input.runId);
+    return runDetailView(session.db(), input.runId);
+  },
+  segments: (session, input) => segmentsView(session.db(), input.runId),
+  sweepTable: (session, input) => {
+    const chosen = getRunSummary(session.db(), input.runId);
+    return getSweepTable(session.db(), input.runId).map((row) => ({
+      k: row.k,
+      covariance: row.covarianceType,
+      logLikelihood: row.logLikelihood,
+      bic: row.bic,
+      aic: row.aic,
+      icl: row.icl,
+      parameterCount: row.parameterCount,
+      converged: row.converged,
+      iterations: row.iterations,
+      warnings: row.warnings,
+      chosen: row.k === chosen.k && row.covarianceType === chosen.covariance,
+    }));
+  },
+  segmentSample: (session, input) => segmentSampleView(session.db(), input),
+  featureDistribution: (session, input) => featureDistributionView(session.db(), input),
+  membershipsPage: (session, input) => {
+    const page = getMemberships(session.db(), input.runId, {
+      offset: input.offset,
+      limit: input.limit,
+      sort: input.sortBy,
+      descending: input.descending,
+      segment: input.segment,
+      flag: input.flag,
+    });
+    return { runId: input.runId, total: page.total, offset: page.offset, rows: page.items };
+  },
+  certainty: (session, input) => certaintyView(session.db(), input),
+  borderline: (session, input) => {
+    const page = getBorderline(session.db(), input.runId, {
+      offset: input.offset,
+      limit: input.limit,
+      confidenceBelow: input.borderlineConfidence,
+      marginBelow: input.borderlineMargin,
+    });
+    return { runId: input.runId, total: page.total, offset: page.offset, rows: page.items };
+  },
+  reviewQueue: (session, input) => {
+    const db = session.db();
+    const page = getReviewQueue(db, input.runId, { offset: input.offset, limit: input.limit, status: input.status });
+    const done = input.status === 'done' ? page.total : getReviewQueue(db, input.runId, { offset: 0, limit: 1, status: 'done' }).total;
+    return { runId: input.runId, total: page.total, done, offset: page.offset, rows: page.items };
+  },
+  decideReview: (session, input) => {
+    const db = session.db();
+    decideReview(db, input);
+    return reviewItemView(db, input.runId, input.customerId);
+  },
+  renameSegment: (session, input) => {
+    renameSegment(session.db(), input.runId, input.segment, input.name);
+    return segmentProfileView(session.db(), input.runId, input.segment);
+  },
+  movement: (session, input) => movementView(session.db(), input.runId),
   importFile: (session, input) => session.startTask('importFile', { ...input, path: requireReadableFile(input.path) }),
   startRun: (session, input) => session.startTask('startRun', input),
   exportRun: (session, input) => session.startTask('exportRun', { ...input, out: requireWritableTarget(input.out) }),
   loadDemo: (session, input) => session.startTask('loadDemo', input),
   cancelTask: (session, input) => session.tasks.cancel(input.taskId),
   taskStatus: (session, input) => session.tasks.status(input.taskId),
-} satisfies Partial<HandlerMap>;
-
-function countRuns(session: ApiSession): number {
-  void session;
-  return 0;
-}
+} satisfies HandlerMap;
 
 function isApiMethod(method: string): method is ApiMethod {
   return Object.prototype.hasOwnProperty.call(apiSchemas, method);
@@ -139,12 +233,12 @@ function isApiMethod(method: string): method is ApiMethod {
  * and malformed input become InputErrors naming the method and every offending field.
  */
 export async function callApi(session: ApiSession, method: string, rawInput: unknown): Promise<unknown> {
-  if (!isApiMethod(method) || !(method in handlers)) {
+  if (!isApiMethod(method)) {
     throw new InputError(`Unknown API method "${method}". Known methods: ${Object.keys(handlers).join(', ')}.`);
   }
   const parsed = apiSchemas[method].safeParse(rawInput === undefined || rawInput === null ? {} : rawInput);
   if (!parsed.success) throw inputErrorFromZod(method, parsed.error);
-  const handler = (handlers as Record<string, Handler<ApiMethod>>)[method];
+  const handler = (handlers as unknown as Record<string, Handler<ApiMethod>>)[method];
   return handler(session, parsed.data as never);
 }
 

@@ -378,15 +378,28 @@ function whyFor(row: MembershipRow, models: ModelContext, context: RunContext): 
   return explainBorderline(models.model, x, row.segment_index, row.second_index, models.features, names);
 }
 
-export function getBorderline(db: Database, runId: number, page?: { offset?: number; limit?: number }): Page<BorderlineItem> {
+export function getBorderline(
+  db: Database,
+  runId: number,
+  page?: { offset?: number; limit?: number; confidenceBelow?: number; marginBelow?: number },
+): Page<BorderlineItem> {
   const context = runContext(db, runId);
   const models = modelContext(context.row);
   const { offset, limit } = pageBounds(page);
-  const where = 'm.run_id = ? AND m.borderline = 1';
-  const total = db.prepare(`SELECT count(*) FROM run_memberships m WHERE ${where}`).pluck().get(runId) as number;
+  // Thresholds other than the run's own (the Certainty screen's sliders) select by the stored
+  // confidence and margin instead of the stored flag; both give the same set at the run's settings.
+  const custom = page?.confidenceBelow !== undefined || page?.marginBelow !== undefined;
+  const settings = custom ? (JSON.parse(context.row.settings) as ResolvedRunSettings) : null;
+  const where = custom
+    ? 'm.run_id = ? AND m.segment_index IS NOT NULL AND (m.confidence < ? OR m.margin < ?)'
+    : 'm.run_id = ? AND m.borderline = 1';
+  const params: number[] = custom
+    ? [runId, page?.confidenceBelow ?? settings!.borderlineConfidence, page?.marginBelow ?? settings!.borderlineMargin]
+    : [runId];
+  const total = db.prepare(`SELECT count(*) FROM run_memberships m WHERE ${where}`).pluck().get(...params) as number;
   const rows = db
     .prepare(`SELECT ${membershipColumns} ${membershipFrom} WHERE ${where} ORDER BY m.revenue_cents DESC, m.customer_id LIMIT ? OFFSET ?`)
-    .all(runId, limit, offset) as MembershipRow[];
+    .all(...params, limit, offset) as MembershipRow[];
   return {
     total,
     offset,

@@ -1,0 +1,339 @@
+import type { Database } from 'better-sqlite3';
+import { featureDescriptions, isComputedFeature } from '../features/definitions.js';
+import { transformValue, type FeatureTransform } from '../features/transforms.js';
+import { modelFromJSON } from '../model/serialize.js';
+import type { MixtureModel } from '../model/types.js';
+import { decodeFloat64 } from '../runs/blobs.js';
+import { computeFlags } from '../runs/flags.js';
+import { getMovement, getReviewQueue, getRunDetail, listSegments } from '../runs/repository.js';
+import type { RunDetail as CoreRunDetail, SegmentProfile as CoreSegmentProfile } from '../runs/types.js';
+import { InputError } from '../errors.js';
+import type {
+  ApiParsedInput,
+  CertaintySummary,
+  FeatureDistribution,
+  FeatureTransformSpec,
+  MovementResult,
+  ReviewItem,
+  RunDetail,
+  RunSettings,
+  SegmentProfile,
+  SegmentSample,
+  SegmentsResult,
+} from './contract.js';
+
+/**
+ * Views of a stored run in the contract's shapes: the runs core's read functions, mapped, plus
+ * the aggregates the screens need that are computed here over the run's stored memberships
+ * (confidence histogram and live threshold counts, a seeded sample for scatter plots, feature
+ * distributions per segment) so that no screen ever aggregates customers itself.
+ */
+
+/** Unit of any feature, computed or imported (imported ones have none we know of). */
+function unitOf(feature: string): string {
+  return isComputedFeature(feature) ? featureDescriptions[feature].unit : '';
+}
+
+function transformSpec(feature: string, transform: FeatureTransform): FeatureTransformSpec {
+  return {
+    feature,
+    log1p: transform.log1p,
+    clipLowerPercentile: transform.clipLowerPercentile,
+    clipUpperPercentile: transform.clipUpperPercentile,
+    zScore: transform.zScore,
+  };
+}
+
+/** A run's stored model, features and fitted transforms (the model column of the runs table). */
+interface RunModel {
+  model: MixtureModel;
+  features: string[];
+  storedFeatures: string[];
+  transforms: Record<string, FeatureTransform>;
+}
+
+function runModel(db: Database, runId: number, detail: CoreRunDetail = getRunDetail(db, runId)): RunModel {
+  const modelJson = db.prepare('SELECT model FROM runs WHERE run_id = ?').pluck().get(runId) as string;
+  return { model: modelFromJSON(JSON.parse(modelJson)), features: detail.features, storedFeatures: detail.storedFeatures, transforms: detail.transforms };
+}
+
+export function runDetailView(db: Database, runId: number): RunDetail {
+  const detail = getRunDetail(db, runId);
+  const { settings } = detail;
+  const contractSettings: RunSettings = {
+    asOf: settings.asOf,
+    windowMonths: settings.windowMonths,
+    mode: settings.mode,
+    parentRunId: settings.parentRunId,
+    features: detail.features.map((feature) => transformSpec(feature, detail.transforms[feature])),
+    k: settings.k,
+    kMin: settings.kMin,
+    kMax: settings.kMax,
+    covariance: settings.covariance,
+    criterion: settings.criterion,
+    restarts: settings.restarts,
+    seed: settings.seed,
+    borderlineConfidence: settings.borderlineConfidence,
+    borderlineMargin: settings.borderlineMargin,
+    atypicalPercentile: settings.atypicalPercentile,
+    minPurchases: settings.minPurchases,
+    minTenureMonths: settings.minTenureMonths,
+  };
+  return {
+    ...detail.summary,
+    asOf: settings.asOf,
+    windowMonths: settings.windowMonths,
+    mode: settings.mode,
+    createdAt: detail.createdAt,
+    settings: contractSettings,
+    features: contractSettings.features!,
+    storedFeatures: detail.storedFeatures,
+    logLikelihood: detail.logLikelihood,
+    icl: detail.icl,
+    criterion: detail.criterion,
+    retiredSegments: detail.retired.map((segment) => segment.name),
+    warnings: detail.warnings,
+  };
+}
+
+function segmentView(segment: CoreSegmentProfile, model: MixtureModel): SegmentProfile {
+  const d = model.dimensions;
+  const c = segment.index;
+  return {
+    segment: c,
+    key: segment.key,
+    name: segment.name,
+    spendRank: segment.spendRank,
+    customers: segment.customers,
+    share: segment.share,
+    revenue: segment.revenue,
+    revenueShare: segment.revenueShare,
+    profile: Object.entries(segment.features)
+      .filter((entry): entry is [string, NonNullable<(typeof entry)[1]>] => entry[1] !== null)
+      .map(([feature, quartiles]) => ({ feature, unit: unitOf(feature), ...quartiles })),
+    weight: model.weights[c],
+    mean: Array.from(model.means.subarray(c * d, (c + 1) * d)),
+    covariance: Array.from(model.covariances.subarray(c * d * d, (c + 1) * d * d)),
+  };
+}
+
+export function segmentsView(db: Database, runId: number): SegmentsResult {
+  const { model, features } = runModel(db, runId);
+  return { runId, features, segments: listSegments(db, runId).map((segment) => segmentView(segment, model)) };
+}
+
+export function segmentProfileView(db: Database, runId: number, segmentIndex: number): SegmentProfile {
+  const found = segmentsView(db, runId).segments.find((segment) => segment.segment === segmentIndex);
+  if (!found) throw new InputError(`Run ${runId} has no segment ${segmentIndex}.`);
+  return found;
+}
+
+export function movementView(db: Database, runId: number): MovementResult {
+  const movement = getMovement(db, runId);
+  const current = listSegments(db, runId).map((segment) => ({ segment: segment.index, name: segment.name }));
+  if (!movement) {
+    return {
+      runId,
+      parentRunId: null,
+      parentSegments: [],
+      currentSegments: current,
+      matrix: [],
+      common: 0,
+      entered: 0,
+      left: 0,
+      stability: null,
+      warnings: [],
+      retired: [],
+      added: [],
+    };
+  }
+  return {
+    runId,
+    parentRunId: movement.parentRunId,
+    parentSegments: movement.parentSegments.map((segment) => ({ segment: segment.index, name: segment.name })),
+    currentSegments: movement.currentSegments.map((segment) => ({ segment: segment.index, name: segment.name })),
+    matrix: movement.counts,
+    common: movement.common,
+    entered: movement.entered,
+    left: movement.left,
+    stability: movement.adjustedRandIndex,
+    warnings: movement.warnings.map(({ segmentName, kind, feature, amount, message }) => ({ segmentName, kind, feature, amount, message })),
+    retired: movement.retired.map((segment) => segment.name),
+    added: movement.added.map((segment) => segment.name),
+  };
+}
+
+/**
+ * One customer's review item, read from the queue at the customer's own position in its order
+ * (spend at stake descending, then id), so it costs one indexed count and one one-row page.
+ */
+export function reviewItemView(db: Database, runId: number, customerId: string): ReviewItem {
+  const row = db
+    .prepare('SELECT revenue_cents FROM run_memberships WHERE run_id = ? AND customer_id = ? AND review > 0')
+    .get(runId, customerId) as { revenue_cents: number } | undefined;
+  if (!row) throw new InputError(`Customer "${customerId}" is not in the review queue of run ${runId}.`);
+  const position = db
+    .prepare(
+      `SELECT count(*) FROM run_memberships WHERE run_id = ? AND review > 0
+         AND (revenue_cents > ? OR (revenue_cents = ? AND customer_id < ?))`,
+    )
+    .pluck()
+    .get(runId, row.revenue_cents, row.revenue_cents, customerId) as number;
+  const item = getReviewQueue(db, runId, { offset: position, limit: 1, status: 'all' }).items[0];
+  if (!item || item.customerId !== customerId) throw new Error(`The review queue of run ${runId} lost customer ${customerId}.`);
+  return item;
+}
+
+// ---------------------------------------------------------------------------------------------
+// Aggregates over a run's memberships
+
+interface CertaintyColumns {
+  confidence: Float64Array;
+  margin: Float64Array;
+  logDensity: Float64Array;
+}
+
+/** Certainty columns of the last run asked for: slider moves re-count without re-reading. */
+let cachedColumns: { db: Database; runId: number; columns: CertaintyColumns } | null = null;
+
+function certaintyColumns(db: Database, runId: number): CertaintyColumns {
+  if (cachedColumns && cachedColumns.db === db && cachedColumns.runId === runId) return cachedColumns.columns;
+  const n = db.prepare('SELECT count(*) FROM run_memberships WHERE run_id = ? AND segment_index IS NOT NULL').pluck().get(runId) as number;
+  const columns = { confidence: new Float64Array(n), margin: new Float64Array(n), logDensity: new Float64Array(n) };
+  let i = 0;
+  const rows = db
+    .prepare('SELECT confidence, margin, log_density FROM run_memberships WHERE run_id = ? AND segment_index IS NOT NULL')
+    .raw()
+    .iterate(runId) as Iterable<[number, number, number]>;
+  for (const [confidence, margin, logDensity] of rows) {
+    columns.confidence[i] = confidence;
+    columns.margin[i] = margin;
+    columns.logDensity[i] = logDensity;
+    i += 1;
+  }
+  cachedColumns = { db, runId, columns };
+  return columns;
+}
+
+/** Counts under the sliders' thresholds, by the runs core's own flag rule (computeFlags). */
+export function certaintyView(db: Database, input: ApiParsedInput<'certainty'>): CertaintySummary {
+  getRunDetail(db, input.runId);
+  const columns = certaintyColumns(db, input.runId);
+  const flags = computeFlags(columns.confidence, columns.margin, columns.logDensity, {
+    borderlineConfidence: input.borderlineConfidence,
+    borderlineMargin: input.borderlineMargin,
+    atypicalPercentile: input.atypicalPercentile,
+  });
+  const histogram = new Array<number>(input.bins).fill(0);
+  let borderline = 0;
+  let atypical = 0;
+  for (let i = 0; i < columns.confidence.length; i++) {
+    histogram[Math.min(input.bins - 1, Math.floor(columns.confidence[i] * input.bins))] += 1;
+    borderline += flags.borderline[i];
+    atypical += flags.atypical[i];
+  }
+  return {
+    runId: input.runId,
+    customers: columns.confidence.length,
+    confidenceHistogram: histogram.map((customers, b) => ({ from: b / input.bins, to: (b + 1) / input.bins, customers })),
+    borderline,
+    atypical,
+    atypicalLogDensityBelow: flags.atypicalLogDensityBelow,
+  };
+}
+
+/**
+ * A seeded systematic sample of the run's placed customers, in id order (ids carry no order of
+ * spend, so every segment is represented in proportion). SQLite numbers the rows and keeps every
+ * step-th; only the sampled rows' feature BLOBs are read, so the cost barely grows with the run.
+ */
+export function segmentSampleView(db: Database, input: ApiParsedInput<'segmentSample'>): SegmentSample {
+  const { runId, limit, seed } = input;
+  const model = runModel(db, runId);
+  const total = db.prepare('SELECT count(*) FROM run_memberships WHERE run_id = ? AND segment_index IS NOT NULL').pluck().get(runId) as number;
+  const step = Math.max(1, Math.floor(total / limit));
+  const offset = seed % step;
+  const rows = db
+    .prepare(
+      `SELECT m.customer_id, m.segment_index, m.features FROM (
+         SELECT customer_id, row_number() OVER (ORDER BY customer_id) - 1 AS position
+         FROM run_memberships WHERE run_id = @runId AND segment_index IS NOT NULL
+       ) AS numbered
+       JOIN run_memberships m ON m.run_id = @runId AND m.customer_id = numbered.customer_id
+       WHERE numbered.position % @step = @offset
+       ORDER BY numbered.position LIMIT @limit`,
+    )
+    .raw()
+    .all({ runId, step, offset, limit }) as [string, number, Buffer][];
+  const featureCount = model.features.length;
+  return {
+    runId,
+    totalCustomers: total,
+    features: model.features,
+    points: rows.map(([customerId, segment, blob]) => {
+      const stored = decodeFloat64(blob);
+      const original = Array.from(stored.subarray(0, featureCount));
+      return {
+        customerId,
+        segment,
+        model: model.features.map((feature, j) => transformValue(feature, model.transforms[feature], original[j])),
+        original,
+      };
+    }),
+  };
+}
+
+/** Customers a distribution is computed over at most (a seeded sample beyond that). */
+const DISTRIBUTION_SAMPLE = 20_000;
+
+/**
+ * A histogram per segment of one stored feature, in original units, over a seeded sample of up
+ * to 20,000 placed customers (the result says how many). Bins span the 1st to 99th percentile so
+ * a few extreme customers do not squash the rest into one bar.
+ */
+export function featureDistributionView(db: Database, input: ApiParsedInput<'featureDistribution'>): FeatureDistribution {
+  const { runId, feature, bins } = input;
+  const detail = getRunDetail(db, runId);
+  const column = detail.storedFeatures.indexOf(feature);
+  if (column < 0) throw new InputError(`Run ${runId} has no feature "${feature}"; it stores ${detail.storedFeatures.join(', ')}.`);
+  const total = db.prepare('SELECT count(*) FROM run_memberships WHERE run_id = ? AND segment_index IS NOT NULL').pluck().get(runId) as number;
+  const step = Math.max(1, Math.floor(total / DISTRIBUTION_SAMPLE));
+  const rows = db
+    .prepare(
+      `SELECT m.segment_index, m.features FROM (
+         SELECT customer_id, row_number() OVER (ORDER BY customer_id) - 1 AS position
+         FROM run_memberships WHERE run_id = @runId AND segment_index IS NOT NULL
+       ) AS numbered
+       JOIN run_memberships m ON m.run_id = @runId AND m.customer_id = numbered.customer_id
+       WHERE numbered.position % @step = 0`,
+    )
+    .raw()
+    .all({ runId, step }) as [number, Buffer][];
+  const values: { segment: number; value: number }[] = [];
+  for (const [segment, blob] of rows) {
+    const value = decodeFloat64(blob)[column];
+    if (Number.isFinite(value)) values.push({ segment, value });
+  }
+  const sorted = values.map((entry) => entry.value).sort((a, b) => a - b);
+  const at = (p: number) => (sorted.length === 0 ? 0 : sorted[Math.min(sorted.length - 1, Math.floor(p * (sorted.length - 1)))]);
+  const low = at(0.01);
+  const high = at(0.99) > low ? at(0.99) : low + 1;
+  const width = (high - low) / bins;
+  const edges = Array.from({ length: bins + 1 }, (_, b) => low + b * width);
+  const segments = listSegments(db, runId).map((segment) => segment.index);
+  const counts = new Map(segments.map((segment) => [segment, new Array<number>(bins).fill(0)]));
+  for (const { segment, value } of values) {
+    const b = Math.min(bins - 1, Math.max(0, Math.floor((value - low) / width)));
+    counts.get(segment)![b] += 1;
+  }
+  return {
+    runId,
+    feature,
+    unit: unitOf(feature),
+    edges,
+    counts: segments.map((segment) => ({ segment, counts: counts.get(segment)! })),
+    customersUsed: values.length,
+    totalCustomers: total,
+  };
+}
+
