@@ -47,14 +47,20 @@ export function explainBorderline(
     terms,
     priorLogOdds: Math.log(model.weights[top] / model.weights[second]),
     method: model.covarianceType === 'diag' || model.covarianceType === 'spherical' ? 'exact' : 'marginal',
-    text: whyText(terms),
+    text: whyText(terms, Math.log(model.weights[top] / model.weights[second]), segmentNames[top], segmentNames[second]),
   };
 }
 
-/** "basket size fits Tier 2, visit rate fits Tier 3" from the ranked terms. */
-export function whyText(terms: readonly WhyTerm[]): string {
-  if (terms.length === 0) return 'no observed feature separates the two segments';
+/**
+ * "basket size fits Tier 2, visit rate fits Tier 3" from the ranked terms; when the segments'
+ * sizes (the prior odds) tip the balance, that is said too.
+ */
+export function whyText(terms: readonly WhyTerm[], priorLogOdds = 0, topName = '', secondName = ''): string {
   const strong = terms.filter((term) => Math.abs(term.contribution) >= NEGLIGIBLE_TERM).slice(0, TERMS_IN_TEXT);
   const named = strong.length > 0 ? strong : terms.slice(0, 1);
-  return named.map((term) => `${term.label} fits ${term.fits}`).join(', ');
+  const parts = named.map((term) => `${term.label} fits ${term.fits}`);
+  if (Math.abs(priorLogOdds) >= NEGLIGIBLE_TERM && topName && secondName) {
+    parts.push(`${priorLogOdds > 0 ? topName : secondName} is the more common segment`);
+  }
+  return parts.length > 0 ? parts.join(', ') : 'no observed feature separates the two segments';
 }
