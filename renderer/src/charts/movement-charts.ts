@@ -6,13 +6,13 @@ import { baseOption, categoryAxis } from './theme.js';
 
 /** Parent × current counts as a single-hue heatmap (reads the same in any colour vision). */
 export function heatmapOption(movement: MovementResult, format: Formatters): EChartsCoreOption {
-  const data: [number, number, number][] = [];
-  let largest = 0;
-  movement.matrix.forEach((row, i) =>
-    row.forEach((count, j) => {
-      data.push([j, i, count]);
-      largest = Math.max(largest, count);
-    }),
+  const largest = Math.max(1, ...movement.matrix.flat());
+  // Dark cells get light text: the ramp runs from paper to deep blue, so the label flips half way.
+  const data = movement.matrix.flatMap((row, i) =>
+    row.map((count, j) => ({
+      value: [j, i, count] as [number, number, number],
+      label: { color: count / largest > 0.45 ? ui.panel : ui.ink },
+    })),
   );
   return {
     ...baseOption,
@@ -26,7 +26,7 @@ export function heatmapOption(movement: MovementResult, format: Formatters): ECh
     },
     xAxis: categoryAxis('this run', movement.currentSegments.map((s) => s.name), { nameGap: 72, axisLabel: { interval: 0, rotate: 20, color: ui.inkSoft } }),
     yAxis: categoryAxis('previous run', movement.parentSegments.map((s) => s.name), { nameGap: 160, inverse: true }),
-    visualMap: { show: false, min: 0, max: Math.max(1, largest), inRange: { color: [ui.rampLow, ui.rampHigh] } },
+    visualMap: { show: false, min: 0, max: largest, inRange: { color: [ui.rampLow, ui.rampHigh] } },
     series: [
       {
         type: 'heatmap',
@@ -34,9 +34,7 @@ export function heatmapOption(movement: MovementResult, format: Formatters): ECh
         label: {
           show: true,
           formatter: (params: { value: [number, number, number] }) => format.count(params.value[2]),
-          color: ui.ink,
-          textBorderColor: ui.panel,
-          textBorderWidth: 2,
+          fontSize: 12,
         },
         itemStyle: { borderColor: ui.panel, borderWidth: 2 },
       },
@@ -86,7 +84,7 @@ export function flowOption(movement: MovementResult, colourForName: (name: strin
         data: nodes,
         links,
         lineStyle: { color: 'source', opacity: 0.35, curveness: 0.5 },
-        label: { color: ui.ink, fontSize: 12 },
+        label: { color: ui.ink, fontSize: 12, formatter: (params: { name: string }) => params.name.replace(/^(before|now): /, '') },
         emphasis: { focus: 'adjacency' },
       },
     ],

@@ -2,7 +2,7 @@ import type { EChartsCoreOption } from 'echarts/core';
 import type { FeatureDistribution, SegmentProfile, SegmentSample } from '../../../src/api/contract.js';
 import { covarianceEllipse, ellipsePoints } from '../lib/ellipse.js';
 import type { Formatters } from '../lib/format.js';
-import { segmentColour, segmentSymbol } from '../lib/palette.js';
+import { segmentColour, segmentSymbol, ui } from '../lib/palette.js';
 import { baseOption, valueAxis } from './theme.js';
 
 /** Which colour a segment wears everywhere: its position in spend order (Tier 1 = first colour). */
@@ -70,7 +70,7 @@ export function scatterOption(
   return {
     ...baseOption,
     grid: { left: 64, right: 24, top: 48, bottom: 52 },
-    legend: { top: 4, left: 'center', icon: 'circle', textStyle: { color: 'inherit' } },
+    legend: { top: 4, left: 'center', icon: 'circle', textStyle: { color: ui.ink } },
     tooltip: { ...(baseOption.tooltip as object), trigger: 'item' },
     xAxis: valueAxis(axisNames.x),
     yAxis: valueAxis(axisNames.y, { nameGap: 44 }),
@@ -94,7 +94,7 @@ export function distributionOption(
   return {
     ...baseOption,
     grid: { left: 64, right: 24, top: 40, bottom: 52 },
-    legend: { top: 4, left: 'center', icon: 'roundRect' },
+    legend: { top: 4, left: 'center', icon: 'roundRect', textStyle: { color: ui.ink } },
     tooltip: {
       ...(baseOption.tooltip as object),
       trigger: 'axis',

@@ -4,7 +4,7 @@ import { ui } from '../lib/palette.js';
 /** Options every Spendmix chart shares: our type, our greys, no animation (paint is measured). */
 export const baseOption: EChartsCoreOption = {
   animation: false,
-  textStyle: { fontFamily: 'inherit', color: ui.ink, fontSize: 12 },
+  textStyle: { fontFamily: 'inherit', color: ui.ink, fontSize: 13 },
   grid: { left: 64, right: 24, top: 36, bottom: 48, containLabel: false },
   tooltip: { confine: true, backgroundColor: ui.panel, borderColor: ui.rule, textStyle: { color: ui.ink } },
 };
@@ -17,7 +17,8 @@ export function valueAxis(name: string, extra: Record<string, unknown> = {}): Re
     nameGap: 36,
     scale: true,
     axisLine: { lineStyle: { color: ui.rule } },
-    axisLabel: { color: ui.inkSoft },
+    axisLabel: { color: ui.inkSoft, fontSize: 12 },
+    nameTextStyle: { color: ui.inkSoft, fontSize: 13 },
     splitLine: { lineStyle: { color: ui.gridLine } },
     ...extra,
   };
@@ -31,7 +32,8 @@ export function categoryAxis(name: string, data: (string | number)[], extra: Rec
     nameGap: 32,
     data,
     axisLine: { lineStyle: { color: ui.rule } },
-    axisLabel: { color: ui.inkSoft },
+    axisLabel: { color: ui.inkSoft, fontSize: 12 },
+    nameTextStyle: { color: ui.inkSoft, fontSize: 13 },
     ...extra,
   };
 }

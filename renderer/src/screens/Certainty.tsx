@@ -14,6 +14,11 @@ import { SegmentChip } from '../components/SegmentChip.js';
 import { VirtualTable, type Column } from '../components/VirtualTable.js';
 import { RunScreen } from './NoRun.js';
 
+const whyMethodNote: Record<BorderlineRow['why']['method'], string> = {
+  exact: 'Exact split of the log-odds between the two segments by feature.',
+  marginal: 'Feature by feature; correlations between features are left out of this explanation.',
+};
+
 /** Waits until a value has been still for `delay` ms, so dragging a slider sends few requests. */
 function useSettled<T>(value: T, delay: number): T {
   const [settled, setSettled] = useState(value);
@@ -85,9 +90,9 @@ function CertaintyView({ runId }: { runId: number }) {
 
   const columns: Column<BorderlineRow>[] = [
     { key: 'id', header: 'customer', width: '9rem', render: (row) => <code>{row.customerId}</code> },
-    { key: 'top', header: 'most likely', width: 'minmax(10rem, 1.2fr)', render: (row) => <SegmentChip segment={byIndex.get(row.segment ?? -1)} fallback={row.segmentName ?? '—'} /> },
+    { key: 'top', header: 'most likely', width: 'minmax(11rem, 1.3fr)', render: (row) => <SegmentChip segment={byIndex.get(row.segment ?? -1)} fallback={row.segmentName ?? '—'} /> },
     { key: 'topP', header: 'p', width: '4.5rem', align: 'right', render: (row) => (row.confidence === null ? '—' : format.probability(row.confidence)) },
-    { key: 'second', header: 'runner-up', width: 'minmax(10rem, 1.2fr)', render: (row) => <SegmentChip segment={byIndex.get(row.secondSegment ?? -1)} fallback={row.secondSegmentName ?? '—'} /> },
+    { key: 'second', header: 'runner-up', width: 'minmax(11rem, 1.3fr)', render: (row) => <SegmentChip segment={byIndex.get(row.secondSegment ?? -1)} fallback={row.secondSegmentName ?? '—'} /> },
     { key: 'secondP', header: 'p', width: '4.5rem', align: 'right', render: (row) => (row.secondProbability === null ? '—' : format.probability(row.secondProbability)) },
     { key: 'margin', header: 'margin', width: '5rem', align: 'right', render: (row) => (row.margin === null ? '—' : format.probability(row.margin)) },
     {
@@ -95,7 +100,7 @@ function CertaintyView({ runId }: { runId: number }) {
       header: 'why',
       width: 'minmax(16rem, 3fr)',
       render: (row) => (
-        <span className="why" title={row.why.method === 'marginal' ? 'Feature by feature; correlations between features are left out of this explanation.' : 'Exact split of the log-odds by feature.'}>
+        <span className="why" title={`${row.why.text}. ${whyMethodNote[row.why.method]}`}>
           {row.why.text}
         </span>
       ),
@@ -184,7 +189,8 @@ function CertaintyView({ runId }: { runId: number }) {
           testId="borderline-table"
           label="Borderline customers"
           rowTestId={(row) => `borderline-row-${row.customerId}`}
-          height={420}
+          height={440}
+          rowHeight={44}
         />
       </div>
     </section>

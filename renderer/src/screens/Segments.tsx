@@ -265,14 +265,16 @@ function SegmentCard({ runId, segment }: { runId: number; segment: SegmentProfil
         </div>
       </dl>
       <table className="card-profile">
-        <caption>Medians (middle half in brackets)</caption>
+        <caption>Median, and the middle half of customers below it</caption>
         <tbody>
           {segment.profile.map((entry) => (
             <tr key={entry.feature}>
               <th scope="row">{featureLabel(entry.feature)}</th>
-              <td>{formatInUnit(entry.median, entry.unit, format)}</td>
-              <td className="quiet">
-                {formatInUnit(entry.q1, entry.unit, format)} – {formatInUnit(entry.q3, entry.unit, format)}
+              <td>
+                {formatInUnit(entry.median, entry.unit, format)}
+                <span className="range">
+                  {formatInUnit(entry.q1, entry.unit, format)} – {formatInUnit(entry.q3, entry.unit, format)}
+                </span>
               </td>
             </tr>
           ))}

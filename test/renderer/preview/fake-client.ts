@@ -1,0 +1,408 @@
+/**
+ * A small in-memory stand-in for the core, for looking at the screens in a browser before (or
+ * without) a database: test-only, never part of the app's build. Numbers are invented from a
+ * seeded generator (pure-rand) and only need to look plausible; nothing here is real data.
+ */
+import { xoroshiro128plus } from 'pure-rand/generator/xoroshiro128plus';
+import { uniformFloat64 } from 'pure-rand/distribution/uniformFloat64';
+import type {
+  Api,
+  ApiInput,
+  ApiOutput,
+  BorderlineRow,
+  MembershipRow,
+  ReviewDecision,
+  ReviewItem,
+  SegmentProfile,
+  SpendmixClient,
+  TaskEvent,
+  TaskResults,
+  TaskStarted,
+} from '../../../src/api/contract.js';
+
+const generator = xoroshiro128plus(20261130);
+const uniform = () => uniformFloat64(generator);
+const normal = () => Math.sqrt(-2 * Math.log(1 - uniform())) * Math.cos(2 * Math.PI * uniform());
+
+const featureNames = ['spendPerMonth', 'visitsPerMonth', 'averageBasket'];
+const featureLabels: Record<string, string> = {
+  spendPerMonth: 'spend per month',
+  visitsPerMonth: 'visits per month',
+  averageBasket: 'average basket',
+  daysSinceLastVisit: 'days since last visit',
+  tenureMonths: 'tenure',
+  freshShare: 'fresh share',
+};
+const featureUnits: Record<string, string> = {
+  spendPerMonth: 'EUR',
+  visitsPerMonth: 'visits',
+  averageBasket: 'EUR',
+  daysSinceLastVisit: 'days',
+  tenureMonths: 'months',
+  freshShare: 'share',
+};
+
+const segmentShapes = [
+  { name: 'Tier 1 — highest spend', weight: 0.08, mean: [1.9, 1.3, 1.2], sd: [0.45, 0.5, 0.5], rho: 0.4, spend: 620, visits: 11, basket: 56 },
+  { name: 'Tier 2', weight: 0.27, mean: [0.7, 0.6, 0.3], sd: [0.45, 0.45, 0.5], rho: 0.5, spend: 310, visits: 8, basket: 38 },
+  { name: 'Tier 3', weight: 0.38, mean: [-0.3, -0.1, -0.2], sd: [0.5, 0.55, 0.45], rho: 0.3, spend: 140, visits: 5, basket: 27 },
+  { name: 'Tier 4 — lowest spend', weight: 0.27, mean: [-1.2, -0.9, -0.5], sd: [0.5, 0.55, 0.6], rho: 0.2, spend: 52, visits: 2.4, basket: 21 },
+];
+const totalCustomers = 48_213;
+
+let names = segmentShapes.map((shape) => shape.name);
+
+function segmentProfiles(): SegmentProfile[] {
+  const revenue = segmentShapes.map((shape) => shape.weight * totalCustomers * shape.spend * 12);
+  const revenueTotal = revenue.reduce((a, b) => a + b, 0);
+  return segmentShapes.map((shape, i) => {
+    const customers = Math.round(shape.weight * totalCustomers);
+    const [sx, sy, sz] = shape.sd;
+    const cov = [sx * sx, shape.rho * sx * sy, 0.2 * sx * sz, shape.rho * sx * sy, sy * sy, 0.1 * sy * sz, 0.2 * sx * sz, 0.1 * sy * sz, sz * sz];
+    const quart = (median: number, spread: number) => ({ q1: median * (1 - spread), median, q3: median * (1 + spread) });
+    return {
+      segment: i,
+      key: `s${i + 1}`,
+      name: names[i],
+      spendRank: i + 1,
+      customers,
+      share: shape.weight,
+      revenue: revenue[i],
+      revenueShare: revenue[i] / revenueTotal,
+      profile: [
+        { feature: 'spendPerMonth', unit: 'EUR', ...quart(shape.spend, 0.3) },
+        { feature: 'visitsPerMonth', unit: 'visits', ...quart(shape.visits, 0.35) },
+        { feature: 'averageBasket', unit: 'EUR', ...quart(shape.basket, 0.25) },
+        { feature: 'daysSinceLastVisit', unit: 'days', ...quart(Math.round(30 / shape.visits), 0.5) },
+        { feature: 'tenureMonths', unit: 'months', ...quart(14 + i * 2, 0.4) },
+        { feature: 'freshShare', unit: 'share', ...quart(0.42 - i * 0.05, 0.3) },
+      ],
+      weight: shape.weight,
+      mean: shape.mean,
+      covariance: cov,
+    };
+  });
+}
+
+/** Draws a point of segment i: correlated normal via the Cholesky factor of its covariance. */
+function drawPoint(i: number): number[] {
+  const shape = segmentShapes[i];
+  const [sx, sy, sz] = shape.sd;
+  const z1 = normal();
+  const z2 = normal();
+  const z3 = normal();
+  return [
+    shape.mean[0] + sx * z1,
+    shape.mean[1] + sy * (shape.rho * z1 + Math.sqrt(1 - shape.rho ** 2) * z2),
+    shape.mean[2] + sz * (0.2 * z1 + 0.97 * z3),
+  ];
+}
+
+function pickSegment(): number {
+  let u = uniform();
+  for (let i = 0; i < segmentShapes.length; i++) {
+    u -= segmentShapes[i].weight;
+    if (u <= 0) return i;
+  }
+  return segmentShapes.length - 1;
+}
+
+const customers: MembershipRow[] = Array.from({ length: 2400 }, (_, n) => {
+  const segment = pickSegment();
+  const second = segment === 0 ? 1 : segment - 1;
+  const confidence = 0.45 + 0.55 * Math.sqrt(uniform());
+  const secondProbability = (1 - confidence) * (0.6 + 0.4 * uniform());
+  return {
+    customerId: `LM-${String(100000 + n * 37).padStart(6, '0')}`,
+    segment,
+    segmentName: null,
+    finalSegment: segment,
+    finalSegmentName: null,
+    confidence,
+    margin: confidence - secondProbability,
+    secondSegment: second,
+    secondSegmentName: null,
+    secondProbability,
+    logDensity: -3 + normal(),
+    borderline: confidence < 0.7 || confidence - secondProbability < 0.2,
+    atypical: uniform() < 0.01,
+    partial: false,
+    tooNew: false,
+    excluded: false,
+    revenue: segmentShapes[segment].spend * 12 * Math.exp(0.3 * normal()),
+    spendPerMonth: segmentShapes[segment].spend * Math.exp(0.3 * normal()),
+    decision: null,
+  };
+}).sort((a, b) => b.revenue - a.revenue);
+
+const withNames = <T extends MembershipRow>(row: T): T => ({
+  ...row,
+  segmentName: row.segment === null ? null : names[row.segment],
+  secondSegmentName: row.secondSegment === null ? null : names[row.secondSegment],
+  finalSegmentName: row.finalSegment === null ? null : names[row.finalSegment],
+});
+
+function whyOf(row: MembershipRow): BorderlineRow['why'] {
+  const top = names[row.segment ?? 0];
+  const second = names[row.secondSegment ?? 0];
+  return {
+    terms: [
+      { feature: 'averageBasket', label: 'average basket', contribution: 0.8, fits: top },
+      { feature: 'visitsPerMonth', label: 'visits per month', contribution: -0.6, fits: second },
+    ],
+    priorLogOdds: 0.1,
+    method: 'marginal',
+    text: `average basket fits ${top}, visits per month fits ${second}`,
+  };
+}
+
+const queue = customers.filter((row) => row.borderline || row.atypical);
+const decisions = new Map<string, ReviewDecision>();
+
+function reviewItem(row: MembershipRow): ReviewItem {
+  const decision = decisions.get(row.customerId) ?? null;
+  const profiles = segmentProfiles();
+  return {
+    ...withNames(row),
+    decision,
+    reasons: [row.borderline ? 'borderline' : null, row.atypical ? 'atypical' : null].filter((r): r is 'borderline' | 'atypical' => r !== null),
+    why: row.borderline ? whyOf(row) : null,
+    featureComparison: featureNames.map((feature, f) => ({
+      feature,
+      label: featureLabels[feature],
+      value: (profiles[row.segment ?? 0].profile[f].median + profiles[row.secondSegment ?? 0].profile[f].median) / 2,
+      topMedian: profiles[row.segment ?? 0].profile[f].median,
+      secondMedian: profiles[row.secondSegment ?? 0].profile[f].median,
+    })),
+    previousSegmentName: names[row.secondSegment ?? 0],
+    previousDecision: null,
+  };
+}
+
+const listeners = new Set<(event: TaskEvent) => void>();
+let taskCounter = 0;
+const taskResults = new Map<string, unknown>();
+
+/** A pretend long task: a few progress events, then done with `result`. */
+function pretendTask<M extends keyof TaskResults>(method: M, result: TaskResults[M], phases: string[]): TaskStarted<M> {
+  const taskId = `fake-${++taskCounter}`;
+  taskResults.set(taskId, result);
+  let step = 0;
+  const total = 10;
+  const tick = () => {
+    if (step < total) {
+      const event: TaskEvent = { type: 'progress', taskId, phase: phases[Math.min(phases.length - 1, Math.floor((step / total) * phases.length))], done: step, total, message: `step ${step + 1}` };
+      listeners.forEach((listener) => listener(event));
+      step += 1;
+      setTimeout(tick, 120);
+    } else {
+      listeners.forEach((listener) => listener({ type: 'done', taskId, method, result }));
+    }
+  };
+  setTimeout(tick, 50);
+  return { taskId, method };
+}
+
+const runSettings: ApiOutput<'runSummary'>['settings'] = {
+  asOf: '2026-11-30', windowMonths: 12, mode: 'refit', k: 'auto', kMin: 2, kMax: 8, covariance: 'auto', criterion: 'bic', restarts: 5, seed: 0,
+  borderlineConfidence: 0.7, borderlineMargin: 0.2, atypicalPercentile: 1, minPurchases: 2, minTenureMonths: 2,
+};
+
+function summary(runId: number): ApiOutput<'runSummary'> {
+  const profiles = segmentProfiles();
+  return {
+    runId, parentRunId: runId > 1 ? runId - 1 : null, k: 4, covariance: 'full', bic: 301_544.2, customers: totalCustomers, tooNew: 1_204,
+    borderline: 5_830, atypical: 482,
+    segments: profiles.map((p) => ({ name: p.name, customers: p.customers, share: p.share, revenueShare: p.revenueShare })),
+    stability: runId > 1 ? 0.812 : null,
+    asOf: runId > 1 ? '2026-11-30' : '2026-10-31', windowMonths: 12, mode: 'refit', createdAt: '2026-12-01T09:12:00Z', settings: runSettings,
+    features: featureNames.map((feature) => ({ feature, log1p: true, clipLowerPercentile: null, clipUpperPercentile: null, zScore: true })),
+    storedFeatures: Object.keys(featureLabels), logLikelihood: -150_600.3, icl: 309_870.5, criterion: 'bic', retiredSegments: [], warnings: [],
+  };
+}
+
+function confidenceBins(confidenceCut: number, marginCut: number, atypicalPercentile: number): ApiOutput<'certainty'> {
+  const bins = Array.from({ length: 20 }, (_, b) => ({ from: b / 20, to: (b + 1) / 20, customers: 0 }));
+  let borderline = 0;
+  for (const row of customers) {
+    const c = row.confidence ?? 0;
+    bins[Math.min(19, Math.floor(c * 20))].customers += 1;
+    if (c < confidenceCut || (row.margin ?? 0) < marginCut) borderline += 1;
+  }
+  const scale = totalCustomers / customers.length;
+  return {
+    runId: 2, customers: totalCustomers,
+    confidenceHistogram: bins.map((bin) => ({ ...bin, customers: Math.round(bin.customers * scale) })),
+    borderline: Math.round(borderline * scale), atypical: Math.round((atypicalPercentile / 100) * totalCustomers), atypicalLogDensityBelow: -5.84 + atypicalPercentile * 0.3,
+  };
+}
+
+const api: Api = {
+  appInfo: async () => ({
+    version: '0.1.0', shell: 'browser', databasePath: '/home/analyst/larkmoor.spendmix.db', recentDatabases: [],
+    cautions: [
+      'Segments drive who gets offers. Do not use protected characteristics or proxies for them as features.',
+      "Respect marketing consent and local data-protection law; keep personal data on the analyst's machine.",
+      'Treat segments as estimates — the review queue exists because some customers do not fit. Defer to the company’s privacy and legal advice.',
+    ],
+  }),
+  openDatabase: async () => api.databaseInfo({}),
+  databaseInfo: async () => ({
+    path: '/home/analyst/larkmoor.spendmix.db', schemaVersion: 2, customers: 49_417, receipts: 2_412_880, visits: 3_120_554, imports: 3, runs: 2,
+    firstDataDate: '2025-01-01', lastDataDate: '2026-11-30',
+  }),
+  previewFile: async (input: ApiInput<'previewFile'>) => {
+    const columns = ['Kunde', 'Datum', 'Betrag', 'Bon', 'Filiale'];
+    const mapping = input.mapping ?? { Kunde: 'customer_id', Datum: 'date', Betrag: 'amount', Bon: 'receipt_id', Filiale: 'store_id' };
+    return {
+      path: input.path, kind: input.kind, columns, sheets: [], delimiter: ';', encoding: 'UTF-8',
+      fields: [
+        { field: 'customer_id', required: true, description: 'loyalty card number' },
+        { field: 'date', required: true, description: 'date or date-time of the receipt' },
+        { field: 'amount', required: true, description: 'amount in EUR; negative for refunds' },
+        { field: 'receipt_id', required: false, description: 'receipt number' },
+        { field: 'store_id', required: false, description: 'store' },
+        { field: 'category', required: false, description: 'department' },
+      ],
+      mapping, mappingSource: input.mapping ? 'given' : 'saved', missingFields: [],
+      rows: Array.from({ length: 12 }, (_, i) => ({
+        line: i + 2,
+        cells: { Kunde: `LM-${100100 + i}`, Datum: `2026-12-0${1 + (i % 5)}`, Betrag: i === 4 ? 'zwölf' : `${(12.5 + i * 3.1).toFixed(2)}`, Bon: `R${8000 + i}`, Filiale: `S0${1 + (i % 9)}` },
+        parsed: i === 4 ? null : { customer_id: `LM-${100100 + i}`, date: `2026-12-0${1 + (i % 5)}`, amount: 12.5 + i * 3.1, receipt_id: `R${8000 + i}`, store_id: `S0${1 + (i % 9)}` },
+        problem: i === 4 ? 'amount: “zwölf” is not a number' : null,
+      })),
+    };
+  },
+  importFile: async (input) => pretendTask('importFile', { importId: 4, file: input.path, kind: input.kind, rowsRead: 20_114, rowsImported: 20_101, rowsRejected: 13, duplicatesSkipped: 0, alreadyImported: false, amountTotal: 512_330.4, report: '/home/analyst/larkmoor-import-4-rejected.csv' }, ['reading', 'validating', 'writing']),
+  listImports: async () => [
+    { importId: 1, fileName: 'larkmoor-receipts-2025.csv', kind: 'receipts', rowsRead: 1_204_113, rowsImported: 1_204_100, rowsRejected: 13, duplicatesSkipped: 0, amountTotal: 30_411_873.2, reportPath: '/home/analyst/r1.csv', importedAt: '2026-11-02T08:30:00Z', mapping: {} },
+    { importId: 2, fileName: 'larkmoor-visits.csv', kind: 'visits', rowsRead: 3_120_554, rowsImported: 3_120_554, rowsRejected: 0, duplicatesSkipped: 0, amountTotal: null, reportPath: null, importedAt: '2026-11-02T08:41:00Z', mapping: {} },
+    { importId: 3, fileName: 'larkmoor-receipts-2026-11.csv', kind: 'receipts', rowsRead: 1_208_790, rowsImported: 1_208_780, rowsRejected: 2, duplicatesSkipped: 8, amountTotal: 31_002_118.9, reportPath: '/home/analyst/r3.csv', importedAt: '2026-12-01T07:55:00Z', mapping: {} },
+  ],
+  importReport: async (input) => {
+    const total = input.importId === 1 ? 13 : 2;
+    const rows = Array.from({ length: total }, (_, i) => ({ line: 1_400 + i * 9_317, column: i % 3 === 0 ? 'date' : 'amount', value: i % 3 === 0 ? '2025-02-30' : '12,5O', reason: i % 3 === 0 ? 'not a calendar date' : 'not a number' }));
+    return { importId: input.importId, total, rows: rows.slice(input.offset ?? 0, (input.offset ?? 0) + (input.limit ?? 100)) };
+  },
+  savedMapping: async (input) => ({ kind: input.kind, mapping: null }),
+  modelOptions: async () => ({
+    features: Object.keys(featureLabels).map((name) => ({
+      name, label: featureLabels[name], unit: featureUnits[name], meaning: featureLabels[name], inDefaultSet: featureNames.includes(name),
+      defaultTransform: { feature: name, log1p: name !== 'freshShare', clipLowerPercentile: null, clipUpperPercentile: null, zScore: true },
+    })),
+    covarianceTypes: ['full', 'diag', 'spherical', 'tied'],
+    defaults: runSettings,
+  }),
+  startRun: async () => pretendTask('startRun', { ...summary(3) }, ['features', 'fitting k=2 full', 'fitting k=4 full', 'memberships', 'profiles']),
+  listRuns: async () => [
+    { runId: 1, parentRunId: null, asOf: '2026-10-31', mode: 'refit', k: 4, covariance: 'full', customers: 47_902, createdAt: '2026-11-02T09:00:00Z' },
+    { runId: 2, parentRunId: 1, asOf: '2026-11-30', mode: 'refit', k: 4, covariance: 'full', customers: totalCustomers, createdAt: '2026-12-01T09:12:00Z' },
+  ],
+  runSummary: async (input) => summary(input.runId),
+  segments: async (input) => ({ runId: input.runId, features: featureNames, segments: segmentProfiles() }),
+  sweepTable: async () => {
+    const rows: ApiOutput<'sweepTable'> = [];
+    const base: Record<string, number> = { full: 0, diag: 4_200, spherical: 9_800, tied: 2_100 };
+    for (const covariance of ['full', 'diag', 'spherical', 'tied'] as const) {
+      for (let k = 2; k <= 8; k++) {
+        const bic = 301_544 + base[covariance] + 2_600 * (k - 4) ** 2 - (k > 4 ? 1_500 * (k - 4) : 0);
+        rows.push({ k, covariance, logLikelihood: -bic / 2, bic, aic: bic - 300, icl: bic + 6_000 + 900 * k, parameterCount: k * 10, converged: true, iterations: 40 + k, chosen: covariance === 'full' && k === 4 });
+      }
+    }
+    return rows;
+  },
+  segmentSample: async (input) => {
+    const limit = Math.min(input.limit ?? 5000, totalCustomers);
+    const points = Array.from({ length: limit }, (_, n) => {
+      const segment = pickSegment();
+      const model = drawPoint(segment);
+      return { customerId: `LM-${n}`, segment, model, original: model.map((v) => Math.exp(v)) };
+    });
+    return { runId: input.runId, totalCustomers, features: featureNames, points };
+  },
+  featureDistribution: async (input) => {
+    const edges = Array.from({ length: 41 }, (_, i) => i * 20);
+    return {
+      runId: input.runId, feature: input.feature, unit: featureUnits[input.feature] ?? '',
+      edges,
+      counts: segmentShapes.map((shape, s) => ({
+        segment: s,
+        counts: edges.slice(0, -1).map((edge) => Math.round(shape.weight * totalCustomers * Math.exp(-0.5 * ((Math.log(edge + 10) - Math.log(shape.spend)) / 0.35) ** 2))),
+      })),
+    };
+  },
+  membershipsPage: async (input) => {
+    const offset = input.offset ?? 0;
+    return { runId: input.runId, total: customers.length, offset, rows: customers.slice(offset, offset + (input.limit ?? 100)).map(withNames) };
+  },
+  certainty: async (input) => confidenceBins(input.borderlineConfidence, input.borderlineMargin, input.atypicalPercentile),
+  borderline: async (input) => {
+    const confidenceCut = input.borderlineConfidence ?? 0.7;
+    const marginCut = input.borderlineMargin ?? 0.2;
+    const rows = customers.filter((row) => (row.confidence ?? 1) < confidenceCut || (row.margin ?? 1) < marginCut);
+    const offset = input.offset ?? 0;
+    return { runId: input.runId, total: rows.length, offset, rows: rows.slice(offset, offset + (input.limit ?? 100)).map((row) => ({ ...withNames(row), why: whyOf(row) })) };
+  },
+  reviewQueue: async (input) => {
+    const status = input.status ?? 'all';
+    const rows = queue.filter((row) => status === 'all' || (status === 'done') === decisions.has(row.customerId));
+    const offset = input.offset ?? 0;
+    return { runId: input.runId, total: rows.length, done: decisions.size, offset, rows: rows.slice(offset, offset + (input.limit ?? 100)).map(reviewItem) };
+  },
+  decideReview: async (input) => {
+    const row = queue.find((item) => item.customerId === input.customerId);
+    if (!row) throw Object.assign(new Error(`No customer ${input.customerId} in the review queue.`), { kind: 'input' });
+    const segment = input.action === 'move' ? input.segment ?? 0 : row.segment ?? 0;
+    decisions.set(row.customerId, { action: input.action, segmentName: input.action === 'exclude' ? null : names[segment], note: input.note ?? null, reviewer: 'analyst', decidedAt: new Date().toISOString(), carriedFromRunId: null });
+    return reviewItem(row);
+  },
+  renameSegment: async (input) => {
+    names = names.map((name, i) => (i === input.segment ? input.name : name));
+    return segmentProfiles()[input.segment];
+  },
+  movement: async (input) => ({
+    runId: input.runId, parentRunId: 1,
+    parentSegments: segmentProfiles().map((p) => ({ segment: p.segment, name: p.name })),
+    currentSegments: segmentProfiles().map((p) => ({ segment: p.segment, name: p.name })),
+    matrix: [
+      [3_210, 402, 31, 4],
+      [377, 11_090, 1_120, 88],
+      [22, 1_304, 15_200, 1_208],
+      [3, 97, 1_310, 10_950],
+    ],
+    common: 46_416, entered: 1_797, left: 1_486, stability: 0.812,
+    warnings: [{ segmentName: 'Tier 2', kind: 'mean-shift', feature: 'averageBasket', amount: 0.56, message: 'Tier 2: average basket moved 0.56 standard deviations (from €35.10 to €38.40).' }],
+    retired: [], added: [],
+  }),
+  exportRun: async (input) => pretendTask('exportRun', { out: input.out, sheets: ['Overview', 'Customers', 'Review', 'Movement'], customersExported: 39_882, suppressedNoConsent: 6_944 }, ['overview', 'writing customers', 'review', 'movement']),
+  loadDemo: async () => pretendTask('loadDemo', { db: '/home/analyst/larkmoor.spendmix.db', customers: 6_000, receipts: 312_400, visits: 401_220 }, ['generating', 'writing']),
+  cancelTask: async (input) => ({ taskId: input.taskId, cancelled: true }),
+  taskStatus: async (input) => ({ taskId: input.taskId, method: 'loadDemo', state: 'done', startedAt: '', finishedAt: '', progress: null, result: taskResults.get(input.taskId), error: null }),
+};
+
+export const fakeClient: SpendmixClient = {
+  api,
+  shell: {
+    kind: 'browser',
+    chooseOpenFile: async () => null,
+    chooseSavePath: async () => null,
+    pathForFile: async (file) => `/tmp/uploads/${file.name}`,
+    onMenuCommand: () => () => undefined,
+  },
+  onTaskEvent: (listener) => {
+    listeners.add(listener);
+    return () => listeners.delete(listener);
+  },
+  waitForTask: <M extends keyof TaskResults>(started: TaskStarted<M>, onProgress?: (progress: import('../../../src/api/contract.js').TaskProgress) => void) =>
+    new Promise<TaskResults[M]>((resolve) => {
+      const listener = (event: TaskEvent) => {
+        if (event.taskId !== started.taskId) return;
+        if (event.type === 'progress') onProgress?.(event);
+        if (event.type === 'done') {
+          listeners.delete(listener);
+          resolve(event.result as TaskResults[M]);
+        }
+      };
+      listeners.add(listener);
+    }),
+};

@@ -1,0 +1,63 @@
+/**
+ * Takes a screenshot of every screen in Chromium, for a person to look at.
+ *
+ *   npx tsx test/renderer/preview/screenshots.ts            # the screens over the fake core
+ *   npx tsx test/renderer/preview/screenshots.ts --url URL  # a running `spendmix serve` address
+ *
+ * PNGs go to test-artifacts/screens/ (not committed). Page errors and console errors are
+ * printed; the exit code is 1 when there were any.
+ */
+import { mkdirSync } from 'node:fs';
+import { join } from 'node:path';
+import { fileURLToPath } from 'node:url';
+import { createServer } from 'vite';
+import { launchFreshChromium } from '../support/chromium.js';
+
+const root = fileURLToPath(new URL('../../..', import.meta.url));
+const outDir = join(root, 'test-artifacts', 'screens');
+mkdirSync(outDir, { recursive: true });
+
+const urlFlag = process.argv.indexOf('--url');
+let url = urlFlag >= 0 ? process.argv[urlFlag + 1] : null;
+let closeServer: (() => Promise<void>) | null = null;
+if (!url) {
+  const server = await createServer({ configFile: join(root, 'test/renderer/preview/vite.config.ts'), server: { port: 0 } });
+  await server.listen();
+  url = server.resolvedUrls?.local[0] ?? null;
+  if (!url) throw new Error('The preview server did not report its address.');
+  closeServer = () => server.close();
+}
+
+const browser = await launchFreshChromium();
+const page = browser.pages()[0] ?? (await browser.newPage());
+const problems: string[] = [];
+page.on('pageerror', (error) => problems.push(`page error: ${error.message}`));
+page.on('console', (message) => {
+  if (message.type() === 'error') problems.push(`console error: ${message.text()}`);
+});
+
+const screens: { id: string; ready: string }[] = [
+  { id: 'sources', ready: '[data-testid="import-history"]' },
+  { id: 'model', ready: '[data-testid="model-criterion-chart"], [data-testid="model-start"]' },
+  { id: 'segments', ready: '[data-testid="screen-segments"][data-painted="true"]' },
+  { id: 'certainty', ready: '[data-testid="certainty-histogram"]' },
+  { id: 'review', ready: '[data-testid="review-detail"] h2' },
+  { id: 'movement', ready: '[data-testid="movement-heatmap"], [data-testid="movement-no-parent"]' },
+  { id: 'export', ready: '[data-testid="export-start"]' },
+];
+
+await page.goto(url);
+await page.waitForSelector('[data-testid="app-shell"]');
+for (const screen of screens) {
+  await page.click(`[data-testid="nav-${screen.id}"]`);
+  await page.waitForSelector(screen.ready, { timeout: 60_000 });
+  await page.waitForTimeout(400);
+  const file = join(outDir, `${screen.id}.png`);
+  await page.screenshot({ path: file, fullPage: true });
+  console.log(`saved ${file}`);
+}
+
+await browser.close();
+await closeServer?.();
+for (const problem of problems) console.error(problem);
+process.exit(problems.length ? 1 : 0);
