@@ -183,7 +183,7 @@ export function computeReceiptFeatures(db: Database, options: ComputeFeaturesOpt
     columns[4].push(tenureMonths);
     columns[5].push(categorisedRows > 0 && boughtCents > 0 ? freshCents / boughtCents : NaN);
     columns[6].push(trendBase > 0 ? (last3Cents - prev3Cents) / trendBase : 0);
-    columns[7].push(boughtCents > 0 ? -refundCents / boughtCents : 0);
+    columns[7].push(boughtCents > 0 && refundCents < 0 ? -refundCents / boughtCents : 0);
     columns[8].push(purchases);
     revenue.push(netCents);
     tooNew.push(purchases < options.minPurchases || tenureMonths < options.minTenureMonths ? 1 : 0);

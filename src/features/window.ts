@@ -19,13 +19,18 @@ export interface FeatureWindow {
   windowMonths: number;
 }
 
-/** Day number of (date − months), with the day of month clamped to the shorter month. */
+/**
+ * Day number of (date − months), with the day of month clamped to the shorter month; a month's
+ * last day maps to the target month's last day, so month-end windows cover whole months
+ * (2026-11-30 − 3 months = 2026-08-31).
+ */
 export function subtractMonths(isoDate: string, months: number): number {
   const [year, month, day] = isoDate.split('-').map(Number);
   const total = year * 12 + (month - 1) - months;
   const targetYear = Math.floor(total / 12);
   const targetMonth = (total % 12) + 1;
-  const result = dayFromParts(targetYear, targetMonth, Math.min(day, daysInMonth(targetYear, targetMonth)));
+  const lastDay = daysInMonth(targetYear, targetMonth);
+  const result = dayFromParts(targetYear, targetMonth, day === daysInMonth(year, month) ? lastDay : Math.min(day, lastDay));
   if (result === undefined) throw new InputError(`The date ${isoDate} minus ${months} months is out of range.`);
   return result;
 }
