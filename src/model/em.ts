@@ -52,7 +52,7 @@ class WarningLog {
   }
 
   list(): string[] {
-    return [...this.entries.values()].map(({ text, count }) => (count > 1 ? `${text} (${count} times in all)` : text));
+    return [...this.entries.values()].map(({ text, count }) => (count > 1 ? `${text}; ${count} times in all.` : `${text}.`));
   }
 }
 
@@ -71,14 +71,20 @@ function noteMaximization(outcome: MaximizationOutcome, iteration: number, warni
   for (const { component, added } of outcome.regularised) {
     warnings.add(
       `singular-${component}`,
-      `Covariance of component ${component + 1} was singular at iteration ${iteration}; ${added.toPrecision(3)} was added to its diagonal.`,
+      `Covariance of component ${component + 1} was singular at iteration ${iteration}; ${added.toPrecision(3)} was added to its diagonal`,
     );
   }
 }
 
+/** Re-seeds per component and restart before an emptied component is left empty. */
+const MAX_RESEEDS = 3;
+
 /**
- * Replaces emptied components: the first takes the worst-explained row as its mean, further ones
- * random rows; each gets the data's overall covariance (in the model's structure) and weight 1/k.
+ * Replaces emptied components: the first takes the worst-explained row as its mean (a random row
+ * at the start, before any row has been explained), further ones random rows; each gets the
+ * data's overall covariance (in the model's structure) and weight 1/k. A component that has
+ * emptied MAX_RESEEDS times is left with its near-zero weight (finite, never NaN) and a warning
+ * that the data seem to hold fewer groups. Returns whether anything was re-seeded.
  */
 function reseedEmptied(
   model: MixtureModel,
@@ -88,11 +94,24 @@ function reseedEmptied(
   random: RandomStream,
   iteration: number,
   warnings: WarningLog,
-): void {
+  reseeds: Int32Array,
+): boolean {
   const { components: k, dimensions: d, covarianceType } = model;
   const overall = overallCovariance(context.filledValues, context.rows, d);
+  let reseeded = false;
   emptied.forEach((component, position) => {
-    const row = position === 0 && worstRow >= 0 ? worstRow : random.integer(0, context.rows - 1);
+    if (reseeds[component] >= MAX_RESEEDS) {
+      if (reseeds[component]++ > MAX_RESEEDS) return; // warned already
+      warnings.add(
+        `left-empty-${component}`,
+        `Component ${component + 1} emptied again after ${MAX_RESEEDS} re-seeds and was left with weight near 0: the data may hold fewer than ${k} groups (try a smaller k)`,
+      );
+      return;
+    }
+    reseeds[component]++;
+    reseeded = true;
+    const fromWorst = position === 0 && worstRow >= 0;
+    const row = fromWorst ? worstRow : random.integer(0, context.rows - 1);
     model.means.set(context.filledValues.subarray(row * d, row * d + d), component * d);
     if (covarianceType !== 'tied') {
       const offset = component * d * d;
@@ -108,13 +127,15 @@ function reseedEmptied(
     model.weights[component] = 1 / k;
     warnings.add(
       `empty-${component}`,
-      `Component ${component + 1} emptied at iteration ${iteration} and was re-seeded at row ${row + 1}${position === 0 ? ' (the worst-explained row)' : ''}.`,
+      `Component ${component + 1} emptied at iteration ${iteration} and was re-seeded at row ${row + 1}${fromWorst ? ' (the worst-explained row)' : ' (a random row)'}`,
     );
   });
+  if (!reseeded) return false;
   let total = 0;
   for (let c = 0; c < k; c++) total += model.weights[c];
   for (let c = 0; c < k; c++) model.weights[c] /= total;
   model.precisionCholesky = factorWithRegularisation(model.covariances, k, d, covarianceType, model.regularization).precisionCholesky;
+  return true;
 }
 
 function overallCovariance(values: Float64Array, n: number, d: number): Float64Array {
@@ -165,7 +186,8 @@ export function* restartSteps(
   let outcome = maximizationStep(statisticsFromLabels(context.filledValues, n, d, labels, k, diagonalOnly), covarianceType, regularization);
   noteMaximization(outcome, 0, warnings);
   let model = outcome.model;
-  if (outcome.emptied.length > 0) reseedEmptied(model, outcome.emptied, -1, context, random, 0, warnings);
+  const reseeds = new Int32Array(k);
+  if (outcome.emptied.length > 0) reseedEmptied(model, outcome.emptied, -1, context, random, 0, warnings, reseeds);
 
   let previous = -Infinity;
   let converged = false;
@@ -180,8 +202,7 @@ export function* restartSteps(
     model = outcome.model;
     iterations = iteration;
     report(iteration, meanLogLikelihood);
-    if (outcome.emptied.length > 0) {
-      reseedEmptied(model, outcome.emptied, summary.worstRow, context, random, iteration, warnings);
+    if (outcome.emptied.length > 0 && reseedEmptied(model, outcome.emptied, summary.worstRow, context, random, iteration, warnings, reseeds)) {
       previous = -Infinity; // the re-seeded model starts a new climb
       continue;
     }

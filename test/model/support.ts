@@ -1,0 +1,32 @@
+import { readFileSync } from 'node:fs';
+import { fileURLToPath } from 'node:url';
+import { modelFromJSON, parseNumericCsv, type CovarianceType, type DataMatrix, type MixtureModel } from '../../src/model/index.js';
+
+/** A committed reference dataset from test/reference/data (sources in test/reference/README.md). */
+export function referenceData(name: 'faithful' | 'iris'): DataMatrix {
+  const path = fileURLToPath(new URL(`../reference/data/${name}.csv`, import.meta.url));
+  return parseNumericCsv(readFileSync(path, 'utf8'), `${name}.csv`).data;
+}
+
+/** A model built from plain numbers, through the same JSON reader the app uses. */
+export function modelOf(covarianceType: CovarianceType, weights: number[], means: number[][], covariances: number[][][]): MixtureModel {
+  return modelFromJSON({
+    format: 'spendmix-mixture',
+    version: 1,
+    covarianceType,
+    components: weights.length,
+    dimensions: means[0].length,
+    regularization: 0,
+    weights,
+    means,
+    covariances,
+  });
+}
+
+export function matrix(rows: number[][]): DataMatrix {
+  return { values: Float64Array.from(rows.flat()), rows: rows.length, cols: rows[0].length };
+}
+
+export function sameBits(a: Float64Array, b: Float64Array): boolean {
+  return a.length === b.length && Buffer.from(a.buffer, a.byteOffset, a.byteLength).equals(Buffer.from(b.buffer, b.byteOffset, b.byteLength));
+}
