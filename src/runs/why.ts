@@ -57,10 +57,9 @@ export function explainBorderline(
  */
 export function whyText(terms: readonly WhyTerm[], priorLogOdds = 0, topName = '', secondName = ''): string {
   const strong = terms.filter((term) => Math.abs(term.contribution) >= NEGLIGIBLE_TERM).slice(0, TERMS_IN_TEXT);
-  const named = strong.length > 0 ? strong : terms.slice(0, 1);
-  const parts = named.map((term) => `${term.label} fits ${term.fits}`);
+  const parts = strong.map((term) => `${term.label} fits ${term.fits}`);
   if (Math.abs(priorLogOdds) >= NEGLIGIBLE_TERM && topName && secondName) {
     parts.push(`${priorLogOdds > 0 ? topName : secondName} is the more common segment`);
   }
-  return parts.length > 0 ? parts.join(', ') : 'no observed feature separates the two segments';
+  return parts.length > 0 ? parts.join(', ') : 'the features fit both segments about equally';
 }
