@@ -22,6 +22,8 @@ import { RunScreen } from './NoRun.js';
 /** Points the scatter asks the core for; the core draws a seeded random sample of this size. */
 const scatterSampleSize = 5000;
 
+const capitalise = (text: string) => text.charAt(0).toUpperCase() + text.slice(1);
+
 export function SegmentsScreen() {
   const { segments } = useWorkspace();
   return (
@@ -161,7 +163,10 @@ function SegmentsView({ runId }: { runId: number }) {
         {distributionChart ? (
           <>
             <Chart option={distributionChart} label="Distribution of the chosen feature per segment" height={300} testId="segments-distribution" onPainted={() => notePainted('distribution')} />
-            <p className="caption">Over all placed customers, binned in the core; each line is a share of its own segment.</p>
+            <p className="caption" data-testid="distribution-caption">
+              {distribution.data ? `${capitalise(sampleCaption(distribution.data.customersUsed, distribution.data.totalCustomers, format))}, binned in the core. ` : ''}
+              Each line is a share of its own segment.
+            </p>
           </>
         ) : distribution.loading ? (
           <Loading what="the distribution" />

@@ -306,7 +306,7 @@ const api: Api = {
     for (const covariance of ['full', 'diag', 'spherical', 'tied'] as const) {
       for (let k = 2; k <= 8; k++) {
         const bic = 301_544 + base[covariance] + 2_600 * (k - 4) ** 2 - (k > 4 ? 1_500 * (k - 4) : 0);
-        rows.push({ k, covariance, logLikelihood: -bic / 2, bic, aic: bic - 300, icl: bic + 6_000 + 900 * k, parameterCount: k * 10, converged: true, iterations: 40 + k, chosen: covariance === 'full' && k === 4 });
+        rows.push({ k, covariance, logLikelihood: -bic / 2, bic, aic: bic - 300, icl: bic + 6_000 + 900 * k, parameterCount: k * 10, converged: true, iterations: 40 + k, warnings: [], chosen: covariance === 'full' && k === 4 });
       }
     }
     return rows;
@@ -324,6 +324,7 @@ const api: Api = {
     const edges = Array.from({ length: 41 }, (_, i) => i * 20);
     return {
       runId: input.runId, feature: input.feature, unit: featureUnits[input.feature] ?? '',
+      customersUsed: totalCustomers, totalCustomers,
       edges,
       counts: segmentShapes.map((shape, s) => ({
         segment: s,
