@@ -3,6 +3,7 @@ import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { isAbsolute, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
+import type { Command } from 'commander';
 import { afterEach, describe, expect, it } from 'vitest';
 import { commandModules } from '../src/cli/commands/index.js';
 import { buildProgram, runCli } from '../src/cli/program.js';
@@ -123,19 +124,30 @@ describe('CLI conventions (DESIGN.md §10): demo --out', () => {
 });
 
 describe('CLI conventions: help and internal failures', () => {
-  it('--help works for the program and for each command', async () => {
+  it('--help works for the program and for each command (and each subcommand of a command group)', async () => {
     const program = buildProgram({ stdout: () => undefined, stderr: () => undefined }, () => undefined);
-    const names = program.commands.map((command) => command.name());
-    expect(names).toContain('demo');
+    const paths: string[][] = [];
+    const leaf = new Set<string>();
+    const walk = (command: Command, path: string[]) => {
+      for (const sub of command.commands) {
+        paths.push([...path, sub.name()]);
+        if (sub.commands.length === 0) leaf.add([...path, sub.name()].join(' '));
+        walk(sub, [...path, sub.name()]);
+      }
+    };
+    walk(program, []);
+    expect(paths.map((path) => path.join(' '))).toContain('demo');
     const top = await cli('--help');
     expect(top.code).toBe(0);
-    for (const name of names) {
-      expect(top.stdout).toContain(name);
-      const help = await cli(name, '--help');
+    for (const path of paths) {
+      const name = path.join(' ');
+      if (path.length === 1) expect(top.stdout).toContain(name);
+      const help = await cli(...path, '--help');
       expect(help.code, name).toBe(0);
       expect(help.stdout, name).toContain(`Usage: spendmix ${name}`);
-      expect(help.stdout, name).toContain('--json');
       expect(help.stderr, name).toBe('');
+      // every command that does the work takes --json (DESIGN.md §10); a group lists its commands
+      if (leaf.has(name)) expect(help.stdout, name).toContain('--json');
     }
     const demoHelp = await cli('demo', '--help');
     expect(demoHelp.stdout).toMatch(/receipts counts distinct receipts/);

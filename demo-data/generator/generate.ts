@@ -60,10 +60,10 @@ export async function generateDemoChain(options: DemoChainOptions): Promise<Demo
   const dir = prepareOutputFolder(options.outDir);
   throwIfAborted(options.signal);
 
-  const files = await DemoFileSet.create(dir);
+  const files = DemoFileSet.create(dir);
   try {
     const counts = await writeChain(files, customers, seed, options);
-    await files.commit();
+    files.commit();
     return {
       dir,
       customers,
@@ -75,68 +75,59 @@ export async function generateDemoChain(options: DemoChainOptions): Promise<Demo
       >,
     };
   } catch (error) {
-    await files.discard();
+    files.discard();
     throw error;
   }
 }
 
+/** Lets the event loop run (progress events, an abort) between months of CPU-bound work. */
+const nextTurn = () => new Promise<void>((resolveTurn) => setImmediate(resolveTurn));
+
 async function writeChain(files: DemoFileSet, customers: number, seed: number, options: DemoChainOptions) {
   const atypical = chooseAtypical(customers, seed);
   const states: CustomerState[] = [];
-  let customerLines = 'customer_id,joined,marketing_consent,home_store\n';
-  let truthLines = 'customer_id,profile\n';
+  files.append('customers', 'customer_id,joined,marketing_consent,home_store\n');
+  files.append('truth', 'customer_id,profile\n');
   for (let index = 0; index < customers; index++) {
     const customer = drawCustomer(index, customers, seed, atypical.has(index));
     states.push({ customer, pendingRefunds: [] });
-    customerLines += `${customer.id},${isoDateOf(customer.joinedDay)},${customer.marketingConsent ? 'yes' : 'no'},${STORES[customer.homeStore].id}\n`;
-    truthLines += `${customer.id},${customer.truthProfile}\n`;
-    if (customerLines.length > 1 << 20) {
-      await files.write('customers', customerLines);
-      await files.write('truth', truthLines);
-      customerLines = '';
-      truthLines = '';
-    }
+    files.append(
+      'customers',
+      `${customer.id},${isoDateOf(customer.joinedDay)},${customer.marketingConsent ? 'yes' : 'no'},${STORES[customer.homeStore].id}\n`,
+    );
+    files.append('truth', `${customer.id},${customer.truthProfile}\n`);
   }
-  await files.write('customers', customerLines);
-  await files.write('truth', truthLines);
-  await files.write('stores', `store_id,name\n${STORES.map((store) => `${store.id},${store.name}\n`).join('')}`);
+  files.append('stores', `store_id,name\n${STORES.map((store) => `${store.id},${store.name}\n`).join('')}`);
 
-  await files.write('receipts', RECEIPTS_HEADER);
-  await files.write('visits', VISITS_HEADER);
+  files.append('receipts', RECEIPTS_HEADER);
+  files.append('visits', VISITS_HEADER);
   const events = new MonthEvents();
   let receipts = 0;
   let receiptRows = 0;
   let refunds = 0;
   let visits = 0;
   for (let m = 0; m < MONTHS.length; m++) {
+    await nextTurn();
     throwIfAborted(options.signal);
     const month = MONTHS[m];
     events.clear();
     for (let index = 0; index < customers; index++) drawCustomerMonth(states[index], index, month, events);
 
-    let receiptLines = '';
-    let visitLines = '';
     for (const e of events.timeOrder()) {
       const customerId = states[events.customer[e]].customer.id;
       const date = formatMinute(events.minute[e]);
       const storeId = STORES[events.store[e]].id;
-      visitLines += `${customerId},${date},${storeId},${events.online[e] ? 'online' : 'store'}\n`;
+      files.append('visits', `${customerId},${date},${storeId},${events.online[e] ? 'online' : 'store'}\n`);
       visits++;
       if (events.kind[e] === EVENT_NO_RECEIPT) continue;
       receipts++;
       if (events.rowCents[events.rowStart[e]] < 0) refunds++;
       const receiptPrefix = `R${String(receipts).padStart(7, '0')},${customerId},${storeId},${date},`;
       for (let row = events.rowStart[e]; row < events.rowEnd[e]; row++) {
-        receiptLines += `${receiptPrefix}${CATEGORIES[events.rowCategory[row]]},${formatCents(events.rowCents[row])}\n`;
+        files.append('receipts', `${receiptPrefix}${CATEGORIES[events.rowCategory[row]]},${formatCents(events.rowCents[row])}\n`);
         receiptRows++;
       }
-      if (receiptLines.length > 1 << 22) {
-        await files.write('receipts', receiptLines);
-        receiptLines = '';
-      }
     }
-    await files.write('receipts', receiptLines);
-    await files.write('visits', visitLines);
     options.onProgress?.({ month: month.label, monthsDone: m + 1, months: MONTHS.length, receipts });
   }
 
@@ -154,7 +145,7 @@ async function writeChain(files: DemoFileSet, customers: number, seed: number, o
     currency: 'EUR',
     note: 'truth.csv holds each customer\'s latent profile for tests only; the app never reads it.',
   };
-  await files.write('manifest', `${JSON.stringify(manifest, null, 2)}\n`);
+  files.append('manifest', `${JSON.stringify(manifest, null, 2)}\n`);
   return { receipts, receiptRows, refunds, visits };
 }
 

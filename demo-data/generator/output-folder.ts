@@ -1,5 +1,4 @@
-import { accessSync, constants, mkdirSync, readdirSync, statSync } from 'node:fs';
-import { open, rename, rm, type FileHandle } from 'node:fs/promises';
+import { accessSync, closeSync, constants, mkdirSync, openSync, readdirSync, renameSync, rmSync, statSync, writeSync } from 'node:fs';
 import { join, resolve } from 'node:path';
 import { InputError } from '../../src/errors.js';
 
@@ -15,6 +14,7 @@ export const DEMO_FILES = {
 export type DemoFileKind = keyof typeof DEMO_FILES;
 
 const PARTIAL_SUFFIX = '.partial';
+const FLUSH_CHARS = 1 << 16;
 const ownNames = new Set(Object.values(DEMO_FILES).flatMap((name) => [name, `${name}${PARTIAL_SUFFIX}`]));
 
 /**
@@ -65,20 +65,24 @@ function folderError(path: string, error: unknown): InputError {
 /**
  * The demo's output files, each written under a temporary name and renamed into place only when
  * all of them are complete, so a failed or cancelled run leaves an earlier demo untouched.
+ * Text is gathered in small pieces and written synchronously: short-lived strings stay cheap
+ * for the garbage collector, and the generator is CPU-bound anyway (it yields between months).
  */
 export class DemoFileSet {
-  private readonly handles = new Map<DemoFileKind, FileHandle>();
+  private readonly descriptors = new Map<DemoFileKind, number>();
+  private readonly pending = new Map<DemoFileKind, string>();
 
   private constructor(readonly folder: string) {}
 
-  static async create(folder: string): Promise<DemoFileSet> {
+  static create(folder: string): DemoFileSet {
     const files = new DemoFileSet(folder);
     try {
       for (const kind of Object.keys(DEMO_FILES) as DemoFileKind[]) {
-        files.handles.set(kind, await open(files.partialPath(kind), 'w'));
+        files.descriptors.set(kind, openSync(files.partialPath(kind), 'w'));
+        files.pending.set(kind, '');
       }
     } catch (error) {
-      await files.discard();
+      files.discard();
       throw folderError(folder, error);
     }
     return files;
@@ -88,22 +92,38 @@ export class DemoFileSet {
     return join(this.folder, DEMO_FILES[kind]);
   }
 
-  async write(kind: DemoFileKind, text: string): Promise<void> {
-    if (text.length > 0) await this.handles.get(kind)!.write(text);
+  /** Adds text to a file; it reaches the disk in pieces of about 64 KiB. */
+  append(kind: DemoFileKind, text: string): void {
+    const pending = this.pending.get(kind)! + text;
+    if (pending.length >= FLUSH_CHARS) {
+      writeSync(this.descriptors.get(kind)!, pending);
+      this.pending.set(kind, '');
+    } else {
+      this.pending.set(kind, pending);
+    }
   }
 
-  /** Closes every file and moves it into place. */
-  async commit(): Promise<void> {
-    for (const handle of this.handles.values()) await handle.close();
-    this.handles.clear();
-    for (const kind of Object.keys(DEMO_FILES) as DemoFileKind[]) await rename(this.partialPath(kind), this.path(kind));
+  /** Writes what is pending, closes every file and moves it into place. */
+  commit(): void {
+    for (const [kind, descriptor] of this.descriptors) {
+      writeSync(descriptor, this.pending.get(kind)!);
+      closeSync(descriptor);
+    }
+    this.descriptors.clear();
+    for (const kind of Object.keys(DEMO_FILES) as DemoFileKind[]) renameSync(this.partialPath(kind), this.path(kind));
   }
 
   /** Closes and removes the partial files; the folder is as it was. */
-  async discard(): Promise<void> {
-    for (const handle of this.handles.values()) await handle.close().catch(() => undefined);
-    this.handles.clear();
-    for (const kind of Object.keys(DEMO_FILES) as DemoFileKind[]) await rm(this.partialPath(kind), { force: true });
+  discard(): void {
+    for (const descriptor of this.descriptors.values()) {
+      try {
+        closeSync(descriptor);
+      } catch {
+        // already closed or never fully opened: nothing more to release
+      }
+    }
+    this.descriptors.clear();
+    for (const kind of Object.keys(DEMO_FILES) as DemoFileKind[]) rmSync(this.partialPath(kind), { force: true });
   }
 
   private partialPath(kind: DemoFileKind): string {
