@@ -1,0 +1,27 @@
+import { describe, expect, it } from 'vitest';
+import { fitMixture, modelFromJSON, modelToJSON, scoreRows } from '../../src/model/index.js';
+import { referenceData, sameBits } from './support.js';
+
+const iris = referenceData('iris'); // Fisher (1936), R's datasets::iris
+
+describe('model JSON', () => {
+  it('round-trips every number exactly, through text too', () => {
+    for (const covarianceType of ['full', 'diag', 'spherical', 'tied'] as const) {
+      const model = fitMixture(iris, { components: 3, covarianceType }).model;
+      const restored = modelFromJSON(JSON.parse(JSON.stringify(modelToJSON(model))));
+      expect(restored.covarianceType).toBe(covarianceType);
+      for (const key of ['weights', 'means', 'covariances', 'precisionCholesky'] as const) {
+        expect(sameBits(model[key], restored[key])).toBe(true);
+      }
+      expect(sameBits(scoreRows(model, iris).posteriors, scoreRows(restored, iris).posteriors)).toBe(true);
+    }
+  });
+
+  it('names what is wrong with a damaged model', () => {
+    const json = modelToJSON(fitMixture(iris, { components: 2, covarianceType: 'diag' }).model);
+    expect(() => modelFromJSON({ ...json, format: 'other' })).toThrow(/Not a Spendmix mixture model/);
+    expect(() => modelFromJSON({ ...json, covarianceType: 'round' })).toThrow(/unknown covariance type "round"/);
+    expect(() => modelFromJSON({ ...json, weights: [0.5] })).toThrow(/"weights" must be 2 finite numbers/);
+    expect(() => modelFromJSON({ ...json, means: [json.means[0], [1, 2, 'x', 4]] })).toThrow(/"means\[1\]"/);
+  });
+});
