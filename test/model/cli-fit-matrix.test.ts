@@ -1,0 +1,92 @@
+import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { fileURLToPath } from 'node:url';
+import { describe, expect, it } from 'vitest';
+import { runCli } from '../../src/cli/program.js';
+import { fitMixture } from '../../src/model/index.js';
+import { referenceData } from './support.js';
+
+const faithfulCsv = fileURLToPath(new URL('../reference/data/faithful.csv', import.meta.url)); // R's datasets::faithful
+const folder = mkdtempSync(join(tmpdir(), 'spendmix-fit-matrix-'));
+
+async function run(...argv: string[]): Promise<{ code: number; stdout: string; stderr: string }> {
+  let stdout = '';
+  let stderr = '';
+  const code = await runCli(argv, { stdout: (text) => (stdout += text), stderr: (text) => (stderr += text) });
+  return { code, stdout, stderr };
+}
+
+function file(name: string, text: string): string {
+  const path = join(folder, name);
+  writeFileSync(path, text);
+  return path;
+}
+
+describe('spendmix fit-matrix', () => {
+  it('prints the fit as one JSON object with the documented fields, equal to the engine', async () => {
+    const { code, stdout } = await run('fit-matrix', '--input', faithfulCsv, '--k', '2', '--covariance', 'full', '--seed', '4', '--json');
+    expect(code).toBe(0);
+    const result = JSON.parse(stdout);
+    expect(Object.keys(result)).toEqual(['n', 'd', 'k', 'covariance', 'logLikelihood', 'meanLogLikelihood', 'bic', 'aic', 'icl', 'weights', 'means', 'covariances', 'converged', 'iterations', 'seconds']);
+    const engine = fitMixture(referenceData('faithful'), { components: 2, covarianceType: 'full', seed: 4 });
+    expect(result).toMatchObject({ n: 272, d: 2, k: 2, covariance: 'full', logLikelihood: engine.logLikelihood, bic: engine.bic, icl: engine.icl });
+    expect(result.means).toEqual([Array.from(engine.model.means.subarray(0, 2)), Array.from(engine.model.means.subarray(2, 4))]);
+    expect(result.covariances[1][0][1]).toBe(engine.model.covariances[4 + 1]);
+    expect(result.seconds).toBeGreaterThan(0);
+  });
+
+  it('chooses k by BIC with --k auto and writes memberships', async () => {
+    const out = join(folder, 'memberships.csv');
+    const { code, stdout } = await run('fit-matrix', '--input', faithfulCsv, '--k', 'auto', '--k-max', '4', '--covariance', 'full', '--init', 'kmeans++', '--memberships', out, '--json');
+    expect(code).toBe(0);
+    expect(JSON.parse(stdout).k).toBe(2);
+    const lines = readFileSync(out, 'utf8').trim().split('\n');
+    expect(lines[0]).toBe('row,segment,posterior_1,posterior_2,confidence,margin,log_density');
+    expect(lines).toHaveLength(273);
+    for (const line of lines.slice(1)) {
+      const [, segment, first, second, confidence, margin] = line.split(',').map(Number);
+      expect(first + second).toBeCloseTo(1, 12);
+      expect(confidence).toBe(Math.max(first, second));
+      expect(margin).toBeCloseTo(Math.abs(first - second), 12);
+      expect(segment).toBe(first >= second ? 1 : 2);
+    }
+  });
+
+  it('leaves out text columns, reads ; delimited files with a BOM, and prints a human summary', async () => {
+    const path = file('labelled.csv', `\uFEFFid;x;y\n${Array.from({ length: 60 }, (_, i) => `c${i};${i % 2 ? i : -i};${(i * 7) % 11}`).join('\n')}\n`);
+    const { code, stdout } = await run('fit-matrix', '--input', path, '--k', '2', '--covariance', 'diag');
+    expect(code).toBe(0);
+    expect(stdout).toMatch(/Left out non-numeric column\(s\): id/);
+    expect(stdout).toMatch(/Fitted 2 diag component\(s\) to 60 rows × 2 columns/);
+  });
+
+  it('exits 2 with the row and column of a non-numeric cell', async () => {
+    const path = file('bad-cell.csv', 'a,b\n1,2\n3,4\n5,oops\n7,8\n');
+    const { code, stderr } = await run('fit-matrix', '--input', path, '--k', '1', '--covariance', 'full');
+    expect(code).toBe(2);
+    expect(stderr).toMatch(/Non-numeric value "oops" at row 3, column "b" \(column 2\)/);
+    const empty = file('empty-cell.csv', 'a,b\n1,2\n,4\n');
+    expect((await run('fit-matrix', '--input', empty, '--k', '1', '--covariance', 'full')).stderr).toMatch(/an empty cell at row 2, column "a"/);
+  });
+
+  it('exits 2 for an empty file, k < 1, an unknown structure, a missing file and missing options', async () => {
+    const empty = file('empty.csv', '');
+    const cases: [string[], RegExp][] = [
+      [['--input', empty, '--k', '2', '--covariance', 'full'], /is empty/],
+      [['--input', faithfulCsv, '--k', '0', '--covariance', 'full'], /--k must be at least 1/],
+      [['--input', faithfulCsv, '--k', 'two', '--covariance', 'full'], /--k must be a whole number ≥ 1 or "auto"/],
+      [['--input', faithfulCsv, '--k', '2', '--covariance', 'round'], /Unknown covariance structure "round"/],
+      [['--input', faithfulCsv, '--k', '2'], /needs --covariance/],
+      [['--input', join(folder, 'nowhere.csv'), '--k', '2', '--covariance', 'full'], /Cannot read --input/],
+      [['--input', faithfulCsv, '--k', '2', '--covariance', 'full', '--init', 'best'], /Unknown --init "best"/],
+      [['--input', faithfulCsv, '--k', '2', '--covariance', 'full', '--k-max', '4'], /--k-max applies only with --k auto/],
+      [['--input', faithfulCsv, '--k', '200', '--covariance', 'full'], /too few/],
+    ];
+    for (const [argv, message] of cases) {
+      const { code, stderr } = await run('fit-matrix', ...argv);
+      expect(code, argv.join(' ')).toBe(2);
+      expect(stderr).toMatch(message);
+    }
+  });
+});
