@@ -18,9 +18,9 @@ import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import ExcelJS from 'exceljs';
 import { exportSource } from '../../src/export/export-run.js';
-import { featureColumn } from '../../src/export/columns.js';
 import type { ExportCustomerRow, ExportSource } from '../../src/export/source.js';
 import { restartStream } from '../../src/model/random.js';
+import { defaultFeatureColumns, inventedRunHeader } from '../export/memory-source.js';
 
 const segmentNames = ['Tier 1 — highest spend', 'Tier 2', 'Tier 3', 'Tier 4 — lowest spend'];
 
@@ -56,22 +56,9 @@ function* syntheticCustomers(rows: number): Generator<ExportCustomerRow> {
 }
 
 function syntheticSource(rows: number): ExportSource {
-  const features = ['spend_per_month', 'visits_per_month', 'average_basket'].map(featureColumn);
+  const features = defaultFeatureColumns;
   return {
-    header: {
-      chain: 'Larkmoor Fresh Markets',
-      database: null,
-      runId: 1,
-      parentRunId: null,
-      createdAt: '2026-12-01T08:00:00.000Z',
-      asOf: '2026-11-30',
-      windowMonths: 12,
-      windowStart: '2025-12-01',
-      features: features.map((column) => ({ name: column.key, label: column.header, transform: 'log1p, z-scored' })),
-      model: [{ label: 'Segments (k)', value: 4, kind: 'count' }],
-      counts: { placed: rows, tooNew: 0, borderline: 0, atypical: 0 },
-      warnings: [],
-    },
+    header: inventedRunHeader({ placed: rows, tooNew: 0, borderline: 0, atypical: 0 }, null),
     segments: segmentNames.map((name) => ({ name, customers: rows / 4, share: 0.25, revenue: 0, revenueShare: 0.25, medians: {} })),
     medianColumns: features,
     customerFeatureColumns: features,

@@ -3,7 +3,7 @@
  * from them, optional review queue and movement. The rows are test inputs; what a test checks is
  * what an independent reader (openpyxl, csv-parse) finds in the written file.
  */
-import type { ExportCustomerRow, ExportMovement, ExportReviewRow, ExportSource } from '../../src/export/source.js';
+import type { ExportCustomerRow, ExportMovement, ExportReviewRow, ExportRunHeader, ExportSource, FeatureColumn } from '../../src/export/source.js';
 import { featureColumn } from '../../src/export/columns.js';
 
 export const segmentNames = ['Tier 1 — highest spend', 'Tier 2', 'Tier 3 — lowest spend'];
@@ -58,33 +58,44 @@ export interface MemorySourceParts {
   movement?: ExportMovement | null;
 }
 
+/** The default features of a run, as columns (spend per month, visit rate, basket size). */
+export const defaultFeatureColumns: FeatureColumn[] = ['spend_per_month', 'visits_per_month', 'average_basket'].map(featureColumn);
+
+/** A run header for an invented run 7 of the demo chain, with the given counts. */
+export function inventedRunHeader(counts: ExportRunHeader['counts'], parentRunId: number | null): ExportRunHeader {
+  return {
+    chain: 'Larkmoor Fresh Markets',
+    database: null,
+    runId: 7,
+    parentRunId,
+    createdAt: '2026-12-01T09:30:00.000Z',
+    asOf: '2026-11-30',
+    windowMonths: 12,
+    windowStart: '2025-12-01',
+    features: defaultFeatureColumns.map((column) => ({ name: column.key, label: column.header, transform: 'log1p, z-scored' })),
+    model: [
+      { label: 'Segments (k)', value: 3, kind: 'count' },
+      { label: 'Covariance structure', value: 'full' },
+    ],
+    counts,
+    warnings: [],
+  };
+}
+
 export function memorySource(parts: MemorySourceParts): ExportSource {
   const placed = parts.customers.filter((row) => !row.tooNew);
   const totalRevenue = placed.reduce((sum, row) => sum + row.revenue, 0);
-  const features = ['spend_per_month', 'visits_per_month', 'average_basket'].map(featureColumn);
+  const features = defaultFeatureColumns;
   return {
-    header: {
-      chain: 'Larkmoor Fresh Markets',
-      database: null,
-      runId: 7,
-      parentRunId: parts.movement ? parts.movement.parentRunId : null,
-      createdAt: '2026-12-01T09:30:00.000Z',
-      asOf: '2026-11-30',
-      windowMonths: 12,
-      windowStart: '2025-12-01',
-      features: features.map((column) => ({ name: column.key, label: column.header, transform: 'log1p, z-scored' })),
-      model: [
-        { label: 'Segments (k)', value: 3, kind: 'count' },
-        { label: 'Covariance structure', value: 'full' },
-      ],
-      counts: {
+    header: inventedRunHeader(
+      {
         placed: placed.length,
         tooNew: parts.customers.length - placed.length,
         borderline: placed.filter((row) => row.borderline).length,
         atypical: placed.filter((row) => row.atypical).length,
       },
-      warnings: [],
-    },
+      parts.movement ? parts.movement.parentRunId : null,
+    ),
     segments: segmentNames.map((name) => {
       const members = placed.filter((row) => row.modelSegmentName === name);
       const revenue = members.reduce((sum, row) => sum + row.revenue, 0);
