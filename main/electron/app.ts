@@ -5,7 +5,7 @@ import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import type { TaskStarted } from '../../src/api/contract.js';
 import { callApi } from '../../src/api/handlers.js';
-import { ApiSession } from '../../src/api/session.js';
+import { ApiSession, type SessionOptions } from '../../src/api/session.js';
 import { appOrigin, appScheme } from './channels.js';
 import { registerIpc, type IpcWiring } from './ipc.js';
 import { buildMenuTemplate } from './menu.js';
@@ -43,10 +43,14 @@ protocol.registerSchemesAsPrivileged([
  * application menu, the API over IPC, and on first start a database in the user's data folder
  * with the offer to load the demo chain.
  */
-export async function startElectronApp(paths: AppPaths = defaultAppPaths()): Promise<void> {
+export async function startElectronApp(
+  paths: AppPaths = defaultAppPaths(),
+  sessionOptions: Pick<SessionOptions, 'runLongTask'> = {},
+): Promise<{ session: ApiSession; window: BrowserWindowType; ipc: IpcWiring }> {
   await app.whenReady();
   const recent = new RecentDatabases(join(app.getPath('userData'), 'recent-databases.json'));
   const windows: BrowserWindowType[] = [];
+  // Assigned once the IPC is wired below; menu actions only run after that.
   let ipc: IpcWiring | undefined;
 
   const refreshMenu = () => {
@@ -64,6 +68,7 @@ export async function startElectronApp(paths: AppPaths = defaultAppPaths()): Pro
   const firstPath = recent.list().find((path) => existsSync(path)) ?? defaultDatabasePath();
   const isFirstStart = !existsSync(firstPath);
   const apiSession = new ApiSession({
+    ...sessionOptions,
     dbPath: firstPath,
     shell: 'electron',
     recentDatabases: () => recent.list(),
@@ -131,10 +136,13 @@ export async function startElectronApp(paths: AppPaths = defaultAppPaths()): Pro
 
   if (isFirstStart) await offerDemo(window, apiSession, ipc);
 
+
+  const wiring = ipc;
   app.on('window-all-closed', () => {
-    ipc?.dispose();
+    wiring.dispose();
     void apiSession.close().finally(() => app.quit());
   });
+  return { session: apiSession, window, ipc: wiring };
 }
 
 /** First start: a new, empty database; offer to fill it with the invented demo chain. */
