@@ -6,17 +6,18 @@
  *   npx tsx test/reference/compare-engine.ts
  */
 import { covarianceTypes } from '../../src/model/index.js';
-import { bicWinner, loadRecordedResults, parameterGap, readReferenceMatrix, sweepLikeRecorded } from './sklearn-reference.js';
+import { bicWinner, fitsLikeRecorded, loadRecordedResults, parameterGap, readReferenceMatrix, sweepLikeRecorded } from './sklearn-reference.js';
 
 const recorded = loadRecordedResults();
 const started = performance.now();
 console.log(`scikit-learn ${recorded.versions.sklearn}, numpy ${recorded.versions.numpy}; both: 10 starts, tol 1e-6, max 1000 iterations, reg 1e-6`);
 const fitLines = ['dataset   structure  k   p     ours log L   sklearn log L  (ours−sk)/|sk|  |Δweight|  |Δmean|/sd  |Δcov|/sd²'];
-const sweepLines = ['dataset   structure  winner ours/sk  BIC k=1..6'];
+const sweepLines = ['dataset   structure  winner ours/sk  BIC k=1..6 (ours: sweepMixtures on worker threads)'];
 for (const [name, dataset] of Object.entries(recorded.datasets)) {
   const { data } = readReferenceMatrix(dataset.file);
+  const sweep = await sweepLikeRecorded(data, recorded, dataset);
   for (const covarianceType of covarianceTypes) {
-    const fits = sweepLikeRecorded(data, covarianceType, recorded, dataset);
+    const fits = fitsLikeRecorded(data, covarianceType, recorded, dataset);
     for (const reference of dataset.fits.filter((fit) => fit.covariance === covarianceType)) {
       const ours = fits.get(reference.k)!;
       const relative = (ours.logLikelihood - reference.logLikelihood) / Math.abs(reference.logLikelihood);
@@ -37,7 +38,7 @@ for (const [name, dataset] of Object.entries(recorded.datasets)) {
       );
     }
     const reference = dataset.bicSweep.structures.find((entry) => entry.covariance === covarianceType)!;
-    const ourRows = dataset.bicSweep.ks.map((k) => ({ k, bic: fits.get(k)!.bic }));
+    const ourRows = sweep.table.filter((row) => row.covarianceType === covarianceType);
     sweepLines.push(`${name.padEnd(9)} ${covarianceType.padEnd(10)} ${bicWinner(ourRows)} / ${reference.winnerK}           ours ${ourRows.map((row) => row.bic.toFixed(2)).join(' ')}`);
     sweepLines.push(`${''.padEnd(37)}sk   ${reference.table.map((row) => row.bic.toFixed(2)).join(' ')}`);
   }

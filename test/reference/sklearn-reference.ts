@@ -5,7 +5,15 @@
  */
 import { createHash } from 'node:crypto';
 import { readFileSync } from 'node:fs';
-import { fitMixture, type CovarianceType, type DataMatrix, type FitResult } from '../../src/model/index.js';
+import {
+  covarianceTypes,
+  fitMixture,
+  sweepMixtures,
+  type CovarianceType,
+  type DataMatrix,
+  type FitResult,
+  type SweepResult,
+} from '../../src/model/index.js';
 import { componentsOf, matchComponents } from '../../src/model/matching.js';
 
 export interface RecordedFit {
@@ -131,12 +139,29 @@ export function parameterGap(ours: FitResult, recorded: RecordedFit): ParameterG
   return { ourComponentOf, weight, mean, covariance };
 }
 
-/** Our fits for every k of the recorded BIC sweep (k = 2, 3 among them), one structure. */
-export function sweepLikeRecorded(data: DataMatrix, covarianceType: CovarianceType, recorded: RecordedResults, dataset: RecordedDataset): Map<number, FitResult> {
+/** Our fits for the recorded k (2 and 3) of one structure, keyed by k. */
+export function fitsLikeRecorded(data: DataMatrix, covarianceType: CovarianceType, recorded: RecordedResults, dataset: RecordedDataset): Map<number, FitResult> {
   const fits = new Map<number, FitResult>();
-  const ks = new Set([...dataset.bicSweep.ks, ...dataset.fits.map((fit) => fit.k)]);
-  for (const k of [...ks].sort((a, b) => a - b)) fits.set(k, fitLikeRecorded(data, k, covarianceType, recorded.settings));
+  for (const fit of dataset.fits) {
+    if (fit.covariance === covarianceType) fits.set(fit.k, fitLikeRecorded(data, fit.k, covarianceType, recorded.settings));
+  }
   return fits;
+}
+
+/** Our sweep (worker threads) over the recorded range of k and all four structures, same settings. */
+export function sweepLikeRecorded(data: DataMatrix, recorded: RecordedResults, dataset: RecordedDataset): Promise<SweepResult> {
+  const ks = dataset.bicSweep.ks;
+  return sweepMixtures(data, {
+    componentRange: [Math.min(...ks), Math.max(...ks)],
+    covarianceTypes,
+    restarts: recorded.settings.n_init,
+    tol: recorded.settings.tol,
+    maxIterations: recorded.settings.max_iter,
+    regularization: recorded.settings.reg_covar,
+    seed: recorded.settings.random_state,
+    criterion: 'bic',
+    threads: 2,
+  });
 }
 
 /** The k with the lowest BIC (the first on ties, as Python's min does). */
