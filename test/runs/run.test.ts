@@ -1,0 +1,318 @@
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { isInputError } from '../../src/errors.js';
+import { transformValue, type FeatureTransform } from '../../src/features/transforms.js';
+import { adjustedRandIndex } from '../../src/model/agreement.js';
+import { modelFromJSON } from '../../src/model/serialize.js';
+import { scoreRows } from '../../src/model/score.js';
+import { decodeFloat64 } from '../../src/runs/blobs.js';
+import {
+  decideReview,
+  getBorderline,
+  getMemberships,
+  getMovement,
+  getReviewQueue,
+  getRunDetail,
+  getSweepTable,
+  iterateRunCustomers,
+  listRuns,
+  listSegments,
+  renameSegment,
+} from '../../src/runs/repository.js';
+import { runSegmentation } from '../../src/runs/run.js';
+import type { RunSettings, RunSummary } from '../../src/runs/types.js';
+import type { Database } from '../../src/store/database.js';
+import { demoDatabase, type DemoDatabase } from './demo-database.js';
+
+/**
+ * The monthly run on the invented demo chain (3,000 customers, generator seed 2026), checked
+ * against the generator's latent profiles (truth.csv) and against the stored numbers themselves.
+ * The generator has five spend profiles (demo-data/README.md), so the recovery runs use k = 5;
+ * diagonal covariance because the three default features are nearly collinear (spend per month ≈
+ * visits × basket), which full covariances fit as a thin direction rather than as the profiles.
+ */
+let demo: DemoDatabase;
+let db: Database;
+let october: RunSummary;
+let november: RunSummary;
+let octoberRescore: RunSummary;
+let movedCustomer: string;
+let moveTargetKey: string;
+let excludedCustomer: string;
+
+const base: RunSettings = { asOf: '2026-10-31', windowMonths: 12, mode: 'refit', k: 5, covariance: 'diag', parentRunId: null, seed: 3 };
+
+function labelsOf(runId: number): Map<string, number | null> {
+  const page = getMemberships(db, runId, { limit: 10_000 });
+  return new Map(page.items.map((item) => [item.customerId, item.segment]));
+}
+
+beforeAll(async () => {
+  demo = await demoDatabase(3000);
+  db = demo.db;
+  october = await runSegmentation(db, base);
+  // The analyst renames the top tier and decides on two queued customers before next month.
+  renameSegment(db, october.runId, listSegments(db, october.runId)[0].index, 'Premium baskets');
+  const queue = getReviewQueue(db, october.runId, { limit: 50 }).items.filter((item) => item.reasons.includes('borderline'));
+  movedCustomer = queue[0].customerId;
+  moveTargetKey = listSegments(db, october.runId).find((segment) => segment.index === queue[0].secondSegment)!.key;
+  decideReview(db, { runId: october.runId, customerId: movedCustomer, action: 'move', segment: queue[0].secondSegmentName!, note: 'buys for a café', reviewer: 'tester' });
+  excludedCustomer = queue[1].customerId;
+  decideReview(db, { runId: october.runId, customerId: excludedCustomer, action: 'exclude', reviewer: 'tester' });
+  november = await runSegmentation(db, { ...base, asOf: '2026-11-30', parentRunId: undefined });
+  octoberRescore = await runSegmentation(db, { ...base, mode: 'rescore', parentRunId: october.runId });
+});
+
+afterAll(() => demo?.close());
+
+describe('the run against the demo chain', () => {
+  it('recovers the latent profiles: adjusted Rand index ≥ 0.6 and the small high-value profile as its own segment', () => {
+    for (const run of [october, november]) {
+      const truthLabels: number[] = [];
+      const segmentLabels: number[] = [];
+      const profiles: string[] = [];
+      const premiumBySegment = new Map<number, number>();
+      const profileCounts = new Map<number, Map<string, number>>();
+      for (const [customerId, segment] of labelsOf(run.runId)) {
+        const profile = demo.truth.get(customerId)!;
+        // Lapsing and new customers have no spend profile of their own in the truth file.
+        if (segment === null || profile === 'lapsing' || profile === 'new') continue;
+        if (!profiles.includes(profile)) profiles.push(profile);
+        truthLabels.push(profiles.indexOf(profile));
+        segmentLabels.push(segment);
+        if (profile === 'premium') premiumBySegment.set(segment, (premiumBySegment.get(segment) ?? 0) + 1);
+        const counts = profileCounts.get(segment) ?? new Map<string, number>();
+        counts.set(profile, (counts.get(profile) ?? 0) + 1);
+        profileCounts.set(segment, counts);
+      }
+      const ari = adjustedRandIndex(Int32Array.from(truthLabels), Int32Array.from(segmentLabels));
+      console.log(`run ${run.runId} (as of ${run.runId === october.runId ? '2026-10-31' : '2026-11-30'}): ARI against truth.csv ${ari.toFixed(3)}`);
+      expect(ari).toBeGreaterThanOrEqual(0.6);
+      const premiumTotal = [...premiumBySegment.values()].reduce((a, b) => a + b, 0);
+      const [premiumSegment, premiumHere] = [...premiumBySegment.entries()].sort((a, b) => b[1] - a[1])[0];
+      expect(premiumHere / premiumTotal).toBeGreaterThanOrEqual(0.85);
+      const largestProfile = [...profileCounts.get(premiumSegment)!.entries()].sort((a, b) => b[1] - a[1])[0][0];
+      expect(largestProfile).toBe('premium');
+      // …and it is the highest-spend tier.
+      expect(listSegments(db, run.runId)[0].index).toBe(premiumSegment);
+    }
+  });
+
+  it('flags agree with the stored posteriors and densities for every customer', () => {
+    const detail = getRunDetail(db, november.runId);
+    const row = db.prepare('SELECT model, atypical_log_density_below AS cut FROM runs WHERE run_id = ?').get(november.runId) as { model: string; cut: number };
+    const model = modelFromJSON(JSON.parse(row.model));
+    const stored = db
+      .prepare('SELECT * FROM run_memberships WHERE run_id = ? AND too_new = 0 ORDER BY customer_id')
+      .all(november.runId) as Record<string, number & Buffer>[];
+    expect(stored.length).toBe(november.customers);
+    const d = detail.features.length;
+    const x = new Float64Array(stored.length * d);
+    stored.forEach((member, i) => {
+      const original = decodeFloat64(member.features as Buffer);
+      detail.features.forEach((name, j) => (x[i * d + j] = transformValue(name, detail.transforms[name] as FeatureTransform, original[j])));
+    });
+    const rescored = scoreRows(model, { values: x, rows: stored.length, cols: d });
+    let borderline = 0;
+    let atypical = 0;
+    stored.forEach((member, i) => {
+      const posteriors = decodeFloat64(member.posteriors as Buffer);
+      const order = Array.from(posteriors.keys()).sort((a, b) => posteriors[b] - posteriors[a]);
+      expect(member.segment_index).toBe(order[0]);
+      expect(member.second_index).toBe(order[1]);
+      expect(member.confidence).toBe(posteriors[order[0]]);
+      expect(member.margin).toBeCloseTo(posteriors[order[0]] - posteriors[order[1]], 14);
+      expect(member.second_probability).toBe(posteriors[order[1]]);
+      expect(member.log_density).toBeCloseTo(rescored.logDensity[i], 9);
+      expect(member.borderline).toBe(member.confidence < 0.7 || member.margin < 0.2 ? 1 : 0);
+      expect(member.atypical).toBe(member.log_density < row.cut ? 1 : 0);
+      borderline += member.borderline;
+      atypical += member.atypical;
+    });
+    expect(borderline).toBe(november.borderline);
+    expect(atypical).toBe(november.atypical);
+    // The 1st percentile: about 1% of placed customers are atypical.
+    expect(Math.abs(atypical - 0.01 * november.customers)).toBeLessThanOrEqual(2);
+  });
+
+  it('rescoring a run on its own month reproduces its labels exactly', () => {
+    const original = labelsOf(october.runId);
+    const rescored = labelsOf(octoberRescore.runId);
+    expect(rescored.size).toBe(original.size);
+    for (const [customerId, segment] of original) expect(rescored.get(customerId)).toBe(segment);
+    expect(octoberRescore.segments.map((s) => s.name)).toEqual(listSegments(db, october.runId).map((s) => s.name));
+    expect(octoberRescore.bic).toBeCloseTo(october.bic, 6);
+    expect(octoberRescore.stability).toBe(1);
+  });
+
+  it('the same settings and seed give the same run', async () => {
+    const again = await runSegmentation(db, base);
+    const first = labelsOf(october.runId);
+    for (const [customerId, segment] of labelsOf(again.runId)) expect(segment).toBe(first.get(customerId));
+    expect(again.bic).toBe(october.bic);
+  });
+
+  it('a refit on the next month keeps the names of matched segments, renames included', () => {
+    const before = new Map(listSegments(db, october.runId).map((segment) => [segment.key, segment.name]));
+    const after = listSegments(db, november.runId);
+    const matched = after.filter((segment) => segment.origin === 'matched');
+    expect(matched.length).toBeGreaterThanOrEqual(4);
+    for (const segment of matched) expect(segment.name).toBe(before.get(segment.key));
+    expect(after.map((segment) => segment.name)).toContain('Premium baskets');
+    expect(november.parentRunId).toBe(october.runId);
+  });
+
+  it('the movement matrix sums to the customers placed in both months', () => {
+    const movement = getMovement(db, november.runId)!;
+    const parent = labelsOf(october.runId);
+    const current = labelsOf(november.runId);
+    let common = 0;
+    let entered = 0;
+    for (const [customerId, segment] of current) {
+      if (segment === null) continue;
+      const before = parent.get(customerId);
+      if (before === undefined || before === null) entered++;
+      else common++;
+    }
+    const left = [...parent].filter(([customerId, segment]) => segment !== null && (current.get(customerId) ?? null) === null).length;
+    expect(movement.counts.flat().reduce((a, b) => a + b, 0)).toBe(common);
+    expect(movement.common).toBe(common);
+    expect(movement.entered).toBe(entered);
+    expect(movement.left).toBe(left);
+    expect(movement.parentSegments.map((s) => s.name)).toContain('Premium baskets');
+    expect(movement.adjustedRandIndex).toBeCloseTo(november.stability!, 12);
+    expect(november.stability!).toBeGreaterThan(0.5);
+  });
+
+  it('review decisions survive a refresh and change the final segment', () => {
+    const octoberMoved = getMemberships(db, october.runId, { flag: 'decided', limit: 10 }).items;
+    expect(octoberMoved.map((item) => item.customerId).sort()).toEqual([movedCustomer, excludedCustomer].sort());
+    const moved = octoberMoved.find((item) => item.customerId === movedCustomer)!;
+    expect(moved.finalSegment).not.toBe(moved.segment);
+    expect(moved.decision!.note).toBe('buys for a café');
+
+    const novemberDecided = new Map(getMemberships(db, november.runId, { flag: 'decided', limit: 10 }).items.map((item) => [item.customerId, item]));
+    const excluded = novemberDecided.get(excludedCustomer)!;
+    expect(excluded.excluded).toBe(true);
+    expect(excluded.decision!.carriedFromRunId).toBe(october.runId);
+    const carriedMove = novemberDecided.get(movedCustomer);
+    const targetInNovember = listSegments(db, november.runId).find((segment) => segment.key === moveTargetKey);
+    if (targetInNovember && carriedMove) {
+      expect(carriedMove.finalSegment).toBe(targetInNovember.index);
+      expect(carriedMove.finalSegmentName).toBe(targetInNovember.name);
+    }
+    // The export sees the same final segments.
+    const exported = [...iterateRunCustomers(db, november.runId)].find((row) => row.customerId === excludedCustomer)!;
+    expect(exported.excluded).toBe(true);
+    expect(exported.decision).toBe('exclude');
+  });
+});
+
+describe('reading a run', () => {
+  it('pages memberships with sorting and filters', () => {
+    const page = getMemberships(db, november.runId, { sort: 'revenue', descending: true, limit: 20, offset: 5 });
+    expect(page.items).toHaveLength(20);
+    expect(page.total).toBe(november.customers + november.tooNew);
+    const revenues = page.items.map((item) => item.revenue);
+    expect([...revenues].sort((a, b) => b - a)).toEqual(revenues);
+    const tooNew = getMemberships(db, november.runId, { flag: 'tooNew', limit: 5 });
+    expect(tooNew.total).toBe(november.tooNew);
+    expect(tooNew.items.every((item) => item.segment === null && item.tooNew)).toBe(true);
+    const segment = listSegments(db, november.runId)[2];
+    expect(getMemberships(db, november.runId, { segment: segment.index }).total).toBe(segment.customers);
+  });
+
+  it('lists borderline customers by spend at stake with a why in words, and the review queue with last month', () => {
+    const borderline = getBorderline(db, november.runId, { limit: 30 });
+    expect(borderline.total).toBe(november.borderline);
+    for (const item of borderline.items) {
+      expect(item.why.method).toBe('exact');
+      expect(item.why.text).toMatch(/fits|common segment|about equally/);
+    }
+    const queue = getReviewQueue(db, november.runId, { limit: 100 });
+    expect(queue.total).toBeGreaterThanOrEqual(november.borderline);
+    const stakes = queue.items.map((item) => item.revenue);
+    expect([...stakes].sort((a, b) => b - a)).toEqual(stakes);
+    expect(queue.items.some((item) => item.previousSegmentName !== null)).toBe(true);
+    expect(queue.items[0].featureComparison.map((row) => row.feature)).toEqual(['spend_per_month', 'visits_per_month', 'average_basket']);
+  });
+
+  it('streams every customer with consent and features in original units', () => {
+    const consent = new Map(
+      (db.prepare('SELECT customer_id, marketing_consent FROM customers').all() as { customer_id: string; marketing_consent: 0 | 1 | null }[]).map((row) => [
+        row.customer_id,
+        row.marketing_consent,
+      ]),
+    );
+    let count = 0;
+    for (const row of iterateRunCustomers(db, november.runId)) {
+      count++;
+      expect(row.marketingConsent).toBe(consent.get(row.customerId) ?? null);
+      if (!row.tooNew) expect(row.features.spend_per_month).toBeGreaterThanOrEqual(0);
+    }
+    expect(count).toBe(november.customers + november.tooNew);
+  });
+
+  it('chooses k and structure by BIC over a sweep and stores the table', async () => {
+    const swept = await runSegmentation(db, { ...base, k: 'auto', kMin: 2, kMax: 3, covariance: 'auto', restarts: 1 });
+    const table = getSweepTable(db, swept.runId);
+    expect(table).toHaveLength(8);
+    const best = table.reduce((a, b) => (b.bic < a.bic ? b : a));
+    expect([swept.k, swept.covariance]).toEqual([best.k, best.covarianceType]);
+    expect(swept.bic).toBeCloseTo(best.bic, 6);
+  });
+});
+
+describe('bad input stores nothing', () => {
+  async function refusal(settings: RunSettings): Promise<string> {
+    const runsBefore = listRuns(db).length;
+    const rowsBefore = db.prepare('SELECT count(*) FROM run_memberships').pluck().get();
+    try {
+      await runSegmentation(db, settings);
+    } catch (error) {
+      expect(isInputError(error)).toBe(true);
+      expect(listRuns(db).length).toBe(runsBefore);
+      expect(db.prepare('SELECT count(*) FROM run_memberships').pluck().get()).toBe(rowsBefore);
+      return (error as Error).message;
+    }
+    throw new Error('expected the run to be refused');
+  }
+
+  it('refuses an as-of date outside the data', async () => {
+    expect(await refusal({ ...base, asOf: '2027-03-31' })).toMatch(/outside the data, which runs from 2025-01-01 to 2026-11-30/);
+  });
+
+  it('refuses when nobody has enough history', async () => {
+    expect(await refusal({ ...base, minPurchases: 100_000 })).toMatch(/No customer has enough history/);
+  });
+
+  it('refuses k larger than the data allow', async () => {
+    db.exec("SAVEPOINT few_customers; DELETE FROM receipts WHERE customer_id > 'C00012'");
+    try {
+      expect(await refusal({ ...base, k: 20 })).toMatch(/k = 20 is too large for \d+ customers/);
+    } finally {
+      db.exec('ROLLBACK TO few_customers; RELEASE few_customers');
+    }
+  });
+
+  it('refuses a parent whose features the new data lack', async () => {
+    // A parent fitted on an imported feature table (kind `features`) that this month's receipts do not give.
+    db.exec(`SAVEPOINT imported;
+      INSERT INTO customer_features (customer_id, feature, value) SELECT customer_id, 'loyalty_points', length(customer_id) * (rowid % 97) FROM customers`);
+    try {
+      const imported = await runSegmentation(db, { ...base, source: 'imported', k: 2 });
+      expect(getRunDetail(db, imported.runId).features).toEqual(['loyalty_points']);
+      expect(await refusal({ ...base, asOf: '2026-11-30', parentRunId: imported.runId })).toMatch(
+        /uses the feature loyalty_points, which the new data does not have/,
+      );
+    } finally {
+      db.exec('ROLLBACK TO imported; RELEASE imported');
+    }
+  });
+
+  it('refuses a rescore without a parent and unknown settings', async () => {
+    expect(await refusal({ ...base, mode: 'rescore', parentRunId: null })).toMatch(/no earlier run/);
+    expect(await refusal({ ...base, features: ['shoe_size'] })).toMatch(/Unknown feature shoe_size/);
+    expect(await refusal({ ...base, asOf: '2026-02-30' })).toMatch(/calendar date/);
+    expect(await refusal({ ...base, parentRunId: 999 })).toMatch(/no run 999/);
+  });
+});
