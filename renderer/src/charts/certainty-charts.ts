@@ -24,6 +24,14 @@ export function confidenceOption(summary: CertaintySummary, borderlineConfidence
       {
         type: 'bar',
         barCategoryGap: '8%',
+        // Counts on the bars: one full bar can dwarf the rest, and small bars must stay readable.
+        label: {
+          show: true,
+          position: 'top',
+          color: ui.inkSoft,
+          fontSize: 11,
+          formatter: (params: { value: number }) => (params.value > 0 ? format.count(params.value) : ''),
+        },
         data: summary.confidenceHistogram.map((bin) => ({
           value: bin.customers,
           itemStyle: { color: bin.to <= borderlineConfidence + 1e-9 ? ui.warn : ui.accent },

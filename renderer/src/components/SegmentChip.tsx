@@ -7,7 +7,9 @@ export function SegmentChip({ segment, fallback = '—' }: { segment: SegmentPro
   return (
     <span className="chip">
       <span className="swatch" style={{ background: colourOf(segment) }} aria-hidden="true" />
-      {segment.name}
+      <span className="chip-name" title={segment.name}>
+        {segment.name}
+      </span>
     </span>
   );
 }

@@ -71,6 +71,11 @@ export function userLocale(): string | undefined {
   return browser?.language;
 }
 
+/** How an axis names a feature's unit: money says EUR, counts and rates need nothing beyond the label. */
+export function axisUnit(unit: string): string {
+  return unit.startsWith('EUR') ? ' (EUR)' : unit === 'share' ? ' (share)' : unit === 'days' || unit === 'months' ? ` (${unit})` : '';
+}
+
 /** "showing 5,000 of 1,000,000 customers", or "all 812 customers" when nothing was left out. */
 export function sampleCaption(shown: number, total: number, format: Formatters, noun = 'customers'): string {
   if (!Number.isInteger(shown) || !Number.isInteger(total) || shown < 0 || total < 0) {
@@ -78,14 +83,21 @@ export function sampleCaption(shown: number, total: number, format: Formatters, 
   }
   if (shown > total) throw new RangeError(`A sample cannot hold more than the whole (shown ${shown}, total ${total}).`);
   if (shown === total) return `all ${format.count(total)} ${noun}`;
-  return `showing ${format.count(shown)} of ${format.count(total)} ${noun} (random sample)`;
+  return `showing ${format.count(shown)} of ${format.count(total)} ${noun}`;
 }
 
-/** A feature value in its own unit, as the core labels it ('EUR', 'visits', 'days', 'months', 'share'). */
+/**
+ * A feature value in its own unit, as the core labels it ('EUR', 'EUR per month', 'visits per
+ * month', 'days', 'months', 'share', 'purchases', '' for unitless or imported features). The "per
+ * month" is left to the feature's label ("spend per month"), so cells stay short.
+ */
 export function formatInUnit(value: number, unit: string, format: Formatters): string {
   switch (unit) {
     case 'EUR':
+    case 'EUR per month':
       return Math.abs(value) < 100 ? format.eurosPrecise(value) : format.euros(value);
+    case 'visits per month':
+      return format.decimal(value, 1);
     case 'share':
       return format.percent(value);
     case 'days':

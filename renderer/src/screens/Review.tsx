@@ -132,7 +132,7 @@ function ReviewView({ runId }: { runId: number }) {
   const columns: Column<ReviewItem>[] = [
     { key: 'state', header: '', width: '1.2rem', render: (row) => (row.decision ? <span className="done-mark" aria-label="done">✓</span> : null) },
     { key: 'id', header: 'customer', width: '7rem', render: (row) => <code>{row.customerId}</code> },
-    { key: 'reason', header: 'reason', width: 'minmax(6rem, 0.8fr)', render: (row) => reasonsText(row) },
+    { key: 'reason', header: 'reason', width: 'minmax(9rem, 1fr)', render: (row) => reasonsText(row) },
     { key: 'stake', header: 'at stake', width: '6rem', align: 'right', render: (row) => format.euros(row.revenue) },
     { key: 'top', header: 'model says', width: 'minmax(8rem, 1.2fr)', render: (row) => <SegmentChip segment={byIndex.get(row.segment ?? -1)} fallback={row.segmentName ?? '—'} /> },
     { key: 'decision', header: 'decision', width: 'minmax(6rem, 1fr)', render: (row) => decisionText(row.decision) },

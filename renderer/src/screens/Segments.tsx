@@ -15,7 +15,7 @@ import { segmentIndex, useWorkspace } from '../app/workspace.js';
 import { colourOf, distributionOption, scatterOption } from '../charts/segment-charts.js';
 import { Chart } from '../components/Chart.js';
 import { ErrorNote, Loading } from '../components/Notice.js';
-import { formatInUnit, sampleCaption } from '../lib/format.js';
+import { axisUnit, formatInUnit, sampleCaption } from '../lib/format.js';
 import { toApiError } from '../lib/task-state.js';
 import { RunScreen } from './NoRun.js';
 
@@ -105,8 +105,7 @@ function SegmentsView({ runId }: { runId: number }) {
 
   const distributionChart = useMemo(() => {
     if (!distribution.data || !segments) return null;
-    const unit = distribution.data.unit;
-    return distributionOption(segments.segments, distribution.data, `${featureLabel(distribution.data.feature)}${unit ? ` (${unit})` : ''}`, format);
+    return distributionOption(segments.segments, distribution.data, `${featureLabel(distribution.data.feature)}${axisUnit(distribution.data.unit)}`, format);
   }, [distribution.data, segments, featureLabel, format]);
 
   return (
@@ -165,7 +164,7 @@ function SegmentsView({ runId }: { runId: number }) {
             <Chart option={distributionChart} label="Distribution of the chosen feature per segment" height={300} testId="segments-distribution" onPainted={() => notePainted('distribution')} />
             <p className="caption" data-testid="distribution-caption">
               {distribution.data ? `${capitalise(sampleCaption(distribution.data.customersUsed, distribution.data.totalCustomers, format))}, binned in the core. ` : ''}
-              Each line is a share of its own segment.
+              Each line is a share of its own segment; the first and last bins also hold the lowest and highest 1%.
             </p>
           </>
         ) : distribution.loading ? (
