@@ -45,7 +45,7 @@ afterAll(() => {
   rmSync(folder, { recursive: true, force: true });
 });
 
-function featuresOf(customerId: string) {
+function featuresOf(customerId: string): Record<string, number> | null {
   const table = computeReceiptFeatures(db, { asOf: '2026-11-30', windowMonths: 12, minPurchases: 2, minTenureMonths: 2 });
   const i = table.customerIds.indexOf(customerId);
   if (i < 0) return null;
