@@ -169,6 +169,9 @@ export function componentsOf(set: ComponentSet): GaussianComponent[] {
   if (!Number.isInteger(k) || k < 0 || !Number.isInteger(d) || d < 1) {
     throw new InputError(`A component set needs a whole number of components ≥ 0 and dimensions ≥ 1 (got ${k} and ${d}).`);
   }
+  if (!(means instanceof Float64Array) || !(covariances instanceof Float64Array)) {
+    throw new InputError('A component set needs its means and covariances as Float64Arrays.');
+  }
   if (means.length !== k * d || covariances.length !== k * d * d) {
     throw new InputError(
       `A component set of ${k} components in ${d} dimensions needs ${k * d} means and ${k * d * d} covariance entries (got ${means.length} and ${covariances.length}).`,

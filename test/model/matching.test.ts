@@ -334,6 +334,7 @@ describe('matchComponents', () => {
     const matching = matchComponents(componentsOf(set), componentsOf({ ...set, means: f64([5, 5, 0, 0]) }));
     expect(matching.pairs.map((pair) => pair.child)).toEqual([1, 0]);
     expect(() => componentsOf({ ...set, means: f64([0, 0, 5]) })).toThrow(/needs 4 means/);
+    expect(() => componentsOf({ ...set, means: [0, 0, 5, 5] as unknown as Float64Array })).toThrow(/Float64Arrays/);
   });
 
   it('names the offending component in its errors', () => {
