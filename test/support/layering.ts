@@ -20,6 +20,12 @@ export interface LayeringViolation {
 const codeExtensions = ['.ts', '.tsx', '.mts', '.cts', '.js', '.mjs', '.cjs', '.jsx'];
 const nodeBuiltins = new Set(builtinModules.flatMap((name) => [name, `node:${name}`]));
 
+/** Build-tool configs (vite.config.ts) run in Node at build time, not in the app: not layered. */
+function isLayeredCode(fileName: string): boolean {
+  if (fileName.endsWith('.d.ts') || /\.config\.[cm]?[jt]s$/.test(fileName)) return false;
+  return codeExtensions.some((ext) => fileName.endsWith(ext));
+}
+
 function listCodeFiles(folder: string): string[] {
   let entries: string[];
   try {
@@ -32,7 +38,7 @@ function listCodeFiles(folder: string): string[] {
     if (entry === 'node_modules' || entry === 'dist') continue;
     const path = join(folder, entry);
     if (statSync(path).isDirectory()) files.push(...listCodeFiles(path));
-    else if (codeExtensions.some((ext) => entry.endsWith(ext)) && !entry.endsWith('.d.ts')) files.push(path);
+    else if (isLayeredCode(entry)) files.push(path);
   }
   return files;
 }
