@@ -2,7 +2,7 @@ import iconv from 'iconv-lite';
 import { open } from 'node:fs/promises';
 import { throwIfAborted } from '../errors.js';
 import { CsvTokenizer, type CsvRecord } from './csv-tokenizer.js';
-import { READ_CHUNK_BYTES, type FileProbe, type TextEncoding } from './file-probe.js';
+import { completeUtf8Length, READ_CHUNK_BYTES, type FileProbe, type TextEncoding } from './file-probe.js';
 
 export const CANDIDATE_DELIMITERS = [',', ';', '\t', '|'] as const;
 
@@ -16,8 +16,30 @@ function makeDecoder(encoding: TextEncoding): TextDecoderLike {
     const decoder = iconv.getDecoder('win1252');
     return { write: (bytes) => decoder.write(bytes), end: () => decoder.end() ?? '' };
   }
+  if (encoding === 'utf-8') return utf8Decoder();
   const decoder = new TextDecoder(encoding, { ignoreBOM: true });
   return { write: (bytes) => decoder.decode(bytes, { stream: true }), end: () => decoder.decode() };
+}
+
+/**
+ * Buffer#toString is several times faster than TextDecoder here; a sequence cut by the chunk
+ * boundary is carried over to the next chunk.
+ */
+function utf8Decoder(): TextDecoderLike {
+  let carry: Buffer | undefined;
+  return {
+    write(bytes) {
+      const joined = carry ? Buffer.concat([carry, bytes]) : bytes;
+      const complete = completeUtf8Length(joined);
+      carry = complete < joined.length ? Buffer.from(joined.subarray(complete)) : undefined;
+      return joined.toString('utf8', 0, complete);
+    },
+    end() {
+      const rest = carry ? carry.toString('utf8') : '';
+      carry = undefined;
+      return rest;
+    },
+  };
 }
 
 /** Decodes the first `maxBytes` of the file (for sniffing and previews). */

@@ -19,7 +19,7 @@ export interface FileProbe {
   bomBytes: number;
 }
 
-export const READ_CHUNK_BYTES = 1 << 20;
+export const READ_CHUNK_BYTES = 1 << 18;
 
 /**
  * Reads the file once: content hash, format (XLSX by its zip signature, else text), and for text
@@ -84,7 +84,7 @@ export async function probeFile(path: string, signal?: AbortSignal, onBytes?: (b
 }
 
 /** Length of the prefix that does not end inside a multi-byte UTF-8 sequence. */
-function completeUtf8Length(buffer: Buffer): number {
+export function completeUtf8Length(buffer: Buffer): number {
   const end = buffer.length;
   for (let back = 1; back <= Math.min(3, end); back += 1) {
     const byte = buffer[end - back];

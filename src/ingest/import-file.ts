@@ -22,8 +22,9 @@ import {
 } from '../store/imports-repo.js';
 import type { CsvRecord } from './csv-tokenizer.js';
 import { probeFile } from './file-probe.js';
+import { maxRowId, receiptAmountAfter, suspendSecondaryIndexes, useBulkLoadSettings } from '../store/secondary-indexes.js';
 import { ImportReport } from './import-report.js';
-import { resolveMapping, type ColumnMapping } from './mapping.js';
+import { resolveMapping, type ColumnMapping, type ResolvedMapping } from './mapping.js';
 import { openRecordSource } from './record-source.js';
 import { isRowRejection, makeRowConverter } from './row-converters.js';
 import { DATE_FORMATS, type DateFormat } from './values.js';
@@ -43,7 +44,14 @@ export interface ImportOptions {
   reportDir?: string;
 }
 
-export type ImportPhase = 'checking' | 'reading' | 'committing' | 'done';
+export type ImportPhase = 'checking' | 'reading' | 'indexing' | 'committing' | 'done';
+
+/**
+ * A load this large (estimated rows), and at least a quarter of the rows already there, drops the
+ * table's non-unique indexes and rebuilds them once at the end (sorting beats random inserts).
+ */
+const BULK_LOAD_MIN_ROWS = 100_000;
+const BULK_LOAD_MIN_SHARE = 0.25;
 
 export interface ImportProgress {
   phase: ImportPhase;
@@ -104,16 +112,16 @@ function reportPathFor(db: Database, request: ImportRequest): string {
   return join(folder, `${base}.import-${stamp}-${basename(request.path).replace(/[^\w.-]+/g, '_')}.report.csv`);
 }
 
-function writerFor(db: Database, kind: ImportKind, importId: number, featureNames: string[]): BulkWriter {
+function writerFor(db: Database, kind: ImportKind, importId: number, resolved: ResolvedMapping): BulkWriter {
   switch (kind) {
     case 'receipts':
-      return receiptWriter(db, importId);
+      return receiptWriter(db, importId, resolved.fieldIndex.has('items'));
     case 'visits':
       return visitWriter(db, importId);
     case 'customers':
       return customerWriter(db, importId);
     case 'features':
-      return featureWriter(db, importId, featureNames);
+      return featureWriter(db, importId, resolved.featureColumns.map(([, name]) => name));
   }
 }
 
@@ -186,6 +194,7 @@ export async function importFile(db: Database, request: ImportRequest): Promise<
     report.discard();
     throw asDatabaseInputError(db.name, error);
   }
+  const restoreSettings = useBulkLoadSettings(db);
   try {
     let importId: number;
     try {
@@ -210,10 +219,14 @@ export async function importFile(db: Database, request: ImportRequest): Promise<
       }
       throw error;
     }
-    const writer = writerFor(db, kind, importId, resolved.featureColumns.map(([, name]) => name));
+    const writer = writerFor(db, kind, importId, resolved);
     const storeIndex = STORE_VALUE_INDEX[kind];
     const knownStores = storeIndex >= 0 ? knownStoreIds(db) : new Set<string>();
     const newStores = new Set<string>();
+    const table = kind === 'receipts' || kind === 'visits' ? kind : undefined;
+    const rowIdBefore = table ? maxRowId(db, table) : 0;
+    let restoreIndexes: (() => void) | undefined;
+    let firstBatch = true;
     let rowsRead = 0;
     const padded = (record: CsvRecord): string[] | undefined => {
       const fields = record.fields;
@@ -223,6 +236,13 @@ export async function importFile(db: Database, request: ImportRequest): Promise<
     };
     for await (const batch of source.batches) {
       throwIfAborted(signal);
+      if (firstBatch && table && bytesRead > 0) {
+        const estimatedRows = (batch.length * probe.bytes) / bytesRead;
+        if (estimatedRows >= BULK_LOAD_MIN_ROWS && estimatedRows >= BULK_LOAD_MIN_SHARE * rowIdBefore) {
+          restoreIndexes = suspendSecondaryIndexes(db, table);
+        }
+      }
+      firstBatch = false;
       for (const record of batch) {
         rowsRead += 1;
         if (record.malformed) {
@@ -268,8 +288,14 @@ export async function importFile(db: Database, request: ImportRequest): Promise<
         { rowsRead, rowsRejected, report: reportPath },
       );
     }
+    if (restoreIndexes) {
+      progress('indexing', rowsRead, bytesRead);
+      restoreIndexes();
+      throwIfAborted(signal);
+    }
     progress('committing', rowsRead, bytesRead);
     recordStoreIds(db, newStores);
+    const amountCents = kind === 'receipts' ? receiptAmountAfter(db, rowIdBefore) : null;
     const reportPath = report.finish();
     const result: ImportResult = {
       file,
@@ -279,7 +305,7 @@ export async function importFile(db: Database, request: ImportRequest): Promise<
       rowsRejected,
       duplicatesSkipped: writer.rowsAdded - writer.rowsWritten,
       alreadyImported: false,
-      amountTotal: kind === 'receipts' ? writer.amountWrittenCents / 100 : null,
+      amountTotal: amountCents === null ? null : amountCents / 100,
       report: reportPath,
     };
     finishImport(db, importId, {
@@ -287,7 +313,7 @@ export async function importFile(db: Database, request: ImportRequest): Promise<
       rowsImported: result.rowsImported,
       rowsRejected,
       duplicatesSkipped: result.duplicatesSkipped,
-      amountTotalCents: kind === 'receipts' ? writer.amountWrittenCents : null,
+      amountTotalCents: amountCents,
       reportPath,
     });
     saveMapping(db, kind, resolved.mapping);
@@ -299,5 +325,7 @@ export async function importFile(db: Database, request: ImportRequest): Promise<
     if (!(error instanceof InputError && error.details?.report)) report.discard();
     if (error instanceof CancelledError || error instanceof InputError) throw error;
     throw asDatabaseInputError(db.name, error);
+  } finally {
+    restoreSettings();
   }
 }

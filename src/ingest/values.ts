@@ -34,6 +34,38 @@ function digitsAt(text: string, start: number, count: number): number {
   return value;
 }
 
+let cachedDateKey = -1;
+let cachedDay = 0;
+
+/**
+ * The shape nearly every export uses, `YYYY-MM-DD` or `YYYY-MM-DDTHH:MM:SS` (or a space for T),
+ * parsed without regular expressions or allocation beyond the time slice; anything else
+ * (undefined) goes to the general parser. The day number of the last date is remembered.
+ */
+function parseIsoDateTimeFast(text: string): ParsedDate | undefined {
+  const length = text.length;
+  if ((length !== 10 && length !== 19) || text.charCodeAt(4) !== 45 || text.charCodeAt(7) !== 45) return undefined;
+  const year = digitsAt(text, 0, 4);
+  const month = digitsAt(text, 5, 2);
+  const dayOfMonth = digitsAt(text, 8, 2);
+  if (year < 0 || month < 0 || dayOfMonth < 0) return undefined;
+  const key = year * 10000 + month * 100 + dayOfMonth;
+  if (key !== cachedDateKey) {
+    const day = dayFromParts(year, month, dayOfMonth);
+    if (day === undefined) return undefined;
+    cachedDateKey = key;
+    cachedDay = day;
+  }
+  if (length === 10) return { day: cachedDay, time: null };
+  const separator = text.charCodeAt(10);
+  if ((separator !== 84 && separator !== 32) || text.charCodeAt(13) !== 58 || text.charCodeAt(16) !== 58) return undefined;
+  const hours = digitsAt(text, 11, 2);
+  const minutes = digitsAt(text, 14, 2);
+  const seconds = digitsAt(text, 17, 2);
+  if (hours < 0 || hours > 23 || minutes < 0 || minutes > 59 || seconds < 0 || seconds > 59) return undefined;
+  return { day: cachedDay, time: text.slice(11, 19) };
+}
+
 const TIME = /^(\d{1,2}):(\d{2})(?::(\d{2})(?:[.,]\d+)?)?(?:\s*(?:Z|[+-]\d{2}:?\d{2}))?$/;
 
 function parseTime(text: string): string | Rejection {
@@ -54,6 +86,8 @@ const SLASHED = /^(\d{1,2})[/.-](\d{1,2})[/.-](\d{4})$/;
  * `DD/MM/YYYY` or `MM/DD/YYYY` (separators / . -) only with the matching explicit format.
  */
 export function parseDateTime(raw: string, format: DateFormat): ParsedDate | Rejection {
+  const fast = parseIsoDateTimeFast(raw);
+  if (fast !== undefined) return fast;
   const text = raw.trim();
   if (text.length === 0) return { reason: 'date is empty' };
   if (text.length >= 10 && text.charCodeAt(4) === 45 && text.charCodeAt(7) === 45) {
@@ -94,6 +128,8 @@ export function parseDateTime(raw: string, format: DateFormat): ParsedDate | Rej
  * decimals are accepted only when the extra digits are zeros.
  */
 export function parseAmountCents(raw: string, decimalComma: boolean): number | Rejection {
+  const fast = parsePlainAmountFast(raw, decimalComma ? 44 : 46);
+  if (fast !== undefined) return fast;
   let text = raw.trim();
   if (text.length === 0) return { reason: 'amount is empty' };
   let negative = false;
@@ -161,7 +197,48 @@ export function parseAmountCents(raw: string, decimalComma: boolean): number | R
   if (fractionDigits === 1) cents *= 10;
   const total = units * 100 + cents;
   if (!Number.isSafeInteger(total) || total > 1e13) return { reason: 'amount is out of range' };
-  return negative ? -total : total;
+  return negative && total !== 0 ? -total : total;
+}
+
+/**
+ * `-?digits(.d|.dd)?` with the chosen decimal mark, the common case, in one pass; anything else
+ * (undefined) goes to the general parser.
+ */
+function parsePlainAmountFast(text: string, decimalMark: number): number | undefined {
+  const length = text.length;
+  if (length === 0 || length > 14) return undefined;
+  let index = 0;
+  let negative = false;
+  if (text.charCodeAt(0) === 45) {
+    negative = true;
+    index = 1;
+  }
+  let units = 0;
+  let digits = 0;
+  for (; index < length; index += 1) {
+    const digit = text.charCodeAt(index) - DIGIT_0;
+    if (digit < 0 || digit > 9) break;
+    units = units * 10 + digit;
+    digits += 1;
+  }
+  if (digits === 0) return undefined;
+  let cents = 0;
+  if (index < length) {
+    if (text.charCodeAt(index) !== decimalMark) return undefined;
+    const fraction = length - index - 1;
+    if (fraction === 1) {
+      const digit = text.charCodeAt(index + 1) - DIGIT_0;
+      if (digit < 0 || digit > 9) return undefined;
+      cents = digit * 10;
+    } else if (fraction === 2) {
+      const tens = text.charCodeAt(index + 1) - DIGIT_0;
+      const ones = text.charCodeAt(index + 2) - DIGIT_0;
+      if (tens < 0 || tens > 9 || ones < 0 || ones > 9) return undefined;
+      cents = tens * 10 + ones;
+    } else return undefined;
+  }
+  const total = units * 100 + cents;
+  return negative && total !== 0 ? -total : total;
 }
 
 /** Whole number (items on a receipt); a refund line may carry a negative count. */

@@ -1,6 +1,7 @@
 import type { Migration } from './migration-types.js';
 import { coreTables } from './migrations/001-core-tables.js';
 import { runTables } from './migrations/002-runs.js';
+import { runSamples } from './migrations/003-run-samples.js';
 
 export type { Migration } from './migration-types.js';
 
@@ -11,6 +12,7 @@ export type { Migration } from './migration-types.js';
 export const migrations: readonly Migration[] = [
   coreTables,
   runTables,
+  runSamples,
 ];
 
 export const CURRENT_SCHEMA_VERSION = migrations.length;

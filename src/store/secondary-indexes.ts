@@ -1,0 +1,46 @@
+import type { Database } from 'better-sqlite3';
+
+/**
+ * Bulk-load helper: drops a table's non-unique indexes and returns a function that recreates
+ * them from their stored definitions. Building an index once by sorting is far cheaper than
+ * inserting millions of random keys into it; unique indexes stay, they do the de-duplication.
+ * Call inside the load's transaction so a failure or kill restores the indexes with the rows.
+ */
+export function suspendSecondaryIndexes(db: Database, table: string): () => void {
+  const indexes = db
+    .prepare(
+      `SELECT il.name AS name, m.sql AS sql FROM pragma_index_list(?) AS il
+       JOIN sqlite_master AS m ON m.type = 'index' AND m.name = il.name
+       WHERE il."unique" = 0 AND m.sql IS NOT NULL`,
+    )
+    .all(table) as Array<{ name: string; sql: string }>;
+  for (const index of indexes) db.exec(`DROP INDEX "${index.name.replace(/"/g, '""')}"`);
+  return () => {
+    for (const index of indexes) db.exec(index.sql);
+  };
+}
+
+/** Highest row id of a table: a cheap stand-in for its size (and the boundary of rows added after). */
+export function maxRowId(db: Database, table: 'receipts' | 'visits'): number {
+  return (db.prepare(`SELECT coalesce(max(row_id), 0) FROM ${table}`).pluck().get() as number) ?? 0;
+}
+
+/** Sum of receipt amounts (cents) of rows added after `afterRowId`: a range scan over the new rows only. */
+export function receiptAmountAfter(db: Database, afterRowId: number): number {
+  return db.prepare('SELECT coalesce(sum(amount_cents), 0) FROM receipts WHERE row_id > ?').pluck().get(afterRowId) as number;
+}
+
+/**
+ * Settings for the length of one large load: a 64 MB page cache (keeps the unique indexes' hot
+ * pages and lets index builds sort in memory) and two sorter threads. Returns the restore function.
+ */
+export function useBulkLoadSettings(db: Database): () => void {
+  const cacheSize = db.pragma('cache_size', { simple: true }) as number;
+  const threads = db.pragma('threads', { simple: true }) as number;
+  db.pragma('cache_size = -65536');
+  db.pragma('threads = 2');
+  return () => {
+    db.pragma(`cache_size = ${Number(cacheSize)}`);
+    db.pragma(`threads = ${Number(threads)}`);
+  };
+}
