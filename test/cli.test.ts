@@ -76,7 +76,8 @@ describe('CLI conventions (DESIGN.md §10): demo --out', () => {
   });
 
   it.each([
-    [['--customers', '0'], /--customers must be a whole number from 1 to 1000000; got "0"/],
+    [['--customers', '0'], /--customers must be a whole number from 1 to 200000; got "0"/],
+    [['--customers', '200001'], /--customers must be a whole number from 1 to 200000; got "200001"/],
     [['--customers', 'many'], /--customers must be a whole number/],
     [['--customers', '1.5'], /--customers must be a whole number/],
     [['--seed', '-3'], /--seed must be a whole number from 0/],

@@ -7,7 +7,8 @@ import { DEMO_FILES, DemoFileSet, prepareOutputFolder, type DemoFileKind } from 
 
 export const DEFAULT_CUSTOMERS = 6000;
 export const DEFAULT_SEED = 2026;
-export const MAX_CUSTOMERS = 1_000_000;
+/** A demo, not a load test: 200,000 customers is about 2 GB of CSV (the app's API caps it there too). */
+export const MAX_CUSTOMERS = 200_000;
 /** Bump when the generator's output changes for the same seed (the committed sample with it). */
 export const GENERATOR_VERSION = 1;
 
