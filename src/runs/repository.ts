@@ -209,12 +209,19 @@ function toMembership(row: MembershipRow, context: RunContext): Membership {
 export function listRuns(db: Database): RunListItem[] {
   const rows = db.prepare('SELECT * FROM runs ORDER BY run_id DESC').all() as RunRow[];
   return rows.map((row) => ({
-    runId: row.run_id,
-    parentRunId: row.parent_run_id,
+    ...runNumbers(row),
     createdAt: row.created_at,
     asOf: row.as_of,
     windowMonths: row.window_months,
     mode: row.mode,
+  }));
+}
+
+/** The numbers every view of a run shows (RunSummary without its segment table). */
+function runNumbers(row: RunRow): Omit<RunSummary, 'segments'> {
+  return {
+    runId: row.run_id,
+    parentRunId: row.parent_run_id,
     k: row.k,
     covariance: row.covariance,
     bic: row.bic,
@@ -223,7 +230,7 @@ export function listRuns(db: Database): RunListItem[] {
     borderline: row.borderline,
     atypical: row.atypical,
     stability: row.stability,
-  }));
+  };
 }
 
 export function resolveRunId(db: Database, run: number | 'latest'): number {
@@ -241,20 +248,14 @@ export function getRunSummary(db: Database, runId: number): RunSummary {
 }
 
 function summaryOf(row: RunRow, segments: SegmentRow[]): RunSummary {
+  // Key order as DESIGN.md §10 prints it: segments before stability.
+  const { stability, ...numbers } = runNumbers(row);
   return {
-    runId: row.run_id,
-    parentRunId: row.parent_run_id,
-    k: row.k,
-    covariance: row.covariance,
-    bic: row.bic,
-    customers: row.customers,
-    tooNew: row.too_new,
-    borderline: row.borderline,
-    atypical: row.atypical,
+    ...numbers,
     segments: [...segments]
       .sort((a, b) => a.spend_rank - b.spend_rank)
       .map((segment) => ({ name: segment.name, customers: segment.customers, share: segment.share, revenueShare: segment.revenue_share })),
-    stability: row.stability,
+    stability,
   };
 }
 

@@ -94,22 +94,12 @@ export interface RunSummary {
   stability: number | null;
 }
 
-/** One row of the runs list. */
-export interface RunListItem {
-  runId: number;
-  parentRunId: number | null;
+/** One row of the runs list: the summary's numbers without the segment table, plus when and how. */
+export interface RunListItem extends Omit<RunSummary, 'segments'> {
   createdAt: string;
   asOf: string;
   windowMonths: number;
   mode: RefreshMode;
-  k: number;
-  covariance: CovarianceType;
-  bic: number;
-  customers: number;
-  tooNew: number;
-  borderline: number;
-  atypical: number;
-  stability: number | null;
 }
 
 /** Median and quartiles of one feature over a segment's members, in original units. */
