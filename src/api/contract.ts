@@ -43,7 +43,11 @@ export interface FeatureTransformSpec {
 export const reviewActions = ['keep', 'move', 'exclude'] as const;
 export type ReviewAction = (typeof reviewActions)[number];
 
-/** A column mapping: for each of the file's columns used, the field it supplies (column → field), as `--map col=field`. */
+/**
+ * A column mapping as the screens hold it: for each field, the file's column that supplies it
+ * (field → column; one choice per field). The handlers turn it into the importer's column → field
+ * form (`--map col=field`) and back.
+ */
 const columnMapping = z.record(z.string(), z.string());
 export type ColumnMapping = Record<string, string>;
 
@@ -627,7 +631,8 @@ export interface ExportResult {
 }
 
 export const loadDemoInput = z.strictObject({
-  customers: z.number().int().min(50).max(200000).default(6000),
+  /** Absent = the session's demo size (6,000 customers unless the host was started with another). */
+  customers: z.number().int().min(50).max(200000).optional(),
   seed: z.number().int().min(0).default(1),
 });
 /** Exactly the `demo --db --json` object of DESIGN.md §10. */

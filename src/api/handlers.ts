@@ -18,6 +18,7 @@ import {
   listRuns,
   renameSegment,
 } from '../runs/repository.js';
+import { toCoreMapping, toScreenMapping } from './mapping-direction.js';
 import { importReportPage, previewFile } from './preview.js';
 import {
   certaintyView,
@@ -112,9 +113,12 @@ export const handlers = {
       amountTotal: record.amountTotalCents === null ? null : record.amountTotalCents / 100,
       reportPath: record.reportPath,
       importedAt: record.importedAt,
-      mapping: record.mapping,
+      mapping: toScreenMapping(record.mapping),
     })),
-  savedMapping: (session, input) => ({ kind: input.kind, mapping: savedMapping(session.db(), input.kind) ?? null }),
+  savedMapping: (session, input) => {
+    const saved = savedMapping(session.db(), input.kind);
+    return { kind: input.kind, mapping: saved ? toScreenMapping(saved) : null };
+  },
   modelOptions: (session) => {
     const range = dataRange(session.db());
     const features: FeatureOption[] = computedFeatureNames.map((name) => {
@@ -139,7 +143,14 @@ export const handlers = {
     const asOf = range ? isoDateFromDay(range.lastDay) : new Date().toISOString().slice(0, 10);
     return { features, covarianceTypes: [...covarianceTypes], defaults: startRunInput.parse({ asOf }) };
   },
-  previewFile: (session, input) => previewFile(session.db(), { ...input, path: requireReadableFile(input.path) }),
+  previewFile: async (session, input) => {
+    const preview = await previewFile(session.db(), {
+      ...input,
+      path: requireReadableFile(input.path),
+      mapping: input.mapping ? toCoreMapping(input.mapping) : undefined,
+    });
+    return { ...preview, mapping: toScreenMapping(preview.mapping) };
+  },
   importReport: (session, input) => {
     const record = listImports(session.db()).find((entry) => entry.importId === input.importId);
     if (!record) throw new InputError(`There is no import ${input.importId} in this database.`);
@@ -216,10 +227,15 @@ export const handlers = {
     return segmentProfileView(session.db(), input.runId, input.segment);
   },
   movement: (session, input) => movementView(session.db(), input.runId),
-  importFile: (session, input) => session.startTask('importFile', { ...input, path: requireReadableFile(input.path) }),
+  importFile: (session, input) =>
+    session.startTask('importFile', {
+      ...input,
+      path: requireReadableFile(input.path),
+      mapping: input.mapping ? toCoreMapping(input.mapping) : undefined,
+    }),
   startRun: (session, input) => session.startTask('startRun', input),
   exportRun: (session, input) => session.startTask('exportRun', { ...input, out: requireWritableTarget(input.out) }),
-  loadDemo: (session, input) => session.startTask('loadDemo', input),
+  loadDemo: (session, input) => session.startTask('loadDemo', { ...input, customers: input.customers ?? session.demoCustomers }),
   cancelTask: (session, input) => session.tasks.cancel(input.taskId),
   taskStatus: (session, input) => session.tasks.status(input.taskId),
 } satisfies HandlerMap;

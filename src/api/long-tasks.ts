@@ -1,7 +1,7 @@
 import { mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { generateDemoChain } from '../../demo-data/generator/index.js';
+import { DEFAULT_CUSTOMERS, generateDemoChain } from '../../demo-data/generator/index.js';
 import { exportRun } from '../export/export-run.js';
 import { importFile } from '../ingest/import-file.js';
 import { runSegmentation } from '../runs/run.js';
@@ -35,6 +35,7 @@ export function toCoreRunSettings(input: ApiParsedInput<'startRun'>): CoreRunSet
   };
 }
 
+/** Imports one file; `input.mapping` is already in the importer's column → field form (see handlers). */
 async function importOne(
   db: Database,
   input: ApiParsedInput<'importFile'>,
@@ -83,7 +84,7 @@ async function loadDemo(db: Database, dbPath: string, input: ApiParsedInput<'loa
   try {
     const chain = await generateDemoChain({
       outDir: scratch,
-      customers: input.customers,
+      customers: input.customers ?? DEFAULT_CUSTOMERS,
       seed: input.seed,
       signal: context.signal,
       onProgress: (progress) =>

@@ -4,6 +4,7 @@ import { transformValue, type FeatureTransform } from '../features/transforms.js
 import { modelFromJSON } from '../model/serialize.js';
 import type { MixtureModel } from '../model/types.js';
 import { decodeFloat64 } from '../runs/blobs.js';
+import { DISPLAY_SAMPLE_SIZE } from '../runs/display-sample.js';
 import { computeFlags } from '../runs/flags.js';
 import { getMovement, getReviewQueue, getRunDetail, listSegments } from '../runs/repository.js';
 import type { RunDetail as CoreRunDetail, SegmentProfile as CoreSegmentProfile } from '../runs/types.js';
@@ -247,24 +248,38 @@ export function certaintyView(db: Database, input: ApiParsedInput<'certainty'>):
  * spend, so every segment is represented in proportion). SQLite numbers the rows and keeps every
  * step-th; only the sampled rows' feature BLOBs are read, so the cost barely grows with the run.
  */
+/** Placed customers of a run (stored with the run, so no scan of its memberships). */
+function placedCustomers(db: Database, runId: number): number {
+  return db.prepare('SELECT customers FROM runs WHERE run_id = ?').pluck().get(runId) as number;
+}
+
+/**
+ * Up to `limit` rows of the run's display sample (src/runs/display-sample.ts): positions from
+ * `start` on, wrapping round. Reads at most the sample (20,000 rows), whatever the run's size.
+ */
+function displaySampleRows(db: Database, runId: number, start: number, limit: number, size: number): [string, number, Buffer][] {
+  return db
+    .prepare(
+      `SELECT m.customer_id, m.segment_index, m.features
+       FROM run_samples s JOIN run_memberships m ON m.run_id = s.run_id AND m.customer_id = s.customer_id
+       WHERE s.run_id = @runId
+       ORDER BY (s.position - @start + @size) % @size LIMIT @limit`,
+    )
+    .raw()
+    .all({ runId, start, limit, size: Math.max(1, size) }) as [string, number, Buffer][];
+}
+
+function displaySampleSize(db: Database, runId: number): number {
+  return db.prepare('SELECT count(*) FROM run_samples WHERE run_id = ?').pluck().get(runId) as number;
+}
+
 export function segmentSampleView(db: Database, input: ApiParsedInput<'segmentSample'>): SegmentSample {
   const { runId, limit, seed } = input;
   const model = runModel(db, runId);
-  const total = db.prepare('SELECT count(*) FROM run_memberships WHERE run_id = ? AND segment_index IS NOT NULL').pluck().get(runId) as number;
-  const step = Math.max(1, Math.floor(total / limit));
-  const offset = seed % step;
-  const rows = db
-    .prepare(
-      `SELECT m.customer_id, m.segment_index, m.features FROM (
-         SELECT customer_id, row_number() OVER (ORDER BY customer_id) - 1 AS position
-         FROM run_memberships WHERE run_id = @runId AND segment_index IS NOT NULL
-       ) AS numbered
-       JOIN run_memberships m ON m.run_id = @runId AND m.customer_id = numbered.customer_id
-       WHERE numbered.position % @step = @offset
-       ORDER BY numbered.position LIMIT @limit`,
-    )
-    .raw()
-    .all({ runId, step, offset, limit }) as [string, number, Buffer][];
+  const total = placedCustomers(db, runId);
+  // The seed picks where in the stored random order the sample starts; any stretch of it is uniform.
+  const size = displaySampleSize(db, runId);
+  const rows = displaySampleRows(db, runId, size > 0 ? (seed * limit) % size : 0, limit, size);
   const featureCount = model.features.length;
   return {
     runId,
@@ -283,32 +298,19 @@ export function segmentSampleView(db: Database, input: ApiParsedInput<'segmentSa
   };
 }
 
-/** Customers a distribution is computed over at most (a seeded sample beyond that). */
-const DISTRIBUTION_SAMPLE = 20_000;
-
 /**
- * A histogram per segment of one stored feature, in original units, over a seeded sample of up
- * to 20,000 placed customers (the result says how many). Bins span the 1st to 99th percentile so
- * a few extreme customers do not squash the rest into one bar.
+ * A histogram per segment of one stored feature, in original units, over the run's display
+ * sample of up to 20,000 placed customers (the result says how many), so its cost does not grow
+ * with the run. Bins span the 1st to 99th percentile so a few extreme customers do not squash
+ * the rest into one bar.
  */
 export function featureDistributionView(db: Database, input: ApiParsedInput<'featureDistribution'>): FeatureDistribution {
   const { runId, feature, bins } = input;
   const detail = getRunDetail(db, runId);
   const column = detail.storedFeatures.indexOf(feature);
   if (column < 0) throw new InputError(`Run ${runId} has no feature "${feature}"; it stores ${detail.storedFeatures.join(', ')}.`);
-  const total = db.prepare('SELECT count(*) FROM run_memberships WHERE run_id = ? AND segment_index IS NOT NULL').pluck().get(runId) as number;
-  const step = Math.max(1, Math.floor(total / DISTRIBUTION_SAMPLE));
-  const rows = db
-    .prepare(
-      `SELECT m.segment_index, m.features FROM (
-         SELECT customer_id, row_number() OVER (ORDER BY customer_id) - 1 AS position
-         FROM run_memberships WHERE run_id = @runId AND segment_index IS NOT NULL
-       ) AS numbered
-       JOIN run_memberships m ON m.run_id = @runId AND m.customer_id = numbered.customer_id
-       WHERE numbered.position % @step = 0`,
-    )
-    .raw()
-    .all({ runId, step }) as [number, Buffer][];
+  const total = placedCustomers(db, runId);
+  const rows = displaySampleRows(db, runId, 0, DISPLAY_SAMPLE_SIZE, displaySampleSize(db, runId)).map(([, segment, blob]) => [segment, blob] as const);
   const values: { segment: number; value: number }[] = [];
   for (const [segment, blob] of rows) {
     const value = decodeFloat64(blob)[column];

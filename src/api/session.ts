@@ -5,6 +5,7 @@ import type { LongTaskMethod, TaskResults } from './contract.js';
 import type { LongTaskRequest } from './long-task-request.js';
 import { runInWorker } from './run-in-worker.js';
 import { TaskManager, type ProgressReporter } from './tasks.js';
+import { DEFAULT_CUSTOMERS as DEFAULT_DEMO_CUSTOMERS } from '../../demo-data/generator/index.js';
 
 /** Runs a long task's core work; the default puts it on a worker thread. */
 export type LongTaskRunner = <M extends LongTaskMethod>(
@@ -21,6 +22,8 @@ export interface SessionOptions {
   /** Told after every successful open, so the shell can update its recent list and title. */
   onDatabaseOpened?: (path: string) => void;
   runLongTask?: LongTaskRunner;
+  /** Customers in the demo chain when a load asks for no size (default 6,000, DESIGN.md §10). */
+  demoCustomers?: number;
 }
 
 /**
@@ -33,6 +36,7 @@ export class ApiSession {
   readonly tasks = new TaskManager();
   readonly shell: SessionOptions['shell'];
   readonly runLongTask: LongTaskRunner;
+  readonly demoCustomers: number;
   private readonly options: SessionOptions;
   private database: Database | null = null;
   private path: string | null = null;
@@ -41,6 +45,7 @@ export class ApiSession {
     this.options = options;
     this.shell = options.shell;
     this.runLongTask = options.runLongTask ?? runInWorker;
+    this.demoCustomers = options.demoCustomers ?? DEFAULT_DEMO_CUSTOMERS;
     if (options.dbPath) this.open(options.dbPath);
   }
 

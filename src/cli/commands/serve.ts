@@ -9,6 +9,7 @@ interface ServeOptions {
   db?: string;
   port: number;
   renderer?: string;
+  demoCustomers?: number;
   json?: boolean;
 }
 
@@ -38,6 +39,7 @@ export const registerServe: RegisterCommand = (program, io, setExitCode) => {
     .option('--db <file>', 'database to work on; created when missing')
     .option('--port <n>', 'port on 127.0.0.1; 0 picks a free one', parseInteger('--port', 0, 65535), 0)
     .option('--renderer <dir>', 'folder of the built screens (default: dist/renderer, made by `npm run build:renderer`)')
+    .option('--demo-customers <n>', 'size of the demo chain the screens load (default 6,000; smaller loads faster)', parseInteger('--demo-customers', 50, 200_000))
     .option('--json', 'print one JSON object {url} once listening')
     .addHelpText('after', '\nOpen the printed address (it carries the session token) in a browser; every /api/ request needs that token.')
     .action(async (options: ServeOptions) => {
@@ -46,7 +48,7 @@ export const registerServe: RegisterCommand = (program, io, setExitCode) => {
       let session: ApiSession | undefined;
       const code = await runCommand(io, json, async () => {
         if (!options.db) throw new InputError('serve needs --db FILE: the database to work on (created when missing).');
-        session = new ApiSession({ dbPath: options.db, shell: 'browser' });
+        session = new ApiSession({ dbPath: options.db, shell: 'browser', demoCustomers: options.demoCustomers });
         try {
           host = await startHost({
             session,
