@@ -61,6 +61,14 @@ describe('spendmix fit-matrix', () => {
     expect(stdout).toMatch(/Fitted 2 diag component\(s\) to 60 rows × 2 columns/);
   });
 
+  it('caps --k auto at the largest k the rows support, and says so', async () => {
+    // 20 rows, d = 2, full: k = 3 has 3 · 3 + 6 + 2 = 17 parameters (< 20), k = 4 has 23.
+    const path = file('small.csv', `a,b\n${Array.from({ length: 20 }, (_, i) => `${i + 1},${((i + 1) ** 2) % 7}`).join('\n')}\n`);
+    const { code, stderr } = await run('fit-matrix', '--input', path, '--k', 'auto', '--covariance', 'full', '--json');
+    expect(code).toBe(0);
+    expect(stderr).toMatch(/20 rows support at most k = 3 with full covariance/);
+  });
+
   it('exits 2 with the row and column of a non-numeric cell', async () => {
     const path = file('bad-cell.csv', 'a,b\n1,2\n3,4\n5,oops\n7,8\n');
     const { code, stderr } = await run('fit-matrix', '--input', path, '--k', '1', '--covariance', 'full');

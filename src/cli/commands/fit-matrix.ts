@@ -6,6 +6,7 @@ import {
   initMethods,
   membershipsHeader,
   membershipsLines,
+  parameterCount,
   parseNumericCsv,
   scoreRows,
   sweepMixtures,
@@ -62,6 +63,13 @@ function parseK(raw: string | undefined): number | 'auto' {
   if (!/^-?\d+$/.test(raw.trim())) throw new InputError(`--k must be a whole number ≥ 1 or "auto"; got "${raw}".`);
   const k = Number(raw);
   if (k < 1) throw new InputError(`--k must be at least 1; got ${k}.`);
+  return k;
+}
+
+/** The largest k ≤ kMax whose model has fewer free parameters than there are rows (at least 1). */
+function largestFittableK(kMax: number, rows: number, cols: number, covarianceType: CovarianceType): number {
+  let k = kMax;
+  while (k > 1 && parameterCount(k, cols, covarianceType) >= rows) k--;
   return k;
 }
 
@@ -193,7 +201,11 @@ export const registerFitMatrix: RegisterCommand = (program, io, setExitCode) => 
           let fit: FitResult;
           let table: SweepRow[] | null = null;
           if (k === 'auto') {
-            const sweep = await sweepMixtures(data, { ...common, componentRange: [1, options.kMax ?? DEFAULT_K_MAX], covarianceTypes: [covarianceType], criterion: 'bic' });
+            const kMax = largestFittableK(options.kMax ?? DEFAULT_K_MAX, data.rows, data.cols, covarianceType);
+            if (kMax < (options.kMax ?? DEFAULT_K_MAX)) {
+              io.stderr(`note: ${data.rows} rows support at most k = ${kMax} with ${covarianceType} covariance; trying k = 1…${kMax}\n`);
+            }
+            const sweep = await sweepMixtures(data, { ...common, componentRange: [1, kMax], covarianceTypes: [covarianceType], criterion: 'bic' });
             fit = sweep.best;
             table = sweep.table;
           } else {
