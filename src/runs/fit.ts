@@ -1,17 +1,32 @@
 /**
- * The fitting step of a run: one fit for a fixed k and structure, or a sweep over the k range and
- * structures choosing by BIC or ICL (both lower-is-better). Checks first that the data allow the
- * largest k asked for.
+ * The fitting step of a run: one fit for a fixed k and structure, or the engine's sweep over the
+ * k range and structures choosing by BIC or ICL (both lower-is-better), on worker threads. Checks
+ * first that the data allow the largest k asked for.
  */
 import { InputError } from '../errors.js';
-import { fitMixture } from '../model/index.js';
-import { covarianceTypes, type CovarianceType, type DataMatrix, type FitProgress, type MixtureModel, type SweepRow } from '../model/types.js';
+import { fitMixtureParallel, sweepMixtures } from '../model/index.js';
+import { covarianceTypes, type CovarianceType, type DataMatrix, type FitProgress, type FitResult, type MixtureModel, type SweepRow } from '../model/types.js';
 import type { ResolvedRunSettings } from './types.js';
 
 export interface RunFit {
   model: MixtureModel;
   sweep: SweepRow[];
   warnings: string[];
+}
+
+function sweepRowOf(result: FitResult): SweepRow {
+  return {
+    k: result.model.components,
+    covarianceType: result.model.covarianceType,
+    logLikelihood: result.logLikelihood,
+    bic: result.bic,
+    aic: result.aic,
+    icl: result.icl,
+    converged: result.converged,
+    iterations: result.iterations,
+    parameterCount: result.parameterCount,
+    warnings: result.warnings,
+  };
 }
 
 export async function fitForRun(
@@ -27,42 +42,22 @@ export async function fitForRun(
         'Lower k (or --k-max) or widen the window.',
     );
   }
+  let anyMissing = false;
+  for (let i = 0; i < data.values.length && !anyMissing; i++) anyMissing = Number.isNaN(data.values[i]);
   const common = {
     restarts: settings.restarts,
     seed: settings.seed,
     tol: settings.tol,
     maxIterations: settings.maxIterations,
     regularization: settings.regularization,
-    missing: hasMissing(data) ? ('em' as const) : ('reject' as const),
+    missing: anyMissing ? ('em' as const) : ('reject' as const),
     signal: options.signal,
     onProgress: options.onProgress,
   };
-  const sweep: SweepRow[] = [];
-  let best: { score: number; model: MixtureModel; warnings: string[] } | null = null;
-  for (const covarianceType of structures) {
-    for (let k = kMin; k <= kMax; k++) {
-      const result = fitMixture(data, { ...common, components: k, covarianceType });
-      sweep.push({
-        k,
-        covarianceType,
-        logLikelihood: result.logLikelihood,
-        bic: result.bic,
-        aic: result.aic,
-        icl: result.icl,
-        converged: result.converged,
-        iterations: result.iterations,
-        parameterCount: result.parameterCount,
-        warnings: result.warnings,
-      });
-      const score = settings.criterion === 'icl' ? result.icl : result.bic;
-      if (!best || score < best.score) best = { score, model: result.model, warnings: result.warnings };
-      await new Promise((resolve) => setImmediate(resolve));
-    }
+  if (kMin === kMax && structures.length === 1) {
+    const result = await fitMixtureParallel(data, { ...common, components: kMin, covarianceType: structures[0] });
+    return { model: result.model, sweep: [sweepRowOf(result)], warnings: result.warnings };
   }
-  return { model: best!.model, sweep, warnings: best!.warnings };
-}
-
-function hasMissing(data: DataMatrix): boolean {
-  for (let i = 0; i < data.values.length; i++) if (Number.isNaN(data.values[i])) return true;
-  return false;
+  const sweep = await sweepMixtures(data, { ...common, componentRange: [kMin, kMax], covarianceTypes: structures, criterion: settings.criterion });
+  return { model: sweep.best.model, sweep: sweep.table, warnings: sweep.best.warnings };
 }
