@@ -20,13 +20,14 @@ import {
   savedMapping,
   type ImportKind,
 } from '../store/imports-repo.js';
-import type { CsvRecord } from './csv-tokenizer.js';
-import { probeFile } from './file-probe.js';
+import { probeFile, type FileProbe } from './file-probe.js';
+import { parseInWorker } from './parallel-parse.js';
+import { strideOf, validateRecords, type ValidatedBatch, type ValidationContext } from './record-validator.js';
 import { maxRowId, receiptAmountAfter, suspendSecondaryIndexes, useBulkLoadSettings } from '../store/secondary-indexes.js';
 import { ImportReport } from './import-report.js';
 import { resolveMapping, type ColumnMapping, type ResolvedMapping } from './mapping.js';
-import { openRecordSource } from './record-source.js';
-import { isRowRejection, makeRowConverter } from './row-converters.js';
+import { openRecordSource, type RecordSource } from './record-source.js';
+import { makeRowConverter } from './row-converters.js';
 import { DATE_FORMATS, type DateFormat } from './values.js';
 
 export interface ImportOptions {
@@ -42,6 +43,8 @@ export interface ImportOptions {
   delimiter?: string;
   /** Folder for the import report (default: the database's folder). */
   reportDir?: string;
+  /** Parse CSV in a worker thread (default: for files of 4 MB and more). */
+  parseInWorker?: boolean;
 }
 
 export type ImportPhase = 'checking' | 'reading' | 'indexing' | 'committing' | 'done';
@@ -127,6 +130,19 @@ function writerFor(db: Database, kind: ImportKind, importId: number, resolved: R
 
 /** Column of the store id in each kind's row values (see row-converters.ts), for recording unknown stores. */
 const STORE_VALUE_INDEX: Record<ImportKind, number> = { receipts: 5, visits: 3, customers: 3, features: -1 };
+
+/** CSV files above this size are parsed in a worker thread, overlapping with the writes. */
+const WORKER_MIN_BYTES = 4 * 1024 * 1024;
+
+function useWorker(probe: FileProbe, request: ImportRequest): boolean {
+  if (probe.format !== 'csv') return false;
+  return request.options?.parseInWorker ?? probe.bytes >= WORKER_MIN_BYTES;
+}
+
+/** The single-thread path: validate each batch of the source as it is read. */
+async function* validatedBatches(source: RecordSource, context: ValidationContext, bytesRead: () => number): AsyncGenerator<ValidatedBatch> {
+  for await (const records of source.batches) yield validateRecords(records, context, bytesRead());
+}
 
 function isUniqueViolation(error: unknown): boolean {
   return (error as { code?: string }).code === 'SQLITE_CONSTRAINT_UNIQUE';
@@ -228,51 +244,47 @@ export async function importFile(db: Database, request: ImportRequest): Promise<
     let restoreIndexes: (() => void) | undefined;
     let firstBatch = true;
     let rowsRead = 0;
-    const padded = (record: CsvRecord): string[] | undefined => {
-      const fields = record.fields;
-      if (fields.length === width) return fields;
-      if (source.padShortRows && fields.length < width) return [...fields, ...new Array<string>(width - fields.length).fill('')];
-      return undefined;
-    };
-    for await (const batch of source.batches) {
+    const stride = strideOf(kind, resolved.featureColumns.length);
+    const batches =
+      useWorker(probe, request)
+        ? parseInWorker(
+            {
+              probe,
+              delimiter: source.delimiter ?? ',',
+              kind,
+              header: source.header,
+              fieldIndex: [...resolved.fieldIndex],
+              featureColumns: resolved.featureColumns,
+              settings,
+              stride,
+              aheadLimit: 2,
+            },
+            signal,
+          )
+        : validatedBatches(source, { convert, width, stride, padShortRows: source.padShortRows, delimiter: source.delimiter }, () => bytesRead);
+    for await (const batch of batches) {
       throwIfAborted(signal);
-      if (firstBatch && table && bytesRead > 0) {
-        const estimatedRows = (batch.length * probe.bytes) / bytesRead;
+      if (firstBatch && table && batch.bytes > 0) {
+        const estimatedRows = (batch.rowsRead * probe.bytes) / batch.bytes;
         if (estimatedRows >= BULK_LOAD_MIN_ROWS && estimatedRows >= BULK_LOAD_MIN_SHARE * rowIdBefore) {
           restoreIndexes = suspendSecondaryIndexes(db, table);
         }
       }
       firstBatch = false;
-      for (const record of batch) {
-        rowsRead += 1;
-        if (record.malformed) {
-          report.add(record.line, { column: '', value: record.fields.join(source.delimiter ?? ','), reason: record.malformed });
-          continue;
-        }
-        const fields = padded(record);
-        if (fields === undefined) {
-          report.add(record.line, {
-            column: '',
-            value: record.fields.join(source.delimiter ?? ',').slice(0, 200),
-            reason: `expected ${width} columns, found ${record.fields.length}`,
-          });
-          continue;
-        }
-        const values = convert(fields);
-        if (isRowRejection(values)) {
-          report.add(record.line, values);
-          continue;
-        }
+      rowsRead += batch.rowsRead;
+      for (const rejection of batch.rejected) report.add(rejection.line, rejection);
+      const values = batch.values;
+      for (let offset = 0; offset < values.length; offset += stride) {
         if (storeIndex >= 0) {
-          const storeId = values[storeIndex] as string | null;
+          const storeId = values[offset + storeIndex] as string | null;
           if (storeId !== null && !knownStores.has(storeId)) {
             knownStores.add(storeId);
             newStores.add(storeId);
           }
         }
-        writer.add(values);
+        writer.add(values, offset);
       }
-      progress('reading', rowsRead, bytesRead);
+      progress('reading', rowsRead, batch.bytes);
     }
     throwIfAborted(signal);
     if (rowsRead === 0) throw new InputError(`${file} has a header but no data rows.`);

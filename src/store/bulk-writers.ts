@@ -8,7 +8,8 @@ type Value = string | number | null;
  * counts input rows that changed the database; the rest of what was added are duplicates.
  */
 export interface BulkWriter {
-  add(values: readonly Value[]): void;
+  /** Adds the row that starts at `offset` of `values`. */
+  add(values: readonly Value[], offset?: number): void;
   /** Writes what is buffered; call before reading the counters. */
   flush(): void;
   readonly rowsAdded: number;
@@ -43,8 +44,8 @@ function tupleWriter(db: Database, width: number, sqlForRows: (rows: number) => 
     buffered = 0;
   };
   return {
-    add(values) {
-      for (let index = 0; index < width; index += 1) buffer.push(values[index]);
+    add(values, offset = 0) {
+      for (let index = offset; index < offset + width; index += 1) buffer.push(values[index]);
       buffered += 1;
       rowsAdded += 1;
       if (buffered === BATCH_ROWS) writeBuffered();
@@ -132,11 +133,11 @@ export function featureWriter(db: Database, importId: number, featureNames: read
   let rowsAdded = 0;
   let rowsWritten = 0;
   return {
-    add(values) {
+    add(values, offset = 0) {
       rowsAdded += 1;
       let changed = 0;
       for (let index = 0; index < featureNames.length; index += 1) {
-        changed += upsert.run(values[0], featureNames[index], values[index + 1]).changes;
+        changed += upsert.run(values[offset], featureNames[index], values[offset + index + 1]).changes;
       }
       if (changed > 0) rowsWritten += 1;
     },

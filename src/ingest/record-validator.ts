@@ -1,0 +1,78 @@
+import type { CsvRecord } from './csv-tokenizer.js';
+import { isRowRejection, type RowConverter } from './row-converters.js';
+
+type Value = string | number | null;
+
+/** One rejected row: its line and why (a line of the import report). */
+export interface RejectedRow {
+  line: number;
+  column: string;
+  value: string;
+  reason: string;
+}
+
+/**
+ * The outcome of validating one batch of records: the accepted rows' values laid end to end
+ * (`stride` values per row; a flat array of primitives is cheap to hand between threads) and
+ * the rejected rows.
+ */
+export interface ValidatedBatch {
+  values: Value[];
+  accepted: number;
+  rejected: RejectedRow[];
+  rowsRead: number;
+  /** Bytes of the file read so far. */
+  bytes: number;
+}
+
+export interface ValidationContext {
+  convert: RowConverter;
+  /** Column count of the header. */
+  width: number;
+  /** Values per accepted row. */
+  stride: number;
+  /** XLSX drops trailing empty cells: pad short rows instead of rejecting them. */
+  padShortRows: boolean;
+  delimiter: string | null;
+}
+
+/** Values per accepted row of each kind (see row-converters.ts). */
+export function strideOf(kind: 'receipts' | 'visits' | 'customers' | 'features', featureCount: number): number {
+  return kind === 'receipts' ? 8 : kind === 'visits' ? 5 : kind === 'customers' ? 4 : 1 + featureCount;
+}
+
+/** Validates records: wrong column count, broken quoting and bad values become rejections. */
+export function validateRecords(records: readonly CsvRecord[], context: ValidationContext, bytes: number): ValidatedBatch {
+  const { convert, width, stride } = context;
+  const values: Value[] = [];
+  const rejected: RejectedRow[] = [];
+  let accepted = 0;
+  for (const record of records) {
+    let fields = record.fields;
+    if (record.malformed) {
+      rejected.push({ line: record.line, column: '', value: fields.join(context.delimiter ?? ',').slice(0, 200), reason: record.malformed });
+      continue;
+    }
+    if (fields.length !== width) {
+      if (context.padShortRows && fields.length < width) {
+        fields = [...fields, ...new Array<string>(width - fields.length).fill('')];
+      } else {
+        rejected.push({
+          line: record.line,
+          column: '',
+          value: fields.join(context.delimiter ?? ',').slice(0, 200),
+          reason: `expected ${width} columns, found ${fields.length}`,
+        });
+        continue;
+      }
+    }
+    const row = convert(fields);
+    if (isRowRejection(row)) {
+      rejected.push({ line: record.line, ...row });
+      continue;
+    }
+    for (let index = 0; index < stride; index += 1) values.push(row[index]);
+    accepted += 1;
+  }
+  return { values, accepted, rejected, rowsRead: records.length, bytes };
+}
