@@ -18,6 +18,9 @@ import type { ApiError } from '../../../src/api/contract.js';
  * Test ids: app-shell, nav-<screen id> (sources, model, segments, certainty, review, movement,
  * export), run-picker, database-summary, screen-<screen id> on each screen's root.
  */
+/** How long the top bar's table counts wait behind the screen's first requests. */
+const databaseSummaryDelayMs = 1500;
+
 export function App() {
   const api = useApi();
   const client = useClient();
@@ -36,21 +39,24 @@ export function App() {
 
   const refreshDatabase = useCallback(
     (selectLatestRun = false) => {
-      Promise.all([api.appInfo({}), api.databaseInfo({}), api.listRuns({}), api.modelOptions({})]).then(
-        ([info, db, list, options]) => {
-          setAppInfo(info);
-          setModelOptions(options);
-          setDatabase(db);
-          setRuns(list);
-          setFailure(null);
-          setRunIdState((current) => {
-            const latest = list.length ? Math.max(...list.map((run) => run.runId)) : null;
-            if (selectLatestRun || current === null || !list.some((run) => run.runId === current)) return latest;
-            return current;
-          });
-        },
-        (error: unknown) => setFailure(toApiError(error)),
-      );
+      const fail = (error: unknown) => setFailure(toApiError(error));
+      // Runs first and alone: the screens need the run id, and nothing else should wait for it.
+      api.listRuns({}).then((list) => {
+        setRuns(list);
+        setFailure(null);
+        setRunIdState((current) => {
+          const latest = list.length ? Math.max(...list.map((run) => run.runId)) : null;
+          if (selectLatestRun || current === null || !list.some((run) => run.runId === current)) return latest;
+          return current;
+        });
+      }, fail);
+      Promise.all([api.appInfo({}), api.modelOptions({})]).then(([info, options]) => {
+        setAppInfo(info);
+        setModelOptions(options);
+      }, fail);
+      // The database summary counts whole tables, which takes a while on a large database; it is
+      // read once the screen's own requests are on their way so it never delays the first paint.
+      window.setTimeout(() => api.databaseInfo({}).then(setDatabase, fail), databaseSummaryDelayMs);
     },
     [api],
   );

@@ -29,7 +29,8 @@ export function ModelScreen() {
   const { modelOptions, runId, database } = useWorkspace();
   const api = useApi();
   const run = useLoad(runId === null ? null : () => api.runSummary({ runId }), `run:${runId}`);
-  if (!modelOptions || (runId !== null && !run.data && !run.error)) {
+  // Without a run the as-of date comes from the database summary, so wait for that too.
+  if (!modelOptions || (runId !== null && !run.data && !run.error) || (runId === null && !database)) {
     return <section className="screen" data-testid="screen-model"><h1>Model</h1><Loading what="model settings" /></section>;
   }
   const asOf = run.data?.asOf ?? database?.lastDataDate ?? '';
