@@ -193,151 +193,155 @@ export async function importFile(db: Database, request: ImportRequest): Promise<
       bytesRead = bytes;
     },
   });
-  const resolved = resolveMapping({
-    kind,
-    header: source.header,
-    explicit: request.mapping,
-    saved: savedMapping(db, kind),
-    context: source.context(),
-  });
-  const convert = makeRowConverter(kind, resolved, source.header, settings);
-  const width = source.header.length;
-  const report = new ImportReport(reportPathFor(db, request));
+  try {
+    const resolved = resolveMapping({
+      kind,
+      header: source.header,
+      explicit: request.mapping,
+      saved: savedMapping(db, kind),
+      context: source.context(),
+    });
+    const convert = makeRowConverter(kind, resolved, source.header, settings);
+    const width = source.header.length;
+    const report = new ImportReport(reportPathFor(db, request));
 
-  try {
-    db.exec('BEGIN IMMEDIATE');
-  } catch (error) {
-    report.discard();
-    throw asDatabaseInputError(db.name, error);
-  }
-  const restoreSettings = useBulkLoadSettings(db);
-  try {
-    let importId: number;
     try {
-      importId = insertImport(db, {
-        fileName: basename(file),
-        kind,
-        contentHash: probe.contentHash,
-        mapping: resolved.mapping,
-        rowsRead: 0,
-        rowsImported: 0,
-        rowsRejected: 0,
-        duplicatesSkipped: 0,
-        amountTotalCents: null,
-        reportPath: null,
-        importedAt: new Date().toISOString(),
-      });
+      db.exec('BEGIN IMMEDIATE');
     } catch (error) {
-      // Another process imported the same file since the check above.
-      if (isUniqueViolation(error)) {
-        db.exec('ROLLBACK');
-        return alreadyImported();
-      }
-      throw error;
+      report.discard();
+      throw asDatabaseInputError(db.name, error);
     }
-    const writer = writerFor(db, kind, importId, resolved);
-    const storeIndex = STORE_VALUE_INDEX[kind];
-    const knownStores = storeIndex >= 0 ? knownStoreIds(db) : new Set<string>();
-    const newStores = new Set<string>();
-    const table = kind === 'receipts' || kind === 'visits' ? kind : undefined;
-    const rowIdBefore = table ? maxRowId(db, table) : 0;
-    let restoreIndexes: (() => void) | undefined;
-    let firstBatch = true;
-    let rowsRead = 0;
-    const stride = strideOf(kind, resolved.featureColumns.length);
-    const batches =
-      useWorker(probe, request)
-        ? parseInWorker(
-            {
-              probe,
-              delimiter: source.delimiter ?? ',',
-              kind,
-              header: source.header,
-              fieldIndex: [...resolved.fieldIndex],
-              featureColumns: resolved.featureColumns,
-              settings,
-              stride,
-              aheadLimit: 2,
-            },
-            signal,
-          )
-        : validatedBatches(source, { convert, width, stride, padShortRows: source.padShortRows, delimiter: source.delimiter }, () => bytesRead);
-    for await (const batch of batches) {
-      throwIfAborted(signal);
-      if (firstBatch && table && batch.bytes > 0) {
-        const estimatedRows = (batch.rowsRead * probe.bytes) / batch.bytes;
-        if (estimatedRows >= BULK_LOAD_MIN_ROWS && estimatedRows >= BULK_LOAD_MIN_SHARE * rowIdBefore) {
-          restoreIndexes = suspendSecondaryIndexes(db, table);
+    const restoreSettings = useBulkLoadSettings(db);
+    try {
+      let importId: number;
+      try {
+        importId = insertImport(db, {
+          fileName: basename(file),
+          kind,
+          contentHash: probe.contentHash,
+          mapping: resolved.mapping,
+          rowsRead: 0,
+          rowsImported: 0,
+          rowsRejected: 0,
+          duplicatesSkipped: 0,
+          amountTotalCents: null,
+          reportPath: null,
+          importedAt: new Date().toISOString(),
+        });
+      } catch (error) {
+        // Another process imported the same file since the check above.
+        if (isUniqueViolation(error)) {
+          db.exec('ROLLBACK');
+          return alreadyImported();
         }
+        throw error;
       }
-      firstBatch = false;
-      rowsRead += batch.rowsRead;
-      for (const rejection of batch.rejected) report.add(rejection.line, rejection);
-      const values = batch.values;
-      for (let offset = 0; offset < values.length; offset += stride) {
-        if (storeIndex >= 0) {
-          const storeId = values[offset + storeIndex] as string | null;
-          if (storeId !== null && !knownStores.has(storeId)) {
-            knownStores.add(storeId);
-            newStores.add(storeId);
+      const writer = writerFor(db, kind, importId, resolved);
+      const storeIndex = STORE_VALUE_INDEX[kind];
+      const knownStores = storeIndex >= 0 ? knownStoreIds(db) : new Set<string>();
+      const newStores = new Set<string>();
+      const table = kind === 'receipts' || kind === 'visits' ? kind : undefined;
+      const rowIdBefore = table ? maxRowId(db, table) : 0;
+      let restoreIndexes: (() => void) | undefined;
+      let firstBatch = true;
+      let rowsRead = 0;
+      const stride = strideOf(kind, resolved.featureColumns.length);
+      const batches =
+        useWorker(probe, request)
+          ? parseInWorker(
+              {
+                probe,
+                delimiter: source.delimiter ?? ',',
+                kind,
+                header: source.header,
+                fieldIndex: [...resolved.fieldIndex],
+                featureColumns: resolved.featureColumns,
+                settings,
+                stride,
+                aheadLimit: 2,
+              },
+              signal,
+            )
+          : validatedBatches(source, { convert, width, stride, padShortRows: source.padShortRows, delimiter: source.delimiter }, () => bytesRead);
+      for await (const batch of batches) {
+        throwIfAborted(signal);
+        if (firstBatch && table && batch.bytes > 0) {
+          const estimatedRows = (batch.rowsRead * probe.bytes) / batch.bytes;
+          if (estimatedRows >= BULK_LOAD_MIN_ROWS && estimatedRows >= BULK_LOAD_MIN_SHARE * rowIdBefore) {
+            restoreIndexes = suspendSecondaryIndexes(db, table);
           }
         }
-        writer.add(values, offset);
+        firstBatch = false;
+        rowsRead += batch.rowsRead;
+        for (const rejection of batch.rejected) report.add(rejection.line, rejection);
+        const values = batch.values;
+        for (let offset = 0; offset < values.length; offset += stride) {
+          if (storeIndex >= 0) {
+            const storeId = values[offset + storeIndex] as string | null;
+            if (storeId !== null && !knownStores.has(storeId)) {
+              knownStores.add(storeId);
+              newStores.add(storeId);
+            }
+          }
+          writer.add(values, offset);
+        }
+        progress('reading', rowsRead, batch.bytes);
       }
-      progress('reading', rowsRead, batch.bytes);
-    }
-    throwIfAborted(signal);
-    if (rowsRead === 0) throw new InputError(`${file} has a header but no data rows.`);
-    writer.flush();
-    const rowsRejected = report.rejectedRows;
-    if (rowsRejected / rowsRead > settings.maxRejectedShare) {
-      const reportPath = report.finish();
-      db.exec('ROLLBACK');
-      throw new InputError(
-        `${file}: ${rowsRejected} of ${rowsRead} rows (${((100 * rowsRejected) / rowsRead).toFixed(1)}%) failed validation, ` +
-          `above the ${(100 * settings.maxRejectedShare).toFixed(1)}% limit, so nothing was imported. ` +
-          `Most common: ${report.topReasons()}. Rows and reasons: ${reportPath}`,
-        { rowsRead, rowsRejected, report: reportPath },
-      );
-    }
-    if (restoreIndexes) {
-      progress('indexing', rowsRead, bytesRead);
-      restoreIndexes();
       throwIfAborted(signal);
+      if (rowsRead === 0) throw new InputError(`${file} has a header but no data rows.`);
+      writer.flush();
+      const rowsRejected = report.rejectedRows;
+      if (rowsRejected / rowsRead > settings.maxRejectedShare) {
+        const reportPath = report.finish();
+        db.exec('ROLLBACK');
+        throw new InputError(
+          `${file}: ${rowsRejected} of ${rowsRead} rows (${((100 * rowsRejected) / rowsRead).toFixed(1)}%) failed validation, ` +
+            `above the ${(100 * settings.maxRejectedShare).toFixed(1)}% limit, so nothing was imported. ` +
+            `Most common: ${report.topReasons()}. Rows and reasons: ${reportPath}`,
+          { rowsRead, rowsRejected, report: reportPath },
+        );
+      }
+      if (restoreIndexes) {
+        progress('indexing', rowsRead, bytesRead);
+        restoreIndexes();
+        throwIfAborted(signal);
+      }
+      progress('committing', rowsRead, bytesRead);
+      recordStoreIds(db, newStores);
+      const amountCents = kind === 'receipts' ? receiptAmountAfter(db, rowIdBefore) : null;
+      const reportPath = report.finish();
+      const result: ImportResult = {
+        file,
+        kind,
+        rowsRead,
+        rowsImported: writer.rowsWritten,
+        rowsRejected,
+        duplicatesSkipped: writer.rowsAdded - writer.rowsWritten,
+        alreadyImported: false,
+        amountTotal: amountCents === null ? null : amountCents / 100,
+        report: reportPath,
+      };
+      finishImport(db, importId, {
+        rowsRead,
+        rowsImported: result.rowsImported,
+        rowsRejected,
+        duplicatesSkipped: result.duplicatesSkipped,
+        amountTotalCents: amountCents,
+        reportPath,
+      });
+      saveMapping(db, kind, resolved.mapping);
+      db.exec('COMMIT');
+      progress('done', rowsRead, totalBytes);
+      return result;
+    } catch (error) {
+      if (db.inTransaction) db.exec('ROLLBACK');
+      if (!(error instanceof InputError && error.details?.report)) report.discard();
+      if (error instanceof CancelledError || error instanceof InputError) throw error;
+      throw asDatabaseInputError(db.name, error);
+    } finally {
+      restoreSettings();
     }
-    progress('committing', rowsRead, bytesRead);
-    recordStoreIds(db, newStores);
-    const amountCents = kind === 'receipts' ? receiptAmountAfter(db, rowIdBefore) : null;
-    const reportPath = report.finish();
-    const result: ImportResult = {
-      file,
-      kind,
-      rowsRead,
-      rowsImported: writer.rowsWritten,
-      rowsRejected,
-      duplicatesSkipped: writer.rowsAdded - writer.rowsWritten,
-      alreadyImported: false,
-      amountTotal: amountCents === null ? null : amountCents / 100,
-      report: reportPath,
-    };
-    finishImport(db, importId, {
-      rowsRead,
-      rowsImported: result.rowsImported,
-      rowsRejected,
-      duplicatesSkipped: result.duplicatesSkipped,
-      amountTotalCents: amountCents,
-      reportPath,
-    });
-    saveMapping(db, kind, resolved.mapping);
-    db.exec('COMMIT');
-    progress('done', rowsRead, totalBytes);
-    return result;
-  } catch (error) {
-    if (db.inTransaction) db.exec('ROLLBACK');
-    if (!(error instanceof InputError && error.details?.report)) report.discard();
-    if (error instanceof CancelledError || error instanceof InputError) throw error;
-    throw asDatabaseInputError(db.name, error);
   } finally {
-    restoreSettings();
+    await source.close();
   }
 }

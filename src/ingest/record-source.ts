@@ -26,6 +26,8 @@ export interface RecordSource {
   sheetNames: () => string[];
   /** Said after a missing-columns message: for XLSX, which sheet was read and which exist. */
   context: () => string;
+  /** Releases the file (safe to call at any point, and more than once). */
+  close: () => Promise<void>;
 }
 
 /** Opens the file, reads up to the header (the first non-blank record), and leaves the rest streaming. */
@@ -83,6 +85,9 @@ export async function openRecordSource(probe: FileProbe, options: SourceOptions)
     sheet: sheetName() ?? null,
     sheetNames,
     context,
+    close: async () => {
+      await raw.return(undefined);
+    },
   };
 }
 

@@ -1,0 +1,23 @@
+import { mkdtempSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import type { Database } from 'better-sqlite3';
+
+export function temporaryFolder(prefix = 'spendmix-ingest-'): string {
+  return mkdtempSync(join(tmpdir(), prefix));
+}
+
+export function writeText(folder: string, name: string, text: string | Buffer): string {
+  const path = join(folder, name);
+  writeFileSync(path, text);
+  return path;
+}
+
+/** Every data table's row count and the import count: "unchanged" means this is equal. */
+export function snapshotCounts(db: Database): Record<string, number> {
+  const counts: Record<string, number> = {};
+  for (const table of ['receipts', 'visits', 'customers', 'customer_features', 'stores', 'imports', 'column_mappings']) {
+    counts[table] = db.prepare(`SELECT count(*) FROM ${table}`).pluck().get() as number;
+  }
+  return counts;
+}
