@@ -3,7 +3,8 @@
  * (DESIGN.md §11: required ≤ 1.5×). Both databases are built here from a seeded synthetic
  * feature table (kind `features`, four spend groups), imported and fitted through the CLI
  * (k = 4, full covariance, one restart), then each is served by the browser host
- * (`spendmix serve`) and Segments is opened in Debian's Chromium with a fresh user-data-dir.
+ * (`spendmix serve`) and Segments is opened in Debian's Chromium with a fresh user-data-dir
+ * (both through the end-to-end test's harness).
  *
  * The figure is the time from the start of navigation to the moment the screen reports that its
  * cards and both charts have painted (the `segments:painted` performance mark, set once ECharts
@@ -14,7 +15,7 @@
  *
  * --keep reuses databases left in the temporary folder by an earlier run of the same sizes.
  */
-import { execFileSync, spawn, type ChildProcess } from 'node:child_process';
+import { execFileSync } from 'node:child_process';
 import { createWriteStream, existsSync, mkdirSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
@@ -22,7 +23,7 @@ import { once } from 'node:events';
 import { fileURLToPath } from 'node:url';
 import { xoroshiro128plus } from 'pure-rand/generator/xoroshiro128plus';
 import { uniformFloat64 } from 'pure-rand/distribution/uniformFloat64';
-import { launchFreshChromium } from '../renderer/support/chromium.js';
+import { collectPageErrors, openBrowser, serve, type ServedApp } from '../e2e/harness.js';
 
 const root = fileURLToPath(new URL('../..', import.meta.url));
 
@@ -88,17 +89,6 @@ async function buildDatabase(customers: number): Promise<string> {
   return db;
 }
 
-async function serve(db: string): Promise<{ url: string; child: ChildProcess }> {
-  const child = spawn(process.execPath, ['--import', 'tsx', join(root, 'src/cli/main.ts'), 'serve', '--db', db, '--json'], { cwd: root, stdio: ['ignore', 'pipe', 'inherit'] });
-  let output = '';
-  for await (const data of child.stdout!) {
-    output += String(data);
-    const line = output.split('\n').find((entry) => entry.trim().startsWith('{'));
-    if (line) return { url: JSON.parse(line).url as string, child };
-  }
-  throw new Error(`serve ended without printing its address: ${output}`);
-}
-
 const median = (values: number[]) => {
   const sorted = [...values].sort((a, b) => a - b);
   const middle = Math.floor(sorted.length / 2);
@@ -112,13 +102,12 @@ if (!existsSync(join(root, 'dist/renderer/index.html')) || process.argv.includes
 const sizes = [small, large];
 const databases = new Map<number, string>();
 for (const size of sizes) databases.set(size, await buildDatabase(size));
-const hosts = new Map<number, { url: string; child: ChildProcess }>();
+const hosts = new Map<number, ServedApp>();
 for (const size of sizes) hosts.set(size, await serve(databases.get(size)!));
 
-const browser = await launchFreshChromium();
-const page = browser.pages()[0] ?? (await browser.newPage());
-const pageErrors: string[] = [];
-page.on('pageerror', (error) => pageErrors.push(error.message));
+const browser = await openBrowser();
+const page = browser.page;
+const pageErrors = collectPageErrors(page);
 
 /** One cold load of Segments: ms from navigation start to painted, and the screen's own measure. */
 async function loadSegments(size: number): Promise<{ toPainted: number; screen: number; caption: string }> {
@@ -126,11 +115,11 @@ async function loadSegments(size: number): Promise<{ toPainted: number; screen: 
   await page.goto('about:blank');
   await page.goto(`${url}#/segments`);
   await page.waitForSelector('[data-testid="screen-segments"][data-painted="true"]', { timeout: 300_000 });
-  return page.evaluate(() => ({
+  const marks = await page.evaluate(() => ({
     toPainted: performance.getEntriesByName('segments:painted')[0].startTime,
     screen: performance.getEntriesByName('segments:paint')[0].duration,
-    caption: document.querySelector('[data-testid="scatter-caption"]')?.textContent ?? '',
   }));
+  return { ...marks, caption: (await page.textContent('[data-testid="scatter-caption"]')) ?? '' };
 }
 
 const results = new Map<number, { toPainted: number[]; screen: number[]; caption: string }>(sizes.map((size) => [size, { toPainted: [], screen: [], caption: '' }]));
@@ -147,7 +136,7 @@ try {
   }
 } finally {
   await browser.close();
-  for (const { child } of hosts.values()) child.kill('SIGTERM');
+  for (const host of hosts.values()) await host.stop();
 }
 
 const summary = sizes.map((size) => {
@@ -163,4 +152,4 @@ for (const row of summary) {
 const ratio = summary[1].medianMs / summary[0].medianMs;
 const screenRatio = summary[1].screenMedianMs / summary[0].screenMedianMs;
 console.log(`ratio ${large.toLocaleString('en-GB')} / ${small.toLocaleString('en-GB')}: ${ratio.toFixed(2)} (navigation to painted), ${screenRatio.toFixed(2)} (screen mount to painted); required ≤ 1.5`);
-if (pageErrors.length) console.log(`page errors: ${pageErrors.join(' | ')}`);
+if (pageErrors.length) console.log(pageErrors.join('\n'));

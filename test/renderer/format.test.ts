@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { formattersFor, sampleCaption } from '../../renderer/src/lib/format.js';
+import { axisUnit, formatInUnit, formattersFor, sampleCaption } from '../../renderer/src/lib/format.js';
 
 // Expected strings follow the CLDR conventions Node's ICU implements (from memory): en-GB groups
 // with commas and puts € first; de-DE groups with dots, uses a decimal comma and puts € last
@@ -21,6 +21,18 @@ describe('locale formatting', () => {
     expect(f.count(1000000)).toBe('1.000.000');
   });
 
+  it('writes feature values in their units, leaving "per month" to the label', () => {
+    const f = formattersFor('en-GB');
+    expect(formatInUnit(633.214, 'EUR per month', f)).toBe('€633');
+    expect(formatInUnit(23.981, 'EUR', f)).toBe('€23.98');
+    expect(formatInUnit(9.86, 'visits per month', f)).toBe('9.9');
+    expect(formatInUnit(0.42, 'share', f)).toBe('42.0%');
+    expect(formatInUnit(13, 'days', f)).toBe('13 days');
+    expect(formatInUnit(1.2345, '', f)).toBe('1.23');
+    expect(axisUnit('EUR per month')).toBe(' (EUR)');
+    expect(axisUnit('visits per month')).toBe('');
+  });
+
   it('shows a dash rather than NaN or Infinity', () => {
     const f = formattersFor('en-GB');
     expect(f.euros(Number.NaN)).toBe('—');
@@ -33,7 +45,7 @@ describe('locale formatting', () => {
 
   it('states the sample a chart draws', () => {
     const f = formattersFor('en-GB');
-    expect(sampleCaption(5000, 1000000, f)).toBe('showing 5,000 of 1,000,000 customers (random sample)');
+    expect(sampleCaption(5000, 1000000, f)).toBe('showing 5,000 of 1,000,000 customers');
     expect(sampleCaption(812, 812, f)).toBe('all 812 customers');
     expect(() => sampleCaption(10, 5, f)).toThrow(RangeError);
     expect(() => sampleCaption(-1, 5, f)).toThrow(RangeError);

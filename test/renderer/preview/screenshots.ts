@@ -11,7 +11,7 @@ import { mkdirSync } from 'node:fs';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { createServer } from 'vite';
-import { launchFreshChromium } from '../support/chromium.js';
+import { collectPageErrors, openBrowser } from '../../e2e/harness.js';
 
 const root = fileURLToPath(new URL('../../..', import.meta.url));
 const outDir = join(root, 'test-artifacts', 'screens');
@@ -28,13 +28,9 @@ if (!url) {
   closeServer = () => server.close();
 }
 
-const browser = await launchFreshChromium();
-const page = browser.pages()[0] ?? (await browser.newPage());
-const problems: string[] = [];
-page.on('pageerror', (error) => problems.push(`page error: ${error.message}`));
-page.on('console', (message) => {
-  if (message.type() === 'error') problems.push(`console error: ${message.text()}`);
-});
+const browser = await openBrowser();
+const page = browser.page;
+const problems = collectPageErrors(page);
 
 const screens: { id: string; ready: string }[] = [
   { id: 'sources', ready: '[data-testid="import-history"]' },
