@@ -1,5 +1,5 @@
 import { createHash } from 'node:crypto';
-import { existsSync, mkdirSync, mkdtempSync, readdirSync, readFileSync, writeFileSync } from 'node:fs';
+import { closeSync, existsSync, mkdirSync, mkdtempSync, openSync, readdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
@@ -14,7 +14,9 @@ import {
   generateDemoChain,
   type DemoChainResult,
 } from '../demo-data/generator/index.js';
+import { AsciiSink } from '../demo-data/generator/ascii-sink.js';
 import { STORE_PLACES } from '../demo-data/generator/chain.js';
+import { formatCents } from '../demo-data/generator/generate.js';
 import { buildMessyFiles, messyReadme } from '../demo-data/generator/messy.js';
 import { CancelledError, InputError } from '../src/errors.js';
 
@@ -330,6 +332,31 @@ describe('demo chain generator: determinism, the committed sample and the messy 
     const about = byName.get('bad-dates.csv')!.about;
     const lines = about.match(/on lines ([\d, ]+)\./)![1].split(', ').map(Number);
     expect(lines.map((line) => badDates[line - 1].split(',')[3])).toEqual(['2025-02-30T10:15:00', '2025-13-04T09:20:00', 'yesterday', '']);
+  });
+});
+
+describe('demo chain generator: byte writer', () => {
+  it('writes amounts and padded numbers exactly as formatCents and padStart do', () => {
+    const path = join(freshFolder(), 'sink.txt');
+    const descriptor = openSync(path, 'w');
+    const sink = new AsciiSink(descriptor);
+    const amounts = [0, 1, 9, 10, 99, 100, 101, 1234, 100000, 12345678, -1, -10, -99, -100, -105, -123456];
+    const numbers = [0, 7, 42, 1234567, 12345678];
+    for (const cents of amounts) {
+      sink.cents(cents);
+      sink.byte(10);
+    }
+    for (const value of numbers) {
+      sink.digits(value, 7);
+      sink.byte(10);
+    }
+    sink.text('done\n');
+    sink.flush();
+    closeSync(descriptor);
+    const expected = [...amounts.map(formatCents), ...numbers.map((value) => String(value).padStart(7, '0')), 'done', ''];
+    expect(readFileSync(path, 'utf8').split('\n')).toEqual(expected);
+    expect(formatCents(-305)).toBe('-3.05');
+    expect(formatCents(120)).toBe('1.20');
   });
 });
 

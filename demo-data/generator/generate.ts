@@ -1,7 +1,8 @@
 import { InputError, throwIfAborted } from '../../src/errors.js';
 import { EVENT_NO_RECEIPT, MonthEvents, drawCustomerMonth, type CustomerState } from './activity.js';
 import { CATEGORIES, CHAIN_NAME, STORES } from './chain.js';
-import { FIRST_DATE, LAST_DATE, MONTHS, formatMinute, isoDateOf } from './calendar.js';
+import { AsciiSink, fixedWidthBytes } from './ascii-sink.js';
+import { FIRST_DATE, LAST_DATE, LAST_DAY, MINUTES_PER_DAY, MONTHS, isoDateOf } from './calendar.js';
 import { chooseAtypical, drawCustomer } from './customers.js';
 import { DEMO_FILES, DemoFileSet, prepareOutputFolder, type DemoFileKind } from './output-folder.js';
 
@@ -103,6 +104,9 @@ async function writeChain(files: DemoFileSet, customers: number, seed: number, o
   files.append('receipts', RECEIPTS_HEADER);
   files.append('visits', VISITS_HEADER);
   const events = new MonthEvents();
+  const pieces = rowPieces(states);
+  const receiptSink = files.sink('receipts');
+  const visitSink = files.sink('visits');
   let receipts = 0;
   let receiptRows = 0;
   let refunds = 0;
@@ -115,17 +119,36 @@ async function writeChain(files: DemoFileSet, customers: number, seed: number, o
     for (let index = 0; index < customers; index++) drawCustomerMonth(states[index], index, month, events);
 
     for (const e of events.timeOrder()) {
-      const customerId = states[events.customer[e]].customer.id;
-      const date = formatMinute(events.minute[e]);
-      const storeId = STORES[events.store[e]].id;
-      files.append('visits', `${customerId},${date},${storeId},${events.online[e] ? 'online' : 'store'}\n`);
+      const customerAt = events.customer[e] * pieces.customerIdWidth;
+      const storeAt = events.store[e] * STORE_ID_WIDTH;
+      const minute = events.minute[e];
+      // visits.csv: customer_id,date,store_id,channel
+      visitSink.bytes(pieces.customerIds, customerAt, pieces.customerIdWidth);
+      visitSink.byte(COMMA);
+      writeDateTime(visitSink, pieces, minute);
+      visitSink.byte(COMMA);
+      visitSink.bytes(pieces.storeIds, storeAt, STORE_ID_WIDTH);
+      visitSink.bytes(events.online[e] ? pieces.online : pieces.store);
+      visitSink.endRow();
       visits++;
       if (events.kind[e] === EVENT_NO_RECEIPT) continue;
       receipts++;
       if (events.rowCents[events.rowStart[e]] < 0) refunds++;
-      const receiptPrefix = `R${String(receipts).padStart(7, '0')},${customerId},${storeId},${date},`;
+      // receipts.csv: receipt_id,customer_id,store_id,date,category,amount — one row per department
       for (let row = events.rowStart[e]; row < events.rowEnd[e]; row++) {
-        files.append('receipts', `${receiptPrefix}${CATEGORIES[events.rowCategory[row]]},${formatCents(events.rowCents[row])}\n`);
+        receiptSink.byte(LETTER_R);
+        receiptSink.digits(receipts, RECEIPT_NUMBER_WIDTH);
+        receiptSink.byte(COMMA);
+        receiptSink.bytes(pieces.customerIds, customerAt, pieces.customerIdWidth);
+        receiptSink.byte(COMMA);
+        receiptSink.bytes(pieces.storeIds, storeAt, STORE_ID_WIDTH);
+        receiptSink.byte(COMMA);
+        writeDateTime(receiptSink, pieces, minute);
+        receiptSink.byte(COMMA);
+        receiptSink.bytes(pieces.categories[events.rowCategory[row]]);
+        receiptSink.cents(events.rowCents[row]);
+        receiptSink.byte(NEWLINE);
+        receiptSink.endRow();
         receiptRows++;
       }
     }
@@ -148,6 +171,48 @@ async function writeChain(files: DemoFileSet, customers: number, seed: number, o
   };
   files.append('manifest', `${JSON.stringify(manifest, null, 2)}\n`);
   return { receipts, receiptRows, refunds, visits };
+}
+
+const COMMA = 44;
+const NEWLINE = 10;
+const LETTER_R = 82;
+const STORE_ID_WIDTH = 3;
+const RECEIPT_NUMBER_WIDTH = 7;
+const DATE_WIDTH = 10;
+
+/** The fixed pieces rows are made of, as bytes: ids, dates, departments, channels. */
+function rowPieces(states: CustomerState[]) {
+  const ids = states.map((state) => state.customer.id);
+  const customerIdWidth = ids[0].length;
+  return {
+    customerIdWidth,
+    customerIds: fixedWidthBytes(ids, customerIdWidth),
+    storeIds: fixedWidthBytes(
+      STORES.map((store) => store.id),
+      STORE_ID_WIDTH,
+    ),
+    days: fixedWidthBytes(
+      Array.from({ length: LAST_DAY + 1 }, (_, day) => isoDateOf(day)),
+      DATE_WIDTH,
+    ),
+    categories: CATEGORIES.map((category) => Buffer.from(`${category},`, 'latin1')),
+    online: Buffer.from(',online\n', 'latin1'),
+    store: Buffer.from(',store\n', 'latin1'),
+    timeTail: Buffer.from(':00', 'latin1'),
+  };
+}
+
+/** "2025-03-14T17:42:00": the bytes of formatMinute. */
+function writeDateTime(sink: AsciiSink, pieces: ReturnType<typeof rowPieces>, minute: number): void {
+  const day = Math.floor(minute / MINUTES_PER_DAY);
+  const minuteOfDay = minute - day * MINUTES_PER_DAY;
+  const hour = Math.floor(minuteOfDay / 60);
+  sink.bytes(pieces.days, day * DATE_WIDTH, DATE_WIDTH);
+  sink.byte(84); // 'T'
+  sink.digits(hour, 2);
+  sink.byte(58); // ':'
+  sink.digits(minuteOfDay - hour * 60, 2);
+  sink.bytes(pieces.timeTail);
 }
 
 /** Cents as EUR with two decimals ("-3.05"), without floating-point rounding. */

@@ -1,6 +1,7 @@
-import { accessSync, closeSync, constants, mkdirSync, openSync, readdirSync, renameSync, rmSync, statSync, writeSync } from 'node:fs';
+import { accessSync, closeSync, constants, mkdirSync, openSync, readdirSync, renameSync, rmSync, statSync } from 'node:fs';
 import { join, resolve } from 'node:path';
 import { InputError } from '../../src/errors.js';
+import { AsciiSink } from './ascii-sink.js';
 
 /** Every file the generator writes into its output folder. */
 export const DEMO_FILES = {
@@ -14,7 +15,6 @@ export const DEMO_FILES = {
 export type DemoFileKind = keyof typeof DEMO_FILES;
 
 const PARTIAL_SUFFIX = '.partial';
-const FLUSH_CHARS = 1 << 16;
 const ownNames = new Set(Object.values(DEMO_FILES).flatMap((name) => [name, `${name}${PARTIAL_SUFFIX}`]));
 
 /**
@@ -65,12 +65,12 @@ function folderError(path: string, error: unknown): InputError {
 /**
  * The demo's output files, each written under a temporary name and renamed into place only when
  * all of them are complete, so a failed or cancelled run leaves an earlier demo untouched.
- * Text is gathered in small pieces and written synchronously: short-lived strings stay cheap
- * for the garbage collector, and the generator is CPU-bound anyway (it yields between months).
+ * Rows go through an AsciiSink per file and are written synchronously in 64 KiB pieces: the
+ * generator is CPU-bound anyway and yields between months.
  */
 export class DemoFileSet {
   private readonly descriptors = new Map<DemoFileKind, number>();
-  private readonly pending = new Map<DemoFileKind, string>();
+  private readonly sinks = new Map<DemoFileKind, AsciiSink>();
 
   private constructor(readonly folder: string) {}
 
@@ -78,8 +78,9 @@ export class DemoFileSet {
     const files = new DemoFileSet(folder);
     try {
       for (const kind of Object.keys(DEMO_FILES) as DemoFileKind[]) {
-        files.descriptors.set(kind, openSync(files.partialPath(kind), 'w'));
-        files.pending.set(kind, '');
+        const descriptor = openSync(files.partialPath(kind), 'w');
+        files.descriptors.set(kind, descriptor);
+        files.sinks.set(kind, new AsciiSink(descriptor));
       }
     } catch (error) {
       files.discard();
@@ -92,21 +93,22 @@ export class DemoFileSet {
     return join(this.folder, DEMO_FILES[kind]);
   }
 
-  /** Adds text to a file; it reaches the disk in pieces of about 64 KiB. */
+  /** The byte writer of one file, for rows written piece by piece (call endRow() after each). */
+  sink(kind: DemoFileKind): AsciiSink {
+    return this.sinks.get(kind)!;
+  }
+
+  /** Adds ASCII text to a file. */
   append(kind: DemoFileKind, text: string): void {
-    const pending = this.pending.get(kind)! + text;
-    if (pending.length >= FLUSH_CHARS) {
-      writeSync(this.descriptors.get(kind)!, pending);
-      this.pending.set(kind, '');
-    } else {
-      this.pending.set(kind, pending);
-    }
+    const sink = this.sink(kind);
+    sink.text(text);
+    sink.endRow();
   }
 
   /** Writes what is pending, closes every file and moves it into place. */
   commit(): void {
     for (const [kind, descriptor] of this.descriptors) {
-      writeSync(descriptor, this.pending.get(kind)!);
+      this.sink(kind).flush();
       closeSync(descriptor);
     }
     this.descriptors.clear();
