@@ -1,7 +1,7 @@
 /**
- * Per-customer features for a trailing window, computed in SQLite in one pass over the receipts
- * up to the as-of date (conditional aggregates split the pass into window, last-3-month and
- * prior-3-month sums), one over the visits, and a look-up of join dates. Definitions are in
+ * Per-customer features for a trailing window, computed in SQLite: one pass over the window's
+ * receipts (conditional aggregates give the last-3-month and prior-3-month sums), an index-only
+ * pass for first receipt days, one over the visits, and a look-up of join dates. Definitions are in
  * ./definitions.ts. The population is every customer with at least one receipt row in the window;
  * customers with none there have lapsed and are not part of the run.
  */
@@ -77,30 +77,35 @@ function categorySpellings(categories: readonly string[]): string[] {
   return [...spellings];
 }
 
-/** The one-pass receipts aggregate. Columns in the order read by computeReceiptFeatures. */
-function receiptsAggregateSql(freshCount: number): string {
+/**
+ * The window aggregate: one pass over the window's rows in customer order (the (customer_id, day)
+ * index bounds the days, so rows outside the window are never fetched). Refunds and the 3 months
+ * before the last 3 are derived from other sums (net − bought; last 6 − last 3) to keep the
+ * per-row work small. Columns in the order read by computeReceiptFeatures.
+ */
+function windowAggregateSql(freshCount: number): string {
   const freshList = freshCount > 0 ? Array.from({ length: freshCount }, () => '?').join(', ') : "''";
   return `
     SELECT customer_id,
            min(day),
            max(day),
-           total(CASE WHEN day >= :start THEN amount_cents END),
-           total(CASE WHEN day >= :start AND amount_cents > 0 THEN amount_cents END),
-           total(CASE WHEN day >= :start AND amount_cents < 0 THEN amount_cents END),
-           total(CASE WHEN day >= :start AND amount_cents > 0 AND category IN (${freshList}) THEN amount_cents END),
-           count(CASE WHEN day >= :start AND category IS NOT NULL THEN 1 END),
+           total(amount_cents),
+           total(CASE WHEN amount_cents > 0 THEN amount_cents END),
+           total(CASE WHEN amount_cents > 0 AND category IN (${freshList}) THEN amount_cents END),
+           count(category),
            total(CASE WHEN day >= :last3 THEN amount_cents END),
-           total(CASE WHEN day >= :prev3 AND day < :last3 THEN amount_cents END),
-           count(DISTINCT CASE WHEN day >= :start AND amount_cents > 0
-                 THEN coalesce(receipt_id, day || '|' || ifnull(time, '') || '|' || ifnull(store_id, '')) END),
-           count(CASE WHEN day >= :start THEN 1 END)
+           total(CASE WHEN day >= :prev3 THEN amount_cents END),
+           count(DISTINCT CASE WHEN amount_cents > 0
+                 THEN coalesce(receipt_id, day || '|' || ifnull(time, '') || '|' || ifnull(store_id, '')) END)
       FROM receipts
-     WHERE day <= :asOf
-     GROUP BY customer_id
-    HAVING count(CASE WHEN day >= :start THEN 1 END) > 0`;
+     WHERE day BETWEEN :start AND :asOf
+     GROUP BY customer_id`;
 }
 
-type ReceiptAggregateRow = [string, number, number, number, number, number, number, number, number, number, number, number];
+/** First receipt day per customer up to the as-of date: an index-only scan of (customer_id, day). */
+const firstReceiptSql = 'SELECT customer_id, min(day) FROM receipts WHERE day <= ? GROUP BY customer_id';
+
+type WindowAggregateRow = [string, number, number, number, number, number, number, number, number, number];
 
 /** Growable column of doubles (avoids a JS array of a million boxed numbers). */
 class DoubleColumn {
@@ -150,6 +155,15 @@ export function computeReceiptFeatures(db: Database, options: ComputeFeaturesOpt
   }
   throwIfAborted(options.signal);
 
+  // First receipt days, in the same customer order as the window pass (both walk the same index).
+  const firstIds: string[] = [];
+  const firstDays = new DoubleColumn();
+  for (const [customerId, day] of db.prepare(firstReceiptSql).raw().iterate(window.asOfDay) as Iterable<[string, number]>) {
+    firstIds.push(customerId);
+    firstDays.push(day);
+  }
+  throwIfAborted(options.signal);
+
   const customerIds: string[] = [];
   const columns = computedFeatureNames.map(() => new DoubleColumn());
   const revenue = new DoubleColumn();
@@ -157,11 +171,27 @@ export function computeReceiptFeatures(db: Database, options: ComputeFeaturesOpt
   const windowDays = window.asOfDay - window.startDay + 1;
   let anyCategorised = false;
   let rowCount = 0;
-  const statement = db.prepare(receiptsAggregateSql(fresh.length)).raw();
-  for (const row of statement.iterate(...fresh, params) as Iterable<ReceiptAggregateRow>) {
-    const [customerId, firstReceipt, lastReceipt, netCents, boughtCents, refundCents, freshCents, categorisedRows, last3Cents, prev3Cents, purchases] =
-      row;
+  // Both passes come in customer order, so a forward walk finds each id; a map is the fallback
+  // should SQLite ever order the two differently.
+  let firstAt = 0;
+  let firstById: Map<string, number> | null = null;
+  const firstReceiptOf = (customerId: string): number | undefined => {
+    if (!firstById) {
+      const from = firstAt;
+      while (firstAt < firstIds.length && firstIds[firstAt] !== customerId) firstAt++;
+      if (firstAt < firstIds.length) return firstDays.values[firstAt];
+      firstById = new Map(firstIds.map((id, i) => [id, firstDays.values[i]]));
+      firstAt = from;
+    }
+    return firstById.get(customerId);
+  };
+  const statement = db.prepare(windowAggregateSql(fresh.length)).raw();
+  for (const row of statement.iterate(...fresh, params) as Iterable<WindowAggregateRow>) {
+    const [customerId, firstInWindow, lastReceipt, netCents, boughtCents, freshCents, categorisedRows, last3Cents, last6Cents, purchases] = row;
     if (++rowCount % 65536 === 0) throwIfAborted(options.signal);
+    const firstReceipt = firstReceiptOf(customerId) ?? firstInWindow;
+    const refundCents = netCents - boughtCents;
+    const prev3Cents = last6Cents - last3Cents;
     const visit = visits.get(customerId);
     let firstDay = Math.min(firstReceipt, joined.get(customerId) ?? Infinity, visit?.first ?? Infinity);
     if (firstDay > window.asOfDay) firstDay = firstReceipt;
