@@ -4,7 +4,7 @@ import { transformValue, type FeatureTransform } from '../features/transforms.js
 import { modelFromJSON } from '../model/serialize.js';
 import type { MixtureModel } from '../model/types.js';
 import { decodeFloat64 } from '../runs/blobs.js';
-import { DISPLAY_SAMPLE_SIZE } from '../runs/display-sample.js';
+import { DISTRIBUTION_SAMPLE_SIZE } from '../runs/display-sample.js';
 import { computeFlags } from '../runs/flags.js';
 import { getMovement, getReviewQueue, getRunDetail, listSegments } from '../runs/repository.js';
 import type { RunDetail as CoreRunDetail, SegmentProfile as CoreSegmentProfile } from '../runs/types.js';
@@ -260,10 +260,9 @@ function placedCustomers(db: Database, runId: number): number {
 function displaySampleRows(db: Database, runId: number, start: number, limit: number, size: number): [string, number, Buffer][] {
   return db
     .prepare(
-      `SELECT m.customer_id, m.segment_index, m.features
-       FROM run_samples s JOIN run_memberships m ON m.run_id = s.run_id AND m.customer_id = s.customer_id
-       WHERE s.run_id = @runId
-       ORDER BY (s.position - @start + @size) % @size LIMIT @limit`,
+      `SELECT customer_id, segment_index, features FROM run_samples
+       WHERE run_id = @runId AND ((position - @start + @size) % @size) < @limit
+       ORDER BY (position - @start + @size) % @size`,
     )
     .raw()
     .all({ runId, start, limit, size: Math.max(1, size) }) as [string, number, Buffer][];
@@ -279,7 +278,7 @@ export function segmentSampleView(db: Database, input: ApiParsedInput<'segmentSa
   const total = placedCustomers(db, runId);
   // The seed picks where in the stored random order the sample starts; any stretch of it is uniform.
   const size = displaySampleSize(db, runId);
-  const rows = displaySampleRows(db, runId, size > 0 ? (seed * limit) % size : 0, limit, size);
+  const rows = displaySampleRows(db, runId, size > 0 ? ((seed % size) * (limit % size)) % size : 0, limit, size);
   const featureCount = model.features.length;
   return {
     runId,
@@ -300,7 +299,7 @@ export function segmentSampleView(db: Database, input: ApiParsedInput<'segmentSa
 
 /**
  * A histogram per segment of one stored feature, in original units, over the run's display
- * sample of up to 20,000 placed customers (the result says how many), so its cost does not grow
+ * sample (its first 10,000 placed customers; the result says how many), so its cost does not grow
  * with the run. Bins span the 1st to 99th percentile so a few extreme customers do not squash
  * the rest into one bar.
  */
@@ -310,7 +309,7 @@ export function featureDistributionView(db: Database, input: ApiParsedInput<'fea
   const column = detail.storedFeatures.indexOf(feature);
   if (column < 0) throw new InputError(`Run ${runId} has no feature "${feature}"; it stores ${detail.storedFeatures.join(', ')}.`);
   const total = placedCustomers(db, runId);
-  const rows = displaySampleRows(db, runId, 0, DISPLAY_SAMPLE_SIZE, displaySampleSize(db, runId)).map(([, segment, blob]) => [segment, blob] as const);
+  const rows = displaySampleRows(db, runId, 0, DISTRIBUTION_SAMPLE_SIZE, displaySampleSize(db, runId)).map(([, segment, blob]) => [segment, blob] as const);
   const values: { segment: number; value: number }[] = [];
   for (const [segment, blob] of rows) {
     const value = decodeFloat64(blob)[column];

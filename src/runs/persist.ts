@@ -9,6 +9,7 @@ import type { FeatureTransform } from '../features/transforms.js';
 import { modelToJSON } from '../model/serialize.js';
 import type { Memberships, MixtureModel, SelectionCriterion, SweepRow } from '../model/types.js';
 import { encodeFloat64 } from './blobs.js';
+import { displaySamplePositions } from './display-sample.js';
 import type { Flags } from './flags.js';
 import type { NamedSegment } from './naming.js';
 import type { ParentDecision } from './parent.js';
@@ -70,6 +71,7 @@ export function persistRun(db: Database, record: RunRecord): number {
     INSERT INTO run_memberships (run_id, customer_id, segment_index, confidence, margin, second_index, second_probability, log_density,
                                  borderline, atypical, partial, too_new, review, previous_key, revenue_cents, spend_per_month, features, posteriors)
     VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`);
+  const insertSample = db.prepare('INSERT INTO run_samples (run_id, position, customer_id, segment_index, features) VALUES (?, ?, ?, ?, ?)');
   const insertDecision = db.prepare(`
     INSERT INTO review_decisions (run_id, customer_id, action, segment_key, note, reviewer, decided_at, carried_from_run_id)
     VALUES (?, ?, ?, ?, ?, ?, ?, ?)`);
@@ -130,6 +132,7 @@ export function persistRun(db: Database, record: RunRecord): number {
       );
     }
     const featureVector = new Float64Array(storedFeatures.length);
+    const sampleAt = displaySamplePositions(placed, record.settings.seed);
     for (let i = 0; i < table.customerIds.length; i++) {
       for (let j = 0; j < storedColumns.length; j++) featureVector[j] = storedColumns[j][i];
       const spend = spendColumn >= 0 && !Number.isNaN(table.columns[spendColumn][i]) ? table.columns[spendColumn][i] : null;
@@ -159,6 +162,7 @@ export function persistRun(db: Database, record: RunRecord): number {
           encodeFloat64(featureVector),
           encodeFloat64(memberships.posteriors.subarray(p * k, (p + 1) * k)),
         );
+        if (sampleAt[p] >= 0) insertSample.run(runId, sampleAt[p], table.customerIds[i], memberships.topSegment[p], encodeFloat64(featureVector));
       }
       if ((i + 1) % 50_000 === 0) record.onProgress?.(i + 1);
     }
