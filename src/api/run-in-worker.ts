@@ -19,6 +19,8 @@ export function runInWorker<M extends LongTaskMethod>(
   context: { signal: AbortSignal; onProgress: ProgressReporter },
 ): Promise<TaskResults[M]> {
   return new Promise((resolve, reject) => {
+    // Starting a thread (and, from source, its TypeScript loader) takes a moment: say so at once.
+    context.onProgress({ phase: 'starting', done: 0, total: null, message: 'Starting a worker thread' });
     const worker = startWorker(new URL(`./task-worker${import.meta.url.endsWith('.ts') ? '.ts' : '.js'}`, import.meta.url), {
       workerData: request,
     });
