@@ -1,4 +1,5 @@
 import { emptyStatistics, type SufficientStatistics } from './estep.js';
+import { compiledKernel, range } from './kernel.js';
 import type { RandomStream } from './random.js';
 import type { InitMethod } from './types.js';
 
@@ -17,10 +18,12 @@ const KMEANS_RELATIVE_TOL = 1e-4;
  */
 export function initialLabels(values: Float64Array, n: number, d: number, k: number, method: InitMethod, random: RandomStream): Int32Array {
   const centers = method === 'random' ? randomRows(values, n, d, k, random) : kMeansPlusPlus(values, n, d, k, random);
-  const labels = new Int32Array(n);
+  const labels = new Int32Array(n).fill(-1);
   const distances = new Float64Array(n);
-  assignNearest(values, n, d, centers, k, labels, distances);
-  if (method === 'kmeans') lloyd(values, n, d, centers, k, labels, distances);
+  const sums = new Float64Array(k * d);
+  const counts = new Float64Array(k);
+  assignNearest(values, n, d, centers, k, labels, distances, sums, counts);
+  if (method === 'kmeans') lloyd(values, n, d, centers, k, labels, distances, sums, counts);
   return labels;
 }
 
@@ -33,24 +36,62 @@ function squaredDistance(values: Float64Array, row: number, centers: Float64Arra
   return sum;
 }
 
-/** Writes each row's nearest center and squared distance; returns whether any label changed. */
-function assignNearest(values: Float64Array, n: number, d: number, centers: Float64Array, k: number, labels: Int32Array, distances: Float64Array): boolean {
-  let changed = false;
-  for (let row = 0; row < n; row++) {
-    let best = 0;
-    let bestDistance = Infinity;
-    for (let c = 0; c < k; c++) {
-      const distance = squaredDistance(values, row, centers, c, d);
-      if (distance < bestDistance) {
-        bestDistance = distance;
-        best = c;
-      }
-    }
-    if (labels[row] !== best) changed = true;
-    labels[row] = best;
-    distances[row] = bestDistance;
-  }
-  return changed;
+/**
+ * One pass over the rows (unrolled for d, see kernel.ts): each row's nearest center and squared
+ * distance, the per-center sums and counts of the new assignment (for the next center update),
+ * and the number of labels that changed.
+ */
+type AssignKernel = (
+  values: Float64Array,
+  n: number,
+  centers: Float64Array,
+  k: number,
+  labels: Int32Array,
+  distances: Float64Array,
+  sums: Float64Array,
+  counts: Float64Array,
+) => number;
+
+function assignKernel(d: number): AssignKernel {
+  return compiledKernel<AssignKernel>(`assign/${d}`, ['values', 'n', 'centers', 'k', 'labels', 'distances', 'sums', 'counts'], () => {
+    const lines = [
+      `'use strict';`,
+      `let changed = 0;`,
+      `sums.fill(0); counts.fill(0);`,
+      `for (let row = 0; row < n; row++) {`,
+      `  const base = row * ${d};`,
+      ...range(d).map((a) => `  const x${a} = values[base + ${a}];`),
+      `  let best = 0, bestDistance = Infinity;`,
+      `  for (let c = 0; c < k; c++) {`,
+      `    const m = c * ${d};`,
+      ...range(d).map((a) => `    const e${a} = x${a} - centers[m + ${a}];`),
+      `    const distance = ${range(d).map((a) => `e${a} * e${a}`).join(' + ')};`,
+      `    if (distance < bestDistance) { bestDistance = distance; best = c; }`,
+      `  }`,
+      `  if (labels[row] !== best) { changed++; labels[row] = best; }`,
+      `  distances[row] = bestDistance;`,
+      `  counts[best]++;`,
+      ...range(d).map((a) => `  sums[best * ${d} + ${a}] += x${a};`),
+      `}`,
+      `return changed;`,
+    ];
+    return lines.join('\n');
+  });
+}
+
+/** Writes each row's nearest center and squared distance (and the new sums and counts); returns whether any label changed. */
+function assignNearest(
+  values: Float64Array,
+  n: number,
+  d: number,
+  centers: Float64Array,
+  k: number,
+  labels: Int32Array,
+  distances: Float64Array,
+  sums: Float64Array,
+  counts: Float64Array,
+): boolean {
+  return assignKernel(d)(values, n, centers, k, labels, distances, sums, counts) > 0;
 }
 
 function randomRows(values: Float64Array, n: number, d: number, k: number, random: RandomStream): Float64Array {
@@ -96,17 +137,7 @@ export function kMeansPlusPlus(values: Float64Array, n: number, d: number, k: nu
     for (let trial = 0; trial < trials; trial++) {
       const target = random.float() * running;
       const candidate = potential > 0 ? searchSorted(cumulative, target) : random.integer(0, n - 1);
-      let candidatePotential = 0;
-      for (let row = 0; row < n; row++) {
-        let distance = 0;
-        for (let a = 0; a < d; a++) {
-          const difference = values[row * d + a] - values[candidate * d + a];
-          distance += difference * difference;
-        }
-        const nearest = distance < closest[row] ? distance : closest[row];
-        candidateDistances[row] = nearest;
-        candidatePotential += nearest;
-      }
+      const candidatePotential = candidateKernel(d)(values, n, candidate, closest, candidateDistances);
       if (candidatePotential < bestPotential) {
         bestPotential = candidatePotential;
         bestCandidate = candidate;
@@ -118,6 +149,28 @@ export function kMeansPlusPlus(values: Float64Array, n: number, d: number, k: nu
     potential = bestPotential;
   }
   return centers;
+}
+
+/** Squared distance of every row to the nearest of (its closest seed, the candidate row); returns their sum. */
+type CandidateKernel = (values: Float64Array, n: number, candidate: number, closest: Float64Array, candidateDistances: Float64Array) => number;
+
+function candidateKernel(d: number): CandidateKernel {
+  return compiledKernel<CandidateKernel>(`candidate/${d}`, ['values', 'n', 'candidate', 'closest', 'candidateDistances'], () =>
+    [
+      `'use strict';`,
+      ...range(d).map((a) => `const y${a} = values[candidate * ${d} + ${a}];`),
+      `let potential = 0;`,
+      `for (let row = 0; row < n; row++) {`,
+      `  const base = row * ${d};`,
+      ...range(d).map((a) => `  const e${a} = values[base + ${a}] - y${a};`),
+      `  const distance = ${range(d).map((a) => `e${a} * e${a}`).join(' + ')};`,
+      `  const nearest = distance < closest[row] ? distance : closest[row];`,
+      `  candidateDistances[row] = nearest;`,
+      `  potential += nearest;`,
+      `}`,
+      `return potential;`,
+    ].join('\n'),
+  );
 }
 
 /** First index whose cumulative value exceeds target (rows with zero weight are never picked). */
@@ -132,19 +185,20 @@ function searchSorted(cumulative: Float64Array, target: number): number {
   return low;
 }
 
-/** Lloyd iterations; an emptied cluster takes the row farthest from its center. */
-function lloyd(values: Float64Array, n: number, d: number, centers: Float64Array, k: number, labels: Int32Array, distances: Float64Array): void {
+/** Lloyd iterations from the sums and counts of the current assignment; an emptied cluster takes the row farthest from its center. */
+function lloyd(
+  values: Float64Array,
+  n: number,
+  d: number,
+  centers: Float64Array,
+  k: number,
+  labels: Int32Array,
+  distances: Float64Array,
+  sums: Float64Array,
+  counts: Float64Array,
+): void {
   const tolerance = KMEANS_RELATIVE_TOL * meanFeatureVariance(values, n, d);
-  const sums = new Float64Array(k * d);
-  const counts = new Float64Array(k);
   for (let iteration = 0; iteration < KMEANS_MAX_ITERATIONS; iteration++) {
-    sums.fill(0);
-    counts.fill(0);
-    for (let row = 0; row < n; row++) {
-      const label = labels[row];
-      counts[label]++;
-      for (let a = 0; a < d; a++) sums[label * d + a] += values[row * d + a];
-    }
     let shift = 0;
     for (let c = 0; c < k; c++) {
       if (counts[c] === 0) {
@@ -164,7 +218,7 @@ function lloyd(values: Float64Array, n: number, d: number, centers: Float64Array
         centers[c * d + a] = updated;
       }
     }
-    const changed = assignNearest(values, n, d, centers, k, labels, distances);
+    const changed = assignNearest(values, n, d, centers, k, labels, distances, sums, counts);
     if (!changed || shift <= tolerance) return;
   }
 }

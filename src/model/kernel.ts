@@ -39,22 +39,27 @@ export type ExpectationKernel = (
   summary: Float64Array,
 ) => void;
 
-const cache = new Map<string, ExpectationKernel>();
+const cache = new Map<string, unknown>();
 
-export function expectationKernel(shape: KernelShape): ExpectationKernel {
-  const key = `${shape.dimensions}/${shape.triangular}/${shape.statistics}/${shape.posteriors}`;
+/** Compiles generated source once per key (the source depends only on integers and flags). */
+export function compiledKernel<T>(key: string, parameters: string[], source: () => string): T {
   let kernel = cache.get(key);
   if (!kernel) {
-    kernel = new Function(
-      'values', 'rowStart', 'rowEnd', 'k', 'logConstants', 'means', 'factors', 'weightSums', 'firstMoments', 'secondMoments', 'posteriors', 'summary',
-      kernelSource(shape),
-    ) as ExpectationKernel;
+    kernel = new Function(...parameters, source());
     cache.set(key, kernel);
   }
-  return kernel;
+  return kernel as T;
 }
 
-const range = (count: number) => Array.from({ length: count }, (_, index) => index);
+export function expectationKernel(shape: KernelShape): ExpectationKernel {
+  return compiledKernel<ExpectationKernel>(
+    `estep/${shape.dimensions}/${shape.triangular}/${shape.statistics}/${shape.posteriors}`,
+    ['values', 'rowStart', 'rowEnd', 'k', 'logConstants', 'means', 'factors', 'weightSums', 'firstMoments', 'secondMoments', 'posteriors', 'summary'],
+    () => kernelSource(shape),
+  );
+}
+
+export const range = (count: number) => Array.from({ length: count }, (_, index) => index);
 
 /** Rows per block: responsibilities of a block are computed first, then its statistics per component. */
 export const KERNEL_BLOCK_ROWS = 256;
