@@ -1,5 +1,5 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { isInputError } from '../../src/errors.js';
+import { CancelledError, isInputError } from '../../src/errors.js';
 import { transformValue, type FeatureTransform } from '../../src/features/transforms.js';
 import { adjustedRandIndex } from '../../src/model/agreement.js';
 import { modelFromJSON } from '../../src/model/serialize.js';
@@ -259,6 +259,41 @@ describe('reading a run', () => {
     const best = table.reduce((a, b) => (b.bic < a.bic ? b : a));
     expect([swept.k, swept.covariance]).toEqual([best.k, best.covarianceType]);
     expect(swept.bic).toBeCloseTo(best.bic, 6);
+  });
+});
+
+describe('options of a run', () => {
+  it('queues low-confidence movers when asked, and reports progress by phase', async () => {
+    const phases = new Set<string>();
+    const withMovers = await runSegmentation(
+      db,
+      { ...base, asOf: '2026-11-30', parentRunId: october.runId, reviewMoversBelowConfidence: 0.95 },
+      { onProgress: (progress) => phases.add(progress.phase) },
+    );
+    expect([...phases]).toEqual(['features', 'transform', 'fit', 'score', 'profiles', 'movement', 'store']);
+    const movers = getReviewQueue(db, withMovers.runId, { limit: 10_000 }).items.filter((item) => item.reasons.includes('mover'));
+    expect(movers.length).toBeGreaterThan(0);
+    for (const item of movers) {
+      expect(item.confidence!).toBeLessThan(0.95);
+      expect(item.previousSegmentName).not.toBe(item.segmentName);
+    }
+  });
+
+  it('a cancelled run stores nothing', async () => {
+    const runsBefore = listRuns(db).length;
+    const controller = new AbortController();
+    controller.abort();
+    await expect(runSegmentation(db, base, { signal: controller.signal })).rejects.toBeInstanceOf(CancelledError);
+    expect(listRuns(db).length).toBe(runsBefore);
+  });
+
+  it('segment names stay unique within a run', () => {
+    const [first, second] = listSegments(db, november.runId);
+    expect(() => renameSegment(db, november.runId, second.key, first.name)).toThrow(/already has a segment named/);
+    expect(() => renameSegment(db, november.runId, 'S999', 'Anything')).toThrow(/has no segment "S999"/);
+    expect(() => renameSegment(db, november.runId, first.index, '   ')).toThrow(/cannot be empty/);
+    expect(renameSegment(db, november.runId, second.name, 'Weekly shop').name).toBe('Weekly shop');
+    expect(getMovement(db, november.runId)!.currentSegments.map((segment) => segment.name)).toContain('Weekly shop');
   });
 });
 
