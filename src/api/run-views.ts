@@ -243,11 +243,6 @@ export function certaintyView(db: Database, input: ApiParsedInput<'certainty'>):
   };
 }
 
-/**
- * A seeded systematic sample of the run's placed customers, in id order (ids carry no order of
- * spend, so every segment is represented in proportion). SQLite numbers the rows and keeps every
- * step-th; only the sampled rows' feature BLOBs are read, so the cost barely grows with the run.
- */
 /** Placed customers of a run (stored with the run, so no scan of its memberships). */
 function placedCustomers(db: Database, runId: number): number {
   return db.prepare('SELECT customers FROM runs WHERE run_id = ?').pluck().get(runId) as number;
@@ -272,6 +267,10 @@ function displaySampleSize(db: Database, runId: number): number {
   return db.prepare('SELECT count(*) FROM run_samples WHERE run_id = ?').pluck().get(runId) as number;
 }
 
+/**
+ * Up to `limit` customers of the run's stored display sample (uniform, drawn with the run's
+ * seed), with their features in model space and original units, for the scatter plots.
+ */
 export function segmentSampleView(db: Database, input: ApiParsedInput<'segmentSample'>): SegmentSample {
   const { runId, limit, seed } = input;
   const model = runModel(db, runId);
