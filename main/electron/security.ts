@@ -1,4 +1,5 @@
 import type { BrowserWindow, Session, WebContents, WebPreferences } from 'electron';
+import { contentSecurityPolicy } from '../../src/api/content-security-policy.js';
 import { appOrigin } from './channels.js';
 
 /**
@@ -24,19 +25,8 @@ export function secureWebPreferences(preloadPath: string): WebPreferences {
   };
 }
 
-/** The content security policy sent with every page of ours: nothing but our own origin. */
-export const electronContentSecurityPolicy = [
-  "default-src 'self'",
-  "script-src 'self'",
-  "style-src 'self' 'unsafe-inline'",
-  "img-src 'self' data: blob:",
-  "font-src 'self'",
-  "connect-src 'self'",
-  "object-src 'none'",
-  "base-uri 'none'",
-  "frame-ancestors 'none'",
-  "form-action 'none'",
-].join('; ');
+/** The content security policy sent with every page of ours (the same as the browser host's). */
+export const electronContentSecurityPolicy = contentSecurityPolicy;
 
 /** True for URLs of our own app scheme (the only content a window may show). */
 export function isAppUrl(url: string): boolean {

@@ -7,9 +7,12 @@ import { basename, extname, join, normalize, resolve, sep } from 'node:path';
 import { pipeline } from 'node:stream/promises';
 import { InputError } from '../errors.js';
 import { httpStatusFor, toApiError } from './api-errors.js';
+import { contentSecurityPolicy } from './content-security-policy.js';
 import { tokenHeader, type CallOutcome, type TaskEvent } from './contract.js';
 import { callApiOutcome } from './handlers.js';
 import type { ApiSession } from './session.js';
+
+export { contentSecurityPolicy };
 
 /** The only interface the host listens on (DESIGN.md §12). */
 export const HOST_ADDRESS = '127.0.0.1';
@@ -19,23 +22,6 @@ const MAX_JSON_BYTES = 1024 * 1024;
 /** SSE comment sent this often so idle connections are not dropped by anything in between. */
 const HEARTBEAT_MS = 15_000;
 
-/**
- * The page's content security policy: everything from this origin only, no plug-ins, no framing,
- * no inline or remote scripts. Inline styles stay allowed because chart libraries position
- * tooltips with style attributes.
- */
-export const contentSecurityPolicy = [
-  "default-src 'self'",
-  "script-src 'self'",
-  "style-src 'self' 'unsafe-inline'",
-  "img-src 'self' data: blob:",
-  "font-src 'self'",
-  "connect-src 'self'",
-  "object-src 'none'",
-  "base-uri 'none'",
-  "frame-ancestors 'none'",
-  "form-action 'none'",
-].join('; ');
 
 const contentTypes: Record<string, string> = {
   '.html': 'text/html; charset=utf-8',
