@@ -53,7 +53,7 @@ export type ImportPhase = 'checking' | 'reading' | 'indexing' | 'committing' | '
  * A load this large (estimated rows), and at least a quarter of the rows already there, drops the
  * table's non-unique indexes and rebuilds them once at the end (sorting beats random inserts).
  */
-const BULK_LOAD_MIN_ROWS = 100_000;
+const BULK_LOAD_MIN_ROWS = 50_000;
 const BULK_LOAD_MIN_SHARE = 0.25;
 
 export interface ImportProgress {
