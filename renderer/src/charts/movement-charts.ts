@@ -48,12 +48,12 @@ export function heatmapOption(movement: MovementResult, format: Formatters): ECh
  * the chart rather than inventing flows. Node names carry a side prefix because a sankey needs
  * unique names and matched segments keep theirs.
  */
-export function flowOption(movement: MovementResult, colourForName: (name: string) => string, format: Formatters): EChartsCoreOption {
+export function flowOption(movement: MovementResult, colourForNode: (node: string) => string, format: Formatters): EChartsCoreOption {
   const before = (name: string) => `before: ${name}`;
   const after = (name: string) => `now: ${name}`;
   const nodes: Record<string, unknown>[] = [
-    ...movement.parentSegments.map((s) => ({ name: before(s.name), itemStyle: { color: colourForName(s.name) } })),
-    ...movement.currentSegments.map((s) => ({ name: after(s.name), itemStyle: { color: colourForName(s.name) } })),
+    ...movement.parentSegments.map((s) => ({ name: before(s.name), itemStyle: { color: colourForNode(before(s.name)) } })),
+    ...movement.currentSegments.map((s) => ({ name: after(s.name), itemStyle: { color: colourForNode(after(s.name)) } })),
   ];
   const links: { source: string; target: string; value: number }[] = [];
   movement.matrix.forEach((row, i) =>

@@ -10,6 +10,7 @@ import { flowOption, heatmapOption } from '../charts/movement-charts.js';
 import { colourOf } from '../charts/segment-charts.js';
 import { Chart } from '../components/Chart.js';
 import { EmptyState, ErrorNote, Loading } from '../components/Notice.js';
+import { orderMovement, stayedCount } from '../lib/movement-order.js';
 import { ui } from '../lib/palette.js';
 import { RunScreen } from './NoRun.js';
 
@@ -21,19 +22,43 @@ function MovementView({ runId }: { runId: number }) {
   const api = useApi();
   const format = useFormat();
   const { segments } = useWorkspace();
-  const { ordered } = segmentIndex(segments);
+  const { byIndex } = useMemo(() => segmentIndex(segments), [segments]);
   const movement = useLoad(() => api.movement({ runId }), `movement:${runId}`);
-  const data = movement.data;
+  const parentRunId = movement.data?.parentRunId ?? null;
+  // The parent's segment keys say which of last month's segments each of this month's continues.
+  const parent = useLoad(parentRunId === null ? null : () => api.segments({ runId: parentRunId }), `parent-segments:${parentRunId}`);
 
-  // Matched segments keep their names across months, so a name finds its colour in either run.
-  const colourForName = useMemo(() => {
-    const byName = new Map(ordered.map((segment) => [segment.name, colourOf(segment)]));
-    return (name: string) => byName.get(name) ?? ui.inkSoft;
-  }, [ordered]);
-  const heatmap = useMemo(() => (data && data.parentRunId !== null ? heatmapOption(data, format) : null), [data, format]);
-  const flow = useMemo(() => (data && data.parentRunId !== null ? flowOption(data, colourForName, format) : null), [data, colourForName, format]);
+  const view = useMemo(() => {
+    const raw = movement.data;
+    if (!raw || raw.parentRunId === null || !parent.data) return null;
+    const parentByIndex = new Map(parent.data.segments.map((segment) => [segment.segment, segment]));
+    const currentByKey = new Map([...byIndex.values()].map((segment) => [segment.key, segment]));
+    const ordered = orderMovement(
+      raw,
+      (segment) => parentByIndex.get(segment)?.spendRank ?? Number.MAX_SAFE_INTEGER,
+      (segment) => byIndex.get(segment)?.spendRank ?? Number.MAX_SAFE_INTEGER,
+    );
+    const colourByName = new Map<string, string>();
+    for (const entry of ordered.currentSegments) {
+      const current = byIndex.get(entry.segment);
+      colourByName.set(`now: ${entry.name}`, current ? colourOf(current) : ui.inkSoft);
+    }
+    for (const entry of ordered.parentSegments) {
+      // A parent segment wears the colour of the segment that continues it; retired ones stay grey.
+      const continued = currentByKey.get(parentByIndex.get(entry.segment)?.key ?? '');
+      colourByName.set(`before: ${entry.name}`, continued ? colourOf(continued) : ui.inkSoft);
+    }
+    return {
+      heatmap: heatmapOption(ordered, format),
+      flow: flowOption(ordered, (node) => colourByName.get(node) ?? ui.inkSoft, format),
+      stayed: stayedCount(ordered, (segment) => parentByIndex.get(segment)?.key, (segment) => byIndex.get(segment)?.key),
+    };
+  }, [movement.data, parent.data, byIndex, format]);
+  const data = movement.data;
   const common = data?.common ?? 0;
-  const stayed = data ? data.matrix.reduce((sum, row, i) => sum + row.reduce((a, count, j) => a + (data.parentSegments[i]?.name === data.currentSegments[j]?.name ? count : 0), 0), 0) : 0;
+  const stayed = view?.stayed ?? 0;
+  const heatmap = view?.heatmap ?? null;
+  const flow = view?.flow ?? null;
 
   return (
     <section className="screen" data-testid="screen-movement">
@@ -57,7 +82,7 @@ function MovementView({ runId }: { runId: number }) {
             </div>
             <div className="stat">
               <span className="stat-value">{format.count(common)}</span>
-              <span className="stat-label">in both runs, {format.percent(stayed / Math.max(1, common))} in a segment of the same name</span>
+              <span className="stat-label">in both runs, {view ? format.percent(stayed / Math.max(1, common)) : '…'} still in the segment that continues theirs</span>
             </div>
             <div className="stat">
               <span className="stat-value" data-testid="movement-entered">{format.count(data.entered)}</span>
