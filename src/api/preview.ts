@@ -71,6 +71,7 @@ export async function previewFile(db: Database, input: ApiParsedInput<'previewFi
   const source = await openRecordSource(probe, { sheet: input.sheet, decimalComma });
   const saved = savedMapping(db, kind);
   let resolved: ResolvedMapping | null = null;
+  let partialMapping: Record<string, string> = {};
   let missingFields: string[] = [];
   try {
     resolved = resolveMapping({ kind, header: source.header, explicit: input.mapping, saved, context: source.context() });
@@ -78,6 +79,10 @@ export async function previewFile(db: Database, input: ApiParsedInput<'previewFi
     const missing = error instanceof InputError ? (error.details?.missing as string[] | undefined) : undefined;
     if (!missing) throw error;
     missingFields = missing;
+    // Still offer what the importer would match: resolve again with a stand-in column named as
+    // each missing field, then leave the stand-ins out.
+    const standIns = resolveMapping({ kind, header: [...source.header, ...missing], explicit: input.mapping, saved });
+    partialMapping = Object.fromEntries(Object.entries(standIns.mapping).filter(([column]) => source.header.includes(column)));
   }
   const mappingSource: FilePreview['mappingSource'] = input.mapping
     ? 'given'
@@ -121,7 +126,7 @@ export async function previewFile(db: Database, input: ApiParsedInput<'previewFi
       required: field.required,
       description: field.synonyms.length ? `also read from: ${field.synonyms.slice(0, 4).join(', ')}` : '',
     })),
-    mapping: resolved?.mapping ?? input.mapping ?? {},
+    mapping: resolved?.mapping ?? partialMapping,
     mappingSource,
     missingFields,
     rows,
