@@ -38,7 +38,7 @@ export function App() {
   const [demoTaskId, setDemoTaskId] = useState<string | null>(null);
 
   const refreshDatabase = useCallback(
-    (selectLatestRun = false) => {
+    (selectLatestRun = false, deferSummary = false) => {
       const fail = (error: unknown) => setFailure(toApiError(error));
       // Runs first and alone: the screens need the run id, and nothing else should wait for it.
       api.listRuns({}).then((list) => {
@@ -54,14 +54,17 @@ export function App() {
         setAppInfo(info);
         setModelOptions(options);
       }, fail);
-      // The database summary counts whole tables, which takes a while on a large database; it is
-      // read once the screen's own requests are on their way so it never delays the first paint.
-      window.setTimeout(() => api.databaseInfo({}).then(setDatabase, fail), databaseSummaryDelayMs);
+      // The database summary counts whole tables, which takes a while on a large database; at
+      // start-up it is read once the screen's own requests are on their way, so it never delays
+      // the first paint. After an import or a run it is read at once.
+      const readSummary = () => api.databaseInfo({}).then(setDatabase, fail);
+      if (deferSummary) window.setTimeout(readSummary, databaseSummaryDelayMs);
+      else readSummary();
     },
     [api],
   );
 
-  useEffect(() => refreshDatabase(), [refreshDatabase]);
+  useEffect(() => refreshDatabase(false, true), [refreshDatabase]);
 
   useEffect(() => {
     if (runId === null) {

@@ -20,7 +20,7 @@ export interface Workspace {
   setRunId: (runId: number) => void;
   navigate: (screen: ScreenId) => void;
   /** Re-read database counts and the run list (after an import, a run, the demo). */
-  refreshDatabase: (selectLatestRun?: boolean) => void;
+  refreshDatabase: (selectLatestRun?: boolean, deferSummary?: boolean) => void;
   /** Re-read the segments of the run in view (after a rename or a review decision). */
   refreshSegments: () => void;
 }

@@ -58,8 +58,8 @@ export function SourcesScreen() {
           </button>
         </div>
         <p className="quiet">
-          {empty ? 'This database is empty. ' : ''}Larkmoor Fresh Markets is an invented chain of 16 stores with about 6,000 loyalty customers, generated
-          from a fixed seed; nothing in it is real.
+          {empty ? 'This database is empty. ' : ''}Larkmoor Fresh Markets is an invented grocery chain (16 stores, a loyalty card, receipts in EUR),
+          generated from a fixed seed; nothing in it is real.
         </p>
         <TaskPanel<DemoResult>
           view={demo.view}
@@ -76,7 +76,14 @@ export function SourcesScreen() {
         />
       </div>
 
-      <ImportPanel onImported={(result) => { refreshDatabase(); if (result.importId !== null && result.rowsRejected > 0) setReportFor(result.importId); }} onOpenReport={setReportFor} />
+      <ImportPanel
+        onImported={(result) => {
+          refreshDatabase();
+          imports.reload();
+          if (result.importId !== null && result.rowsRejected > 0) setReportFor(result.importId);
+        }}
+        onOpenReport={setReportFor}
+      />
 
       <div className="panel">
         <h2>Import history</h2>
