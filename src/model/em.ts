@@ -28,6 +28,31 @@ export interface FitContext {
   patterns: MissingPattern[] | null;
   /** Values with NaNs filled by column means, for k-means and re-seeding; `values` when complete. */
   filledValues: Float64Array;
+  /**
+   * Initial labels by (k, init, seed, restart): they do not depend on the covariance structure,
+   * so a sweep computes each k-means start once per thread, not once per structure.
+   */
+  initialLabels: Map<string, Int32Array>;
+}
+
+/** Cached initial labels kept per context, at most this many bytes (oldest dropped first). */
+const LABEL_CACHE_BYTES = 64 * 1024 * 1024;
+
+function startingLabels(context: FitContext, options: ResolvedFitOptions, restart: number): Int32Array {
+  const key = `${options.components}/${options.init}/${options.seed}/${restart}`;
+  const cached = context.initialLabels.get(key);
+  if (cached) return cached;
+  const random = restartStream(options.seed, 2 * restart);
+  const labels = initialLabels(context.filledValues, context.rows, context.cols, options.components, options.init, random);
+  let bytes = labels.byteLength;
+  for (const entry of context.initialLabels.values()) bytes += entry.byteLength;
+  for (const [oldest, entry] of context.initialLabels) {
+    if (bytes <= LABEL_CACHE_BYTES) break;
+    context.initialLabels.delete(oldest);
+    bytes -= entry.byteLength;
+  }
+  if (bytes <= LABEL_CACHE_BYTES) context.initialLabels.set(key, labels);
+  return labels;
 }
 
 export function prepareFitContext(data: DataMatrix, anyMissing: boolean): FitContext {
@@ -38,6 +63,7 @@ export function prepareFitContext(data: DataMatrix, anyMissing: boolean): FitCon
     cols,
     patterns: anyMissing ? groupByMissingPattern(values, rows, cols) : null,
     filledValues: anyMissing ? meanFilled(values, rows, cols) : values,
+    initialLabels: new Map(),
   };
 }
 
@@ -176,13 +202,13 @@ export function* restartSteps(
   const { rows: n, cols: d } = context;
   const { components: k, covarianceType, tol, maxIterations, regularization } = options;
   const diagonalOnly = context.patterns === null && (covarianceType === 'diag' || covarianceType === 'spherical');
-  const random = restartStream(options.seed, restart);
+  const random = restartStream(options.seed, 2 * restart + 1); // for re-seeding; stream 2r starts the restart
   const warnings = new WarningLog();
   const report = (iteration: number, logLikelihood: number) => onProgress?.({ k, covarianceType, restart, iteration, logLikelihood });
 
   throwIfAborted(signal);
   report(0, NaN);
-  const labels = initialLabels(context.filledValues, n, d, k, options.init, random);
+  const labels = startingLabels(context, options, restart);
   let outcome = maximizationStep(statisticsFromLabels(context.filledValues, n, d, labels, k, diagonalOnly), covarianceType, regularization);
   noteMaximization(outcome, 0, warnings);
   let model = outcome.model;

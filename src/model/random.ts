@@ -12,12 +12,13 @@ export interface RandomStream {
 }
 
 /**
- * The stream of one restart: the seed's generator jumped `restart` times, so restarts draw from
- * non-overlapping parts of one sequence and any restart can be replayed alone (on any thread).
+ * Stream number `index` of a seed: the seed's generator jumped `index` times, so streams draw
+ * from non-overlapping parts of one sequence and any of them can be replayed alone (on any
+ * thread). The EM engine gives restart r streams 2r (initialisation) and 2r + 1 (re-seeding).
  */
-export function restartStream(seed: number, restart: number): RandomStream {
+export function restartStream(seed: number, index: number): RandomStream {
   const generator: JumpableRandomGenerator = xoroshiro128plus(seed | 0);
-  for (let i = 0; i < restart; i++) generator.jump();
+  for (let i = 0; i < index; i++) generator.jump();
   return {
     float: () => uniformFloat64(generator),
     integer: (from, to) => uniformInt(generator, from, to),
