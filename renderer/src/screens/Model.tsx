@@ -26,24 +26,27 @@ const transformToggles: { key: TransformToggle; label: string }[] = [
 ];
 
 export function ModelScreen() {
-  const { modelOptions, runId, database } = useWorkspace();
+  const { modelOptions, runId, database, refreshDatabase } = useWorkspace();
   const api = useApi();
   const run = useLoad(runId === null ? null : () => api.runSummary({ runId }), `run:${runId}`);
+  // The fit outlives the form: when it ends the new run is selected and the form refills from
+  // it, while the outcome stays on screen.
+  const task = useTask<'startRun'>(() => refreshDatabase(true));
+  const current = run.data && run.data.runId === runId ? run.data : null;
   // Without a run the as-of date comes from the database summary, so wait for that too.
-  if (!modelOptions || (runId !== null && !run.data && !run.error) || (runId === null && !database)) {
+  if (!modelOptions || (runId !== null && !current && !run.error) || (runId === null && !database)) {
     return <section className="screen" data-testid="screen-model"><h1>Model</h1><Loading what="model settings" /></section>;
   }
-  const asOf = run.data?.asOf ?? database?.lastDataDate ?? '';
-  return <ModelView key={`${runId}`} options={modelOptions} previous={run.data} asOf={asOf} />;
+  const asOf = current?.asOf ?? database?.lastDataDate ?? '';
+  return <ModelView key={`${runId}`} options={modelOptions} previous={current} asOf={asOf} task={task} />;
 }
 
-function ModelView({ options, previous, asOf }: { options: ModelOptions; previous: RunDetail | null; asOf: string }) {
+function ModelView({ options, previous, asOf, task }: { options: ModelOptions; previous: RunDetail | null; asOf: string; task: ReturnType<typeof useTask<'startRun'>> }) {
   const api = useApi();
   const format = useFormat();
-  const { runId, refreshDatabase, database, featureLabel } = useWorkspace();
+  const { runId, database, featureLabel } = useWorkspace();
   const [form, setForm] = useState<ModelForm>(() => formFromSettings(options, previous?.settings ?? options.defaults, asOf));
   const [errors, setErrors] = useState<FormErrors>({});
-  const task = useTask<'startRun'>(() => refreshDatabase(true));
   useEffect(() => {
     if (task.view.state === 'failed') setErrors(errorsFromIssues(task.view.error.issues, form));
     // Map issues once per failure; the form itself may change afterwards.
