@@ -41,6 +41,7 @@ import {
   type CallOutcome,
   type DatabaseInfo,
   type FeatureOption,
+  type LongTaskMethod,
 } from './contract.js';
 import { appVersion } from './package-root.js';
 import type { ApiSession } from './session.js';
@@ -219,11 +220,11 @@ export const handlers = {
   },
   decideReview: (session, input) => {
     const db = session.db();
-    decideReview(db, input);
+    smallWrite(session, 'The decision', () => decideReview(db, input));
     return reviewItemView(db, input.runId, input.customerId);
   },
   renameSegment: (session, input) => {
-    renameSegment(session.db(), input.runId, input.segment, input.name);
+    smallWrite(session, 'The new name', () => renameSegment(session.db(), input.runId, input.segment, input.name));
     return segmentProfileView(session.db(), input.runId, input.segment);
   },
   movement: (session, input) => movementView(session.db(), input.runId),
@@ -239,6 +240,32 @@ export const handlers = {
   cancelTask: (session, input) => session.tasks.cancel(input.taskId),
   taskStatus: (session, input) => session.tasks.status(input.taskId),
 } satisfies HandlerMap;
+
+/**
+ * Runs a small write (a review decision, a rename) on the session's connection. While a long
+ * task holds the database's write lock (an import is one transaction) SQLite answers busy after
+ * its timeout; say what is going on instead of a bare lock error.
+ */
+function smallWrite<T>(session: ApiSession, what: string, write: () => T): T {
+  try {
+    return write();
+  } catch (error) {
+    const code = (error as { code?: string }).code ?? '';
+    if (code.startsWith('SQLITE_BUSY') || code.startsWith('SQLITE_LOCKED')) {
+      const running = session.tasks.running();
+      throw new InputError(
+        `${what} could not be saved just now: ${running ? `the ${describeTask(running)} is writing to the database` : 'another program is writing to the database'}. ` +
+          'Try again when it has finished.',
+      );
+    }
+    throw error;
+  }
+}
+
+const taskWords: Record<LongTaskMethod, string> = { importFile: 'import', startRun: 'segmentation run', exportRun: 'export', loadDemo: 'demo load' };
+function describeTask(method: LongTaskMethod): string {
+  return taskWords[method];
+}
 
 function isApiMethod(method: string): method is ApiMethod {
   return Object.prototype.hasOwnProperty.call(apiSchemas, method);

@@ -41,7 +41,7 @@ export class TaskManager {
   private readonly tasks = new Map<string, TaskRecord>();
   private readonly queue: string[] = [];
   private readonly listeners = new Set<(event: TaskEvent) => void>();
-  private running: string | null = null;
+  private runningTaskId: string | null = null;
 
   onEvent(listener: (event: TaskEvent) => void): () => void {
     this.listeners.add(listener);
@@ -88,6 +88,11 @@ export class TaskManager {
     return { taskId, cancelled: true };
   }
 
+  /** The method of the task running now, if any. */
+  running(): LongTaskMethod | null {
+    return this.runningTaskId ? this.tasks.get(this.runningTaskId)!.status.method : null;
+  }
+
   status(taskId: string): TaskStatus {
     return { ...this.require(taskId).status };
   }
@@ -103,7 +108,7 @@ export class TaskManager {
 
   /** Cancels everything and waits for the running task to stop (window closing, host stopping). */
   async shutdown(): Promise<void> {
-    const running = this.running ? this.tasks.get(this.running) : undefined;
+    const running = this.runningTaskId ? this.tasks.get(this.runningTaskId) : undefined;
     for (const taskId of [...this.queue]) this.cancel(taskId);
     if (running) {
       running.controller.abort();
@@ -118,11 +123,11 @@ export class TaskManager {
   }
 
   private pump(): void {
-    if (this.running) return;
+    if (this.runningTaskId) return;
     const taskId = this.queue.shift();
     if (!taskId) return;
     const record = this.tasks.get(taskId)!;
-    this.running = taskId;
+    this.runningTaskId = taskId;
     record.status.state = 'running';
     const onProgress: ProgressReporter = (progress) => {
       if (record.status.state !== 'running') return;
@@ -146,7 +151,7 @@ export class TaskManager {
         this.finish(record, apiError.kind === 'cancelled' ? 'cancelled' : 'failed', null, apiError);
       },
     ).finally(() => {
-      this.running = null;
+      this.runningTaskId = null;
       this.pump();
     });
   }

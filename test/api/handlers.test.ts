@@ -7,6 +7,7 @@ import type { ApiInput, ApiMethod, ApiOutput, LongTaskMethod, TaskResults, TaskS
 import { callApi } from '../../src/api/handlers.js';
 import { ApiSession } from '../../src/api/session.js';
 import { CancelledError } from '../../src/errors.js';
+import { openDatabase } from '../../src/store/database.js';
 
 /**
  * The handler map on the real core, with long tasks on real worker threads: the committed demo
@@ -150,6 +151,19 @@ describe('handlers on the core, tasks on worker threads', () => {
     expect(renamed.covariance).toHaveLength(d * d);
 
     expect(await call('movement', { runId })).toMatchObject({ parentRunId: null, matrix: [], stability: null });
+
+    // While another writer holds the database, a rename says so plainly (and changes nothing).
+    const other = openDatabase(join(folder, 'handlers.db'));
+    other.exec('BEGIN IMMEDIATE');
+    try {
+      await expect(call('renameSegment', { runId, segment: segments.segments[0].segment, name: 'Never saved' })).rejects.toThrow(
+        /could not be saved just now: another program is writing/,
+      );
+    } finally {
+      other.exec('ROLLBACK');
+      other.close();
+    }
+    expect((await call('segments', { runId })).segments[0].name).toBe('Weekend families');
 
     const out = join(folder, 'list.xlsx');
     const exported = await finish(await call('exportRun', { runId, out }));
