@@ -38,7 +38,7 @@ class InThreadRunner implements TaskRunner {
   async run<T>(body: RequestBody, onProgress?: (progress: FitProgress) => void): Promise<T> {
     await new Promise((resolve) => setImmediate(resolve));
     if (this.failure) throw this.failure;
-    if (body.type === 'restart') return fitRestart(this.context, body.options, body.restart, undefined, onProgress) as T;
+    if (body.type === 'restarts') return body.runs.map(({ options, restart }) => fitRestart(this.context, options, restart, undefined, onProgress)) as T;
     const { model, statistics, firstChunk, lastChunk } = body;
     return expectationChunks(this.context.values, this.context.rows, expectationTerms(model), statistics, firstChunk, lastChunk, null) as T;
   }
@@ -235,9 +235,9 @@ export async function fitMixtureParallel(data: DataMatrix, options: FitOptions &
       }
     } else {
       const runs = Array.from({ length: resolved.restarts }, (_, restart) =>
-        pool.run<RestartOutcome>({ type: 'restart', options: resolved, restart }, options.onProgress),
+        pool.run<RestartOutcome[]>({ type: 'restarts', runs: [{ options: resolved, restart }] }, options.onProgress),
       );
-      outcomes.push(...(await Promise.all(runs)));
+      outcomes.push(...(await Promise.all(runs)).flat());
     }
     return summarizeRestarts(outcomes, resolved, data.rows, data.cols);
   });
@@ -267,13 +267,26 @@ export async function sweepMixtures(data: DataMatrix, options: SweepOptions): Pr
   for (const cell of cells) checkEnoughRows(data.rows, data.cols, cell);
   const context = prepareFitContext(data, anyMissing);
 
-  const tasks = cells.flatMap((cell, index) => Array.from({ length: cell.restarts }, (_, restart) => ({ cell, index, restart })));
-  tasks.sort((a, b) => b.cell.components - a.cell.components || a.index - b.index || a.restart - b.restart);
-  return withPool(context, data, threadCount(options.threads, tasks.length, data.rows), options.signal, async (pool) => {
+  // One task per (k, restart) holding every structure: they share one k-means start on their
+  // thread. Larger k first, so the threads finish together.
+  const tasks: { k: number; restart: number; cells: number[] }[] = [];
+  cells.forEach((cell, index) => {
+    for (let restart = 0; restart < cell.restarts; restart++) {
+      let task = tasks.find((entry) => entry.k === cell.components && entry.restart === restart);
+      if (!task) tasks.push((task = { k: cell.components, restart, cells: [] }));
+      task.cells.push(index);
+    }
+  });
+  tasks.sort((a, b) => b.k - a.k || a.restart - b.restart);
+  return withPool(context, data, threadCount(options.threads, tasks.length, data.rows * structures.length), options.signal, async (pool) => {
     const outcomes = cells.map((): RestartOutcome[] => []);
     await Promise.all(
-      tasks.map(async ({ cell, index, restart }) => {
-        outcomes[index].push(await pool.run<RestartOutcome>({ type: 'restart', options: cell, restart }, options.onProgress));
+      tasks.map(async (task) => {
+        const results = await pool.run<RestartOutcome[]>(
+          { type: 'restarts', runs: task.cells.map((index) => ({ options: cells[index], restart: task.restart })) },
+          options.onProgress,
+        );
+        results.forEach((outcome, position) => outcomes[task.cells[position]].push(outcome));
       }),
     );
     const fits = cells.map((cell, index) => summarizeRestarts(outcomes[index], cell, data.rows, data.cols));

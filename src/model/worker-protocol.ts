@@ -11,7 +11,8 @@ export interface WorkerData {
 }
 
 export type WorkerRequest =
-  | { type: 'restart'; id: number; options: ResolvedFitOptions; restart: number }
+  /** Restarts run one after another on one thread (so they share its cached k-means starts); the result is RestartOutcome[]. */
+  | { type: 'restarts'; id: number; runs: { options: ResolvedFitOptions; restart: number }[] }
   | { type: 'expectation'; id: number; model: MixtureModel; statistics: StatisticsMode; firstChunk: number; lastChunk: number };
 
 export type WorkerReply =

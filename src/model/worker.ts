@@ -15,11 +15,11 @@ if (!port) throw new Error('worker.ts must run in a worker thread.');
 port.on('message', (request: WorkerRequest) => {
   const reply = (message: WorkerReply, transfer: ArrayBuffer[] = []) => port.postMessage(message, transfer);
   try {
-    if (request.type === 'restart') {
-      const outcome = fitRestart(context, request.options, request.restart, undefined, (progress) =>
-        reply({ type: 'progress', id: request.id, progress }),
+    if (request.type === 'restarts') {
+      const outcomes = request.runs.map(({ options, restart }) =>
+        fitRestart(context, options, restart, undefined, (progress) => reply({ type: 'progress', id: request.id, progress })),
       );
-      reply({ type: 'done', id: request.id, result: outcome });
+      reply({ type: 'done', id: request.id, result: outcomes });
     } else {
       const partials = expectationChunks(values, rows, expectationTerms(request.model), request.statistics, request.firstChunk, request.lastChunk, null);
       const buffers = [partials.weightSums, partials.firstMoments, partials.secondMoments, partials.summaries].map((array) => array.buffer as ArrayBuffer);
