@@ -1,8 +1,8 @@
 /**
  * Takes a screenshot of every screen in Chromium, for a person to look at.
  *
- *   npx tsx test/renderer/preview/screenshots.ts            # the screens over the fake core
- *   npx tsx test/renderer/preview/screenshots.ts --url URL  # a running `spendmix serve` address
+ *   npm run -s screenshots                                  # the screens over the fake core
+ *   npm run -s screenshots -- --url URL                     # a running `spendmix serve` address
  *
  * PNGs go to test-artifacts/screens/ (not committed). Page errors and console errors are
  * printed; the exit code is 1 when there were any.
