@@ -66,3 +66,19 @@ export function normaliseHeader(header: string): string {
 export function fieldNames(kind: ImportKind): string[] {
   return KIND_FIELDS[kind].map((field) => field.name);
 }
+
+/** One line per field for the mapping screen. */
+export const FIELD_DESCRIPTIONS: Record<string, string> = {
+  customer_id: 'Loyalty customer identifier (card or member number).',
+  date: 'Date or date-time: ISO (2026-03-01, 2026-03-01T14:05), or day-first / month-first when chosen.',
+  time: 'Time of day, for files that keep it apart from the date.',
+  amount: 'Amount paid in EUR; negative for refunds. Decimal point, or decimal comma when chosen.',
+  receipt_id: 'Receipt (till slip) number; with category it identifies a department row.',
+  store_id: 'Store identifier; unknown ones are recorded.',
+  category: 'Department or product category of the row.',
+  items: 'Number of items on the row (whole number).',
+  channel: 'Where the visit happened, e.g. store or online.',
+  joined: 'Date the customer joined the loyalty programme.',
+  marketing_consent: 'Marketing consent: yes or no (empty = unknown, treated as no).',
+  home_store: 'The customer’s home store identifier.',
+};

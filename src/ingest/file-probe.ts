@@ -27,7 +27,13 @@ export const READ_CHUNK_BYTES = 1 << 18;
  * read as Windows-1252 (the usual encoding of spreadsheet exports on Western-European Windows,
  * common practice). NUL bytes in a BOM-less file mean it is binary, not CSV.
  */
-export async function probeFile(path: string, signal?: AbortSignal, onBytes?: (bytes: number) => void): Promise<FileProbe> {
+export async function probeFile(
+  path: string,
+  signal?: AbortSignal,
+  onBytes?: (bytes: number) => void,
+  /** Read only this much (previews): format and encoding from the start of the file; the hash is then of that part. */
+  limitBytes = Number.POSITIVE_INFINITY,
+): Promise<FileProbe> {
   let size: number;
   try {
     const info = await stat(path);
@@ -51,7 +57,7 @@ export async function probeFile(path: string, signal?: AbortSignal, onBytes?: (b
     for (;;) {
       throwIfAborted(signal);
       const { bytesRead } = await handle.read(buffer, 0, buffer.length, offset);
-      if (bytesRead === 0) break;
+      if (bytesRead === 0 || offset >= limitBytes) break;
       const chunk = buffer.subarray(0, bytesRead);
       hash.update(chunk);
       if (offset === 0) {
@@ -74,10 +80,11 @@ export async function probeFile(path: string, signal?: AbortSignal, onBytes?: (b
       offset += bytesRead;
       onBytes?.(offset);
     }
-    if (format === 'csv' && encoding === 'utf-8' && (carry.length > 0 || !validUtf8)) {
+    const cutShort = offset < size;
+    if (format === 'csv' && encoding === 'utf-8' && ((carry.length > 0 && !cutShort) || !validUtf8)) {
       encoding = bomBytes === 3 ? 'utf-8' : 'windows-1252';
     }
-    return { path, bytes: offset, contentHash: hash.digest('hex'), format, encoding, bomBytes };
+    return { path, bytes: cutShort ? size : offset, contentHash: hash.digest('hex'), format, encoding, bomBytes };
   } finally {
     await handle.close();
   }

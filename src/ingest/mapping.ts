@@ -17,6 +17,10 @@ export interface ResolvedMapping {
   featureColumns: Array<[number, string]>;
   /** Header columns read by nothing (shown by the preview). */
   unusedColumns: string[];
+  /** Required fields without a column (only non-empty with `allowMissing`). */
+  missing: string[];
+  /** Whether any entry of the saved mapping was used. */
+  usedSaved: boolean;
 }
 
 export interface MappingInput {
@@ -28,6 +32,8 @@ export interface MappingInput {
   saved?: ColumnMapping;
   /** Appended to the missing-columns message (e.g. the workbook's sheet names). */
   context?: string;
+  /** Report missing required fields in the result instead of throwing (the preview). */
+  allowMissing?: boolean;
 }
 
 /** Parses `column=field` pairs from the command line. */
@@ -79,11 +85,14 @@ export function resolveMapping(input: MappingInput): ResolvedMapping {
     if (field === IGNORE_FIELD) assignedColumns.set(index, IGNORE_FIELD);
     else assign(index, field);
   }
+  let usedSaved = false;
   for (const [column, field] of Object.entries(input.saved ?? {})) {
     const index = byHeader.get(normaliseHeader(column));
     if (index === undefined || assignedColumns.has(index)) continue;
     if (field === IGNORE_FIELD) assignedColumns.set(index, IGNORE_FIELD);
     else if (known.has(field) && !fieldIndex.has(field)) assign(index, field);
+    else continue;
+    usedSaved = true;
   }
   for (const spec of specs) {
     if (fieldIndex.has(spec.name)) continue;
@@ -97,7 +106,7 @@ export function resolveMapping(input: MappingInput): ResolvedMapping {
   }
 
   const missing = specs.filter((spec) => spec.required && !fieldIndex.has(spec.name)).map((spec) => spec.name);
-  if (missing.length > 0) {
+  if (missing.length > 0 && !input.allowMissing) {
     throw new InputError(
       `The ${kind} file lacks required column${missing.length > 1 ? 's' : ''} ${missing.join(', ')}. ` +
         `Columns found: ${listColumns(header)}. Map yours with --map COLUMN=FIELD (e.g. --map "Your Column=${missing[0]}").` +
@@ -126,7 +135,7 @@ export function resolveMapping(input: MappingInput): ResolvedMapping {
       if (field !== 'customer_id') featureColumns.push([index, field]);
     }
     featureColumns.sort((a, b) => a[0] - b[0]);
-    if (featureColumns.length === 0) {
+    if (featureColumns.length === 0 && !input.allowMissing) {
       throw new InputError(`The features file has no feature columns besides customer_id. Columns found: ${listColumns(header)}.`);
     }
     const names = new Set<string>();
@@ -135,7 +144,7 @@ export function resolveMapping(input: MappingInput): ResolvedMapping {
       names.add(name);
     }
   }
-  return { fieldIndex, mapping, featureColumns, unusedColumns };
+  return { fieldIndex, mapping, featureColumns, unusedColumns, missing, usedSaved };
 }
 
 function listColumns(header: readonly string[]): string {

@@ -28,6 +28,8 @@ async function run(): Promise<void> {
     featureColumns: job.featureColumns,
     mapping: {},
     unusedColumns: [],
+    missing: [],
+    usedSaved: false,
   };
   const context = {
     convert: makeRowConverter(job.kind, resolved, job.header, job.settings),
