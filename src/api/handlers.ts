@@ -69,6 +69,11 @@ function databaseInfo(session: ApiSession): DatabaseInfo {
   };
 }
 
+/** A page of the runs core in the contract's form. */
+function pageOf<T>(runId: number, page: { total: number; offset: number; items: T[] }) {
+  return { runId, total: page.total, offset: page.offset, rows: page.items };
+}
+
 /** An input file the user named: it must exist and be a file; the message says which. */
 function requireReadableFile(path: string): string {
   const absolute = resolve(path);
@@ -191,32 +196,16 @@ export const handlers = {
   },
   segmentSample: (session, input) => segmentSampleView(session.db(), input),
   featureDistribution: (session, input) => featureDistributionView(session.db(), input),
-  membershipsPage: (session, input) => {
-    const page = getMemberships(session.db(), input.runId, {
-      offset: input.offset,
-      limit: input.limit,
-      sort: input.sortBy,
-      descending: input.descending,
-      segment: input.segment,
-      flag: input.flag,
-    });
-    return { runId: input.runId, total: page.total, offset: page.offset, rows: page.items };
-  },
+  membershipsPage: (session, { runId, offset, limit, sortBy, descending, segment, flag }) =>
+    pageOf(runId, getMemberships(session.db(), runId, { offset, limit, sort: sortBy, descending, segment, flag })),
   certainty: (session, input) => certaintyView(session.db(), input),
-  borderline: (session, input) => {
-    const page = getBorderline(session.db(), input.runId, {
-      offset: input.offset,
-      limit: input.limit,
-      confidenceBelow: input.borderlineConfidence,
-      marginBelow: input.borderlineMargin,
-    });
-    return { runId: input.runId, total: page.total, offset: page.offset, rows: page.items };
-  },
+  borderline: (session, { runId, offset, limit, borderlineConfidence, borderlineMargin }) =>
+    pageOf(runId, getBorderline(session.db(), runId, { offset, limit, confidenceBelow: borderlineConfidence, marginBelow: borderlineMargin })),
   reviewQueue: (session, input) => {
     const db = session.db();
     const page = getReviewQueue(db, input.runId, { offset: input.offset, limit: input.limit, status: input.status });
     const done = input.status === 'done' ? page.total : getReviewQueue(db, input.runId, { offset: 0, limit: 1, status: 'done' }).total;
-    return { runId: input.runId, total: page.total, done, offset: page.offset, rows: page.items };
+    return { ...pageOf(input.runId, page), done };
   },
   decideReview: (session, input) => {
     const db = session.db();
