@@ -91,9 +91,9 @@ function CertaintyView({ runId }: { runId: number }) {
   const columns: Column<BorderlineRow>[] = [
     { key: 'id', header: 'customer', width: '9rem', render: (row) => <code>{row.customerId}</code> },
     { key: 'top', header: 'most likely', width: 'minmax(11rem, 1.3fr)', render: (row) => <SegmentChip segment={byIndex.get(row.segment ?? -1)} fallback={row.segmentName ?? '—'} /> },
-    { key: 'topP', header: 'p', width: '4.5rem', align: 'right', render: (row) => (row.confidence === null ? '—' : format.probability(row.confidence)) },
+    { key: 'topP', header: 'prob.', width: '4.5rem', align: 'right', render: (row) => (row.confidence === null ? '—' : format.probability(row.confidence)) },
     { key: 'second', header: 'runner-up', width: 'minmax(11rem, 1.3fr)', render: (row) => <SegmentChip segment={byIndex.get(row.secondSegment ?? -1)} fallback={row.secondSegmentName ?? '—'} /> },
-    { key: 'secondP', header: 'p', width: '4.5rem', align: 'right', render: (row) => (row.secondProbability === null ? '—' : format.probability(row.secondProbability)) },
+    { key: 'secondP', header: 'prob.', width: '4.5rem', align: 'right', render: (row) => (row.secondProbability === null ? '—' : format.probability(row.secondProbability)) },
     { key: 'margin', header: 'margin', width: '5rem', align: 'right', render: (row) => (row.margin === null ? '—' : format.probability(row.margin)) },
     {
       key: 'why',
