@@ -112,12 +112,7 @@ export class CsvTokenizer {
             const next = text.charCodeAt(position);
             if (next !== delimiter && next !== LF && next !== CR) {
               malformed = `text after the closing quote of field ${fields.length + 1}`;
-              let end = position;
-              while (end < length) {
-                const code = text.charCodeAt(end);
-                if (code === delimiter || code === LF || code === CR) break;
-                end += 1;
-              }
+              const end = unquotedFieldEnd(text, position, delimiter);
               if (end >= length && !atEnd) {
                 incomplete = true;
                 break;
@@ -128,12 +123,7 @@ export class CsvTokenizer {
           }
           fields.push(value);
         } else {
-          let end = position;
-          while (end < length) {
-            const code = text.charCodeAt(end);
-            if (code === delimiter || code === LF || code === CR) break;
-            end += 1;
-          }
+          const end = unquotedFieldEnd(text, position, delimiter);
           if (end >= length && !atEnd) {
             incomplete = true;
             break;
@@ -192,6 +182,18 @@ export class CsvTokenizer {
     }
     this.pendingLine = line;
   }
+}
+
+/** Index of the delimiter or line break that ends the unquoted text starting at `from` (or the text's length). */
+function unquotedFieldEnd(text: string, from: number, delimiter: number): number {
+  const length = text.length;
+  let end = from;
+  while (end < length) {
+    const code = text.charCodeAt(end);
+    if (code === delimiter || code === LF || code === CR) break;
+    end += 1;
+  }
+  return end;
 }
 
 function countLoneCarriageReturns(value: string): number {
