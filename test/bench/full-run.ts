@@ -9,12 +9,7 @@
 import { runSegmentation } from '../../src/runs/run.js';
 import type { RunProgress } from '../../src/runs/types.js';
 import { openDatabase } from '../../src/store/database.js';
-import { SYNTHETIC_AS_OF, syntheticReceiptsDatabase } from './synthetic-receipts.js';
-
-function flag(name: string, fallback: number): number {
-  const at = process.argv.indexOf(`--${name}`);
-  return at >= 0 ? Number(process.argv[at + 1]) : fallback;
-}
+import { benchFlag as flag, SYNTHETIC_AS_OF, syntheticReceiptsDatabase } from './synthetic-receipts.js';
 
 const customers = flag('customers', 1_000_000);
 const rows = flag('rows', 20_000_000);

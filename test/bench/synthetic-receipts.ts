@@ -12,6 +12,12 @@ import { dayFromIsoDate } from '../../src/store/days.js';
 
 export const SYNTHETIC_AS_OF = '2026-11-30';
 
+/** A numeric `--name value` command-line flag of a benchmark, or the fallback. */
+export function benchFlag(name: string, fallback: number): number {
+  const at = process.argv.indexOf(`--${name}`);
+  return at >= 0 ? Number(process.argv[at + 1]) : fallback;
+}
+
 export function syntheticReceiptsDatabase(customers: number, rows: number, folder = tmpdir()): { path: string; seconds: number; reused: boolean } {
   const path = join(folder, `spendmix-bench-${customers}c-${rows}r.db`);
   if (existsSync(path)) return { path, seconds: 0, reused: true };
