@@ -270,7 +270,7 @@ export const startRunInput = z
     asOf: isoDate,
     windowMonths: z.number().int().min(1).max(60).default(12),
     mode: z.enum(['refit', 'rescore']).default('refit'),
-    /** Parent run; null or absent = the latest earlier run. */
+    /** Parent run; absent = the latest run with an earlier as-of date; null = none (start afresh). */
     parentRunId: runId.nullable().optional(),
     /** Features with their transforms; absent = the defaults of DESIGN.md §4. */
     features: z.array(transformSpec).min(1).optional(),
