@@ -1,7 +1,7 @@
 import { useCallback, useEffect, useMemo, useState } from 'react';
 import type { AppInfo, DatabaseInfo, ModelOptions, RunListItem, SegmentsResult } from '../../../src/api/contract.js';
 import { formatLocation, parseLocation, screens, type ScreenId } from '../lib/navigation.js';
-import { useApi, useClient, useFormat } from './client-context.js';
+import { useApi, useClient, useFormat, useWhenQuiet } from './client-context.js';
 import { WorkspaceContext, type Workspace } from './workspace.js';
 import { SourcesScreen } from '../screens/Sources.js';
 import { ModelScreen } from '../screens/Model.js';
@@ -18,12 +18,14 @@ import type { ApiError } from '../../../src/api/contract.js';
  * Test ids: app-shell, nav-<screen id> (sources, model, segments, certainty, review, movement,
  * export), run-picker, database-summary, screen-<screen id> on each screen's root.
  */
-/** How long the top bar's table counts wait behind the screen's first requests. */
-const databaseSummaryDelayMs = 1500;
+/** The top bar's table counts wait until the API has been quiet this long (10 s at most). */
+const summaryQuietMs = 250;
+const summaryMaxWaitMs = 10_000;
 
 export function App() {
   const api = useApi();
   const client = useClient();
+  const whenQuiet = useWhenQuiet();
   const format = useFormat();
   const initial = parseLocation(window.location.hash);
   const [screen, setScreen] = useState<ScreenId>(initial.screen);
@@ -55,13 +57,13 @@ export function App() {
         setModelOptions(options);
       }, fail);
       // The database summary counts whole tables, which takes a while on a large database; at
-      // start-up it is read once the screen's own requests are on their way, so it never delays
+      // start-up it is read once the screen's own calls have been answered, so it never delays
       // the first paint. After an import or a run it is read at once.
       const readSummary = () => api.databaseInfo({}).then(setDatabase, fail);
-      if (deferSummary) window.setTimeout(readSummary, databaseSummaryDelayMs);
+      if (deferSummary) void whenQuiet(summaryQuietMs, summaryMaxWaitMs).then(readSummary);
       else readSummary();
     },
-    [api],
+    [api, whenQuiet],
   );
 
   useEffect(() => refreshDatabase(false, true), [refreshDatabase]);

@@ -1,11 +1,21 @@
 import { createContext, useCallback, useContext, useEffect, useReducer, useRef, useState } from 'react';
 import type { Api, ApiError, LongTaskMethod, SpendmixClient, TaskResults, TaskStarted } from '../../../src/api/contract.js';
+import type { ApiActivity } from '../lib/api-activity.js';
 import { formattersFor, userLocale, type Formatters } from '../lib/format.js';
 import { taskReducer, toApiError, type TaskView } from '../lib/task-state.js';
 
 const ClientContext = createContext<SpendmixClient | null>(null);
 
 export const ClientProvider = ClientContext.Provider;
+
+const ActivityContext = createContext<ApiActivity | null>(null);
+export const ActivityProvider = ActivityContext.Provider;
+
+/** When the API has gone quiet (see lib/api-activity.ts); at once where nothing tracks it. */
+const immediately: ApiActivity['whenQuiet'] = () => Promise.resolve();
+export function useWhenQuiet(): ApiActivity['whenQuiet'] {
+  return useContext(ActivityContext)?.whenQuiet ?? immediately;
+}
 
 export function useClient(): SpendmixClient {
   const client = useContext(ClientContext);
