@@ -33,12 +33,15 @@ class InThreadRunner implements TaskRunner {
   readonly size = 1;
   private failure: Error | null = null;
 
-  constructor(private readonly context: FitContext) {}
+  constructor(
+    private readonly context: FitContext,
+    private readonly signal: AbortSignal | undefined,
+  ) {}
 
   async run<T>(body: RequestBody, onProgress?: (progress: FitProgress) => void): Promise<T> {
     await new Promise((resolve) => setImmediate(resolve));
     if (this.failure) throw this.failure;
-    if (body.type === 'restarts') return body.runs.map(({ options, restart }) => fitRestart(this.context, options, restart, undefined, onProgress)) as T;
+    if (body.type === 'restarts') return body.runs.map(({ options, restart }) => fitRestart(this.context, options, restart, this.signal, onProgress)) as T;
     const { model, statistics, firstChunk, lastChunk } = body;
     return expectationChunks(this.context.values, this.context.rows, expectationTerms(model), statistics, firstChunk, lastChunk, null) as T;
   }
@@ -169,7 +172,7 @@ async function withPool<T>(
   body: (pool: TaskRunner) => Promise<T>,
 ): Promise<T> {
   throwIfAborted(signal);
-  const pool: TaskRunner = threads === 0 ? new InThreadRunner(context) : MixtureWorkerPool.open(data, context.patterns !== null, threads);
+  const pool: TaskRunner = threads === 0 ? new InThreadRunner(context, signal) : MixtureWorkerPool.open(data, context.patterns !== null, threads);
   const onAbort = () => pool.fail(new CancelledError());
   signal?.addEventListener('abort', onAbort, { once: true });
   try {

@@ -89,6 +89,23 @@ describe('worker threads', () => {
     expect(Date.now() - begun).toBeLessThan(60_000); // the full sweep would take many minutes
   });
 
+  it('stops on abort on the calling thread too (threads: 0)', async () => {
+    const controller = new AbortController();
+    const running = fitMixtureParallel(faithful, {
+      components: 3,
+      covarianceType: 'full',
+      restarts: 4,
+      tol: 0,
+      maxIterations: 1000,
+      threads: 0,
+      signal: controller.signal,
+      onProgress: (progress) => {
+        if (progress.restart === 1 && progress.iteration === 3) controller.abort();
+      },
+    });
+    await expect(running).rejects.toBeInstanceOf(CancelledError);
+  });
+
   it('refuses a bad range before starting any thread', async () => {
     await expect(sweepMixtures(faithful, { componentRange: [3, 2], covarianceTypes: ['full'] })).rejects.toThrow(/componentRange/);
     await expect(sweepMixtures(faithful, { componentRange: [1, 200], covarianceTypes: ['full'] })).rejects.toThrow(/too few/);
