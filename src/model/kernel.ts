@@ -85,7 +85,7 @@ export function kernelSource({ dimensions: d, triangular, statistics, posteriors
   emit(`  for (let row = blockStart; row < blockEnd; row++) {`);
   emit(`    const base = row * ${d};`);
   for (const a of range(d)) emit(`    const x${a} = values[base + ${a}];`);
-  emit(`    let best = -Infinity;`);
+  emit(`    let best = -Infinity, bestComponent = 0;`);
   emit(`    for (let c = 0; c < k; c++) {`);
   emit(`      const m = c * ${d};`);
   emit(`      const f = c * ${triangular ? dd : d};`);
@@ -97,10 +97,11 @@ export function kernelSource({ dimensions: d, triangular, statistics, posteriors
   }
   emit(`      const density = logConstants[c] - 0.5 * (${range(d).map((a) => `p${a} * p${a}`).join(' + ')});`);
   emit(`      densities[c] = density;`);
-  emit(`      if (density > best) best = density;`);
+  emit(`      if (density > best) { best = density; bestComponent = c; }`);
   emit(`    }`);
   emit(`    let total = 0;`);
-  emit(`    for (let c = 0; c < k; c++) { const scaled = Math.exp(densities[c] - best); densities[c] = scaled; total += scaled; }`);
+  // exp(0) is exactly 1, so the top component skips its exp without changing a bit.
+  emit(`    for (let c = 0; c < k; c++) { const scaled = c === bestComponent ? 1 : Math.exp(densities[c] - best); densities[c] = scaled; total += scaled; }`);
   emit(`    const logTotal = Math.log(total);`);
   emit(`    const rowLogDensity = best + logTotal;`);
   emit(`    logLikelihood += rowLogDensity;`);
