@@ -23,7 +23,7 @@ import {
 import { probeFile, type FileProbe } from './file-probe.js';
 import { parseInWorker } from './parallel-parse.js';
 import { strideOf, validateRecords, type ValidatedBatch, type ValidationContext } from './record-validator.js';
-import { maxRowId, receiptAmountAfter, suspendSecondaryIndexes, useBulkLoadSettings } from '../store/secondary-indexes.js';
+import { maxRowId, receiptAmountAfter, suspendSecondaryIndexes, useBulkLoadSettings, useRollbackJournalForLoad } from '../store/bulk-load.js';
 import { ImportReport } from './import-report.js';
 import { resolveMapping, type ColumnMapping, type ResolvedMapping } from './mapping.js';
 import { openRecordSource, type RecordSource } from './record-source.js';
@@ -131,6 +131,9 @@ function writerFor(db: Database, kind: ImportKind, importId: number, resolved: R
 /** Column of the store id in each kind's row values (see row-converters.ts), for recording unknown stores. */
 const STORE_VALUE_INDEX: Record<ImportKind, number> = { receipts: 5, visits: 3, customers: 3, features: -1 };
 
+/** Receipts or visits files above this size load with a rollback journal (see useRollbackJournalForLoad). */
+const ROLLBACK_JOURNAL_MIN_BYTES = 4 * 1024 * 1024;
+
 /** CSV files above this size are parsed in a worker thread, overlapping with the writes. */
 const WORKER_MIN_BYTES = 4 * 1024 * 1024;
 
@@ -205,9 +208,12 @@ export async function importFile(db: Database, request: ImportRequest): Promise<
     const width = source.header.length;
     const report = new ImportReport(reportPathFor(db, request));
 
+    const largeLoad = (kind === 'receipts' || kind === 'visits') && probe.bytes >= ROLLBACK_JOURNAL_MIN_BYTES;
+    const restoreJournal = largeLoad ? useRollbackJournalForLoad(db) : () => {};
     try {
       db.exec('BEGIN IMMEDIATE');
     } catch (error) {
+      restoreJournal();
       report.discard();
       throw asDatabaseInputError(db.name, error);
     }
@@ -340,6 +346,7 @@ export async function importFile(db: Database, request: ImportRequest): Promise<
       throw asDatabaseInputError(db.name, error);
     } finally {
       restoreSettings();
+      restoreJournal();
     }
   } finally {
     await source.close();

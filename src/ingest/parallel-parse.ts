@@ -29,7 +29,7 @@ export async function* parseInWorker(job: ParseJob, signal?: AbortSignal): Async
   // From source (tsx, vitest) the worker is the .ts module; in a compiled build the .js next to this one.
   const workerModule = new URL(import.meta.url.endsWith('.ts') ? './parse-worker.ts' : './parse-worker.js', import.meta.url);
   // A bounded heap: the worker holds one chunk and a few batches, so a runaway would be a bug.
-  const worker = startWorker(workerModule, { workerData: job, resourceLimits: { maxOldGenerationSizeMb: 256 } });
+  const worker = startWorker(workerModule, { workerData: job, resourceLimits: { maxOldGenerationSizeMb: 64, maxYoungGenerationSizeMb: 16 } });
   const queue: WorkerReply[] = [];
   let wake: (() => void) | undefined;
   const push = (reply: WorkerReply) => {

@@ -1,5 +1,5 @@
 import { spawn } from 'node:child_process';
-import { copyFileSync, existsSync } from 'node:fs';
+import { copyFileSync, existsSync, statSync } from 'node:fs';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { uniformInt } from 'pure-rand/distribution/uniformInt';
@@ -59,6 +59,8 @@ describe('crash safety (DESIGN.md §12)', () => {
     writeReceiptsFile(monthOne, { rows: 2_000, customers: 300, seed: 1 });
     // Receipt numbers after month 1's, so the big file adds all of its rows.
     const big = writeReceiptsFile(bigFile, { rows: 80_000, customers: 5_000, seed: 2, firstReceipt: 10_000 });
+    // Big enough for every large-load path: worker-thread parsing and the rollback journal (≥ 4 MB), index rebuild (≥ 50,000 rows).
+    expect(statSync(bigFile).size).toBeGreaterThan(4 * 1024 * 1024);
     const db = openDatabase(baseline);
     await importFile(db, { path: monthOne, kind: 'receipts' });
     const before = db.prepare('SELECT count(*) FROM receipts').pluck().get() as number;
@@ -82,6 +84,8 @@ describe('crash safety (DESIGN.md §12)', () => {
       if (!run.finished) outcomes.midway += 1;
       const reopened = openDatabase(path);
       expect(reopened.pragma('integrity_check', { simple: true })).toBe('ok');
+      // A load this size runs with a rollback journal; after a kill the hot journal was rolled back and WAL is back.
+      expect(reopened.pragma('journal_mode', { simple: true })).toBe('wal');
       const receipts = reopened.prepare('SELECT count(*) FROM receipts').pluck().get() as number;
       const imports = reopened.prepare('SELECT count(*) FROM imports').pluck().get() as number;
       expect([before, after]).toContain(receipts);
