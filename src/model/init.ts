@@ -18,13 +18,20 @@ const KMEANS_RELATIVE_TOL = 1e-4;
  */
 export function initialLabels(values: Float64Array, n: number, d: number, k: number, method: InitMethod, random: RandomStream): Int32Array {
   const centers = method === 'random' ? randomRows(values, n, d, k, random) : kMeansPlusPlus(values, n, d, k, random);
-  const labels = new Int32Array(n).fill(-1);
-  const distances = new Float64Array(n);
-  const sums = new Float64Array(k * d);
-  const counts = new Float64Array(k);
-  assignNearest(values, n, d, centers, k, labels, distances, sums, counts);
-  if (method === 'kmeans') lloyd(values, n, d, centers, k, labels, distances, sums, counts);
-  return labels;
+  const state: KMeansState = {
+    values,
+    n,
+    d,
+    k,
+    centers,
+    labels: new Int32Array(n).fill(-1),
+    distances: new Float64Array(n),
+    sums: new Float64Array(k * d),
+    counts: new Float64Array(k),
+  };
+  assignNearest(state);
+  if (method === 'kmeans') lloyd(state);
+  return state.labels;
 }
 
 function squaredDistance(values: Float64Array, row: number, centers: Float64Array, center: number, d: number): number {
@@ -79,18 +86,25 @@ function assignKernel(d: number): AssignKernel {
   });
 }
 
+/**
+ * Working arrays of k-means on n × d rows: centers k × d; labels, distances (squared, to the
+ * row's center) n; sums k × d and counts k of the current assignment.
+ */
+interface KMeansState {
+  values: Float64Array;
+  n: number;
+  d: number;
+  k: number;
+  centers: Float64Array;
+  labels: Int32Array;
+  distances: Float64Array;
+  sums: Float64Array;
+  counts: Float64Array;
+}
+
 /** Writes each row's nearest center and squared distance (and the new sums and counts); returns whether any label changed. */
-function assignNearest(
-  values: Float64Array,
-  n: number,
-  d: number,
-  centers: Float64Array,
-  k: number,
-  labels: Int32Array,
-  distances: Float64Array,
-  sums: Float64Array,
-  counts: Float64Array,
-): boolean {
+function assignNearest(state: KMeansState): boolean {
+  const { values, n, d, centers, k, labels, distances, sums, counts } = state;
   return assignKernel(d)(values, n, centers, k, labels, distances, sums, counts) > 0;
 }
 
@@ -186,17 +200,8 @@ function searchSorted(cumulative: Float64Array, target: number): number {
 }
 
 /** Lloyd iterations from the sums and counts of the current assignment; an emptied cluster takes the row farthest from its center. */
-function lloyd(
-  values: Float64Array,
-  n: number,
-  d: number,
-  centers: Float64Array,
-  k: number,
-  labels: Int32Array,
-  distances: Float64Array,
-  sums: Float64Array,
-  counts: Float64Array,
-): void {
+function lloyd(state: KMeansState): void {
+  const { values, n, d, centers, k, distances, sums, counts } = state;
   const tolerance = KMEANS_RELATIVE_TOL * meanFeatureVariance(values, n, d);
   for (let iteration = 0; iteration < KMEANS_MAX_ITERATIONS; iteration++) {
     let shift = 0;
@@ -218,7 +223,7 @@ function lloyd(
         centers[c * d + a] = updated;
       }
     }
-    const changed = assignNearest(values, n, d, centers, k, labels, distances, sums, counts);
+    const changed = assignNearest(state);
     if (!changed || shift <= tolerance) return;
   }
 }
