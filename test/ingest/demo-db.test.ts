@@ -1,16 +1,10 @@
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
-import { runCli } from '../../src/cli/program.js';
 import { openDatabase } from '../../src/store/database.js';
 import { listStores } from '../../src/store/stores-repo.js';
-import { temporaryFolder } from './support.js';
+import { temporaryFolder, runCliCaptured } from './support.js';
 
-async function cli(args: string[]) {
-  let stdout = '';
-  let stderr = '';
-  const code = await runCli(args, { stdout: (text) => (stdout += text), stderr: (text) => (stderr += text) });
-  return { code, stdout, stderr };
-}
+const cli = runCliCaptured;
 
 describe('demo --db (DESIGN.md §10)', () => {
   it('loads the generated files through the importer; the counts match what was generated; running again changes nothing', async () => {

@@ -1,14 +1,8 @@
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
-import { runCli } from '../../src/cli/program.js';
-import { temporaryFolder, writeText } from './support.js';
+import { temporaryFolder, writeText, runCliCaptured } from './support.js';
 
-async function cli(args: string[]) {
-  let stdout = '';
-  let stderr = '';
-  const code = await runCli(args, { stdout: (text) => (stdout += text), stderr: (text) => (stderr += text) });
-  return { code, stdout, stderr };
-}
+const cli = runCliCaptured;
 
 describe('spendmix import (DESIGN.md §10)', () => {
   it('prints exactly the contract JSON and recognises a re-import', async () => {

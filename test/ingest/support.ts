@@ -21,3 +21,12 @@ export function snapshotCounts(db: Database): Record<string, number> {
   }
   return counts;
 }
+
+/** Runs the CLI in-process and captures its output and exit code. */
+export async function runCliCaptured(args: string[]): Promise<{ code: number; stdout: string; stderr: string }> {
+  const { runCli } = await import('../../src/cli/program.js');
+  let stdout = '';
+  let stderr = '';
+  const code = await runCli(args, { stdout: (text) => (stdout += text), stderr: (text) => (stderr += text) });
+  return { code, stdout, stderr };
+}
