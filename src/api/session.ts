@@ -59,6 +59,9 @@ export class ApiSession {
 
   /** Opens (creating and migrating if needed) the database; the previous one is closed. */
   open(path: string): Database {
+    if (path.trim() === '' || path === ':memory:') {
+      throw new InputError('Give a database file: the app\'s worker threads open the same file, so an in-memory database cannot be used.');
+    }
     const absolute = resolve(path);
     const next = openDatabase(absolute);
     this.database?.close();
