@@ -19,7 +19,8 @@ import {
   renameSegment,
 } from '../runs/repository.js';
 import { toCoreMapping, toScreenMapping } from './mapping-direction.js';
-import { importReportPage, previewFile } from './preview.js';
+import { importReportPage } from './import-report-page.js';
+import { previewFile } from '../ingest/preview.js';
 import {
   certaintyView,
   featureDistributionView,
@@ -151,9 +152,13 @@ export const handlers = {
   },
   previewFile: async (session, input) => {
     const preview = await previewFile(session.db(), {
-      ...input,
       path: requireReadableFile(input.path),
+      kind: input.kind,
       mapping: input.mapping ? toCoreMapping(input.mapping) : undefined,
+      rows: input.rows,
+      sheet: input.sheet,
+      dateFormat: input.dateOrder,
+      decimalComma: input.decimalSeparator === ',',
     });
     return { ...preview, mapping: toScreenMapping(preview.mapping) };
   },
