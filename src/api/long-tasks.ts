@@ -4,11 +4,11 @@ import { join } from 'node:path';
 import { DEFAULT_CUSTOMERS, generateDemoChain } from '../../demo-data/generator/index.js';
 import { exportRun } from '../export/export-run.js';
 import { importFile } from '../ingest/import-file.js';
+import { demoDatabaseSummary, loadDemoFiles } from '../ingest/load-demo.js';
 import { runSegmentation } from '../runs/run.js';
 import type { RunSettings as CoreRunSettings } from '../runs/types.js';
-import { listImports, type ImportKind } from '../store/imports-repo.js';
+import { listImports } from '../store/imports-repo.js';
 import { openDatabase, type Database } from '../store/database.js';
-import { tableCounts } from '../store/customers-repo.js';
 import { throwIfAborted } from '../errors.js';
 import type { ApiParsedInput, ImportResult, LongTaskMethod, TaskResults } from './contract.js';
 import type { LongTaskRequest } from './long-task-request.js';
@@ -36,12 +36,7 @@ export function toCoreRunSettings(input: ApiParsedInput<'startRun'>): CoreRunSet
 }
 
 /** Imports one file; `input.mapping` is already in the importer's column → field form (see handlers). */
-async function importOne(
-  db: Database,
-  input: ApiParsedInput<'importFile'>,
-  context: LongTaskContext,
-  phasePrefix = '',
-): Promise<ImportResult> {
+async function importOne(db: Database, input: ApiParsedInput<'importFile'>, context: LongTaskContext): Promise<ImportResult> {
   const before = listImports(db).at(-1)?.importId ?? 0;
   const result = await importFile(db, {
     path: input.path,
@@ -56,7 +51,7 @@ async function importOne(
     signal: context.signal,
     onProgress: (progress) =>
       context.onProgress({
-        phase: `${phasePrefix}${progress.phase}`,
+        phase: progress.phase,
         done: progress.bytes,
         total: progress.totalBytes || null,
         message: `${progress.rows.toLocaleString('en-GB')} rows read`,
@@ -66,17 +61,6 @@ async function importOne(
   const added = listImports(db).filter((record) => record.importId > before && record.kind === input.kind).at(-1);
   return { importId: result.alreadyImported ? null : (added?.importId ?? null), ...result };
 }
-
-/** The demo files and how each is read: their columns are named as the fields. */
-const demoImports: { kind: ImportKind; file: 'customers' | 'receipts' | 'visits'; mapping: Record<string, string> }[] = [
-  { kind: 'customers', file: 'customers', mapping: { customer_id: 'customer_id', joined: 'joined', marketing_consent: 'marketing_consent', home_store: 'home_store' } },
-  {
-    kind: 'receipts',
-    file: 'receipts',
-    mapping: { receipt_id: 'receipt_id', customer_id: 'customer_id', store_id: 'store_id', date: 'date', category: 'category', amount: 'amount' },
-  },
-  { kind: 'visits', file: 'visits', mapping: { customer_id: 'customer_id', date: 'date', store_id: 'store_id', channel: 'channel' } },
-];
 
 /** Generates the invented demo chain into a scratch folder and loads it through the importer. */
 async function loadDemo(db: Database, dbPath: string, input: ApiParsedInput<'loadDemo'>, context: LongTaskContext): Promise<TaskResults['loadDemo']> {
@@ -95,17 +79,21 @@ async function loadDemo(db: Database, dbPath: string, input: ApiParsedInput<'loa
           message: `Generating ${progress.month} (${progress.receipts.toLocaleString('en-GB')} receipts so far)`,
         }),
     });
-    for (const { kind, file, mapping } of demoImports) {
-      throwIfAborted(context.signal);
-      await importOne(
-        db,
-        { path: chain.files[file], kind, mapping, rejectionThreshold: 0.05, dateOrder: 'iso', decimalSeparator: '.', sheet: undefined },
-        context,
-        `importing ${kind}: `,
-      );
-    }
-    const counts = tableCounts(db);
-    return { db: dbPath, customers: counts.customers, receipts: chain.receipts, visits: counts.visits };
+    throwIfAborted(context.signal);
+    await loadDemoFiles(
+      db,
+      chain.files,
+      (kind, progress) =>
+        context.onProgress({
+          phase: `importing ${kind}: ${progress.phase}`,
+          done: progress.bytes,
+          total: progress.totalBytes || null,
+          message: `${progress.rows.toLocaleString('en-GB')} ${kind} rows read`,
+        }),
+      context.signal,
+    );
+    const { db: path, customers, receipts, visits } = demoDatabaseSummary(db, dbPath);
+    return { db: path, customers, receipts, visits };
   } finally {
     rmSync(scratch, { recursive: true, force: true });
   }
