@@ -59,7 +59,7 @@ describe('crash safety (DESIGN.md §12)', () => {
     writeReceiptsFile(monthOne, { rows: 2_000, customers: 300, seed: 1 });
     // Receipt numbers after month 1's, so the big file adds all of its rows.
     const big = writeReceiptsFile(bigFile, { rows: 80_000, customers: 5_000, seed: 2, firstReceipt: 10_000 });
-    // Big enough for every large-load path: worker-thread parsing and the rollback journal (≥ 4 MB), index rebuild (≥ 50,000 rows).
+    // Big enough for the large-load paths: the rollback journal (≥ 4 MB) and the index rebuild (≥ 50,000 rows).
     expect(statSync(bigFile).size).toBeGreaterThan(4 * 1024 * 1024);
     const db = openDatabase(baseline);
     await importFile(db, { path: monthOne, kind: 'receipts' });
