@@ -87,12 +87,9 @@ function windowAggregateSql(freshCount: number): string {
   const freshList = freshCount > 0 ? Array.from({ length: freshCount }, () => '?').join(', ') : "''";
   return `
     SELECT customer_id,
-           min(day),
-           max(day),
            total(amount_cents),
            total(CASE WHEN amount_cents > 0 THEN amount_cents END),
            total(CASE WHEN amount_cents > 0 AND category IN (${freshList}) THEN amount_cents END),
-           count(category),
            total(CASE WHEN day >= :last3 THEN amount_cents END),
            total(CASE WHEN day >= :prev3 THEN amount_cents END),
            count(DISTINCT CASE WHEN amount_cents > 0
@@ -102,10 +99,10 @@ function windowAggregateSql(freshCount: number): string {
      GROUP BY customer_id`;
 }
 
-/** First receipt day per customer up to the as-of date: an index-only scan of (customer_id, day). */
-const firstReceiptSql = 'SELECT customer_id, min(day) FROM receipts WHERE day <= ? GROUP BY customer_id';
+/** First and last receipt day per customer up to the as-of date: an index-only scan of (customer_id, day). */
+const receiptDaysSql = 'SELECT customer_id, min(day), max(day) FROM receipts WHERE day <= ? GROUP BY customer_id';
 
-type WindowAggregateRow = [string, number, number, number, number, number, number, number, number, number];
+type WindowAggregateRow = [string, number, number, number, number, number, number];
 
 /** Growable column of doubles (avoids a JS array of a million boxed numbers). */
 class DoubleColumn {
@@ -155,13 +152,17 @@ export function computeReceiptFeatures(db: Database, options: ComputeFeaturesOpt
   }
   throwIfAborted(options.signal);
 
-  // First receipt days, in the same customer order as the window pass (both walk the same index).
+  // First and last receipt days, in the same customer order as the window pass (both walk the same index).
   const firstIds: string[] = [];
   const firstDays = new DoubleColumn();
-  for (const [customerId, day] of db.prepare(firstReceiptSql).raw().iterate(window.asOfDay) as Iterable<[string, number]>) {
+  const lastDays = new DoubleColumn();
+  for (const [customerId, first, last] of db.prepare(receiptDaysSql).raw().iterate(window.asOfDay) as Iterable<[string, number, number]>) {
     firstIds.push(customerId);
-    firstDays.push(day);
+    firstDays.push(first);
+    lastDays.push(last);
   }
+  // Departments at all? Without them the fresh share means nothing and is left out.
+  const anyCategorised = db.prepare('SELECT 1 FROM receipts WHERE category IS NOT NULL LIMIT 1').get() !== undefined;
   throwIfAborted(options.signal);
 
   const customerIds: string[] = [];
@@ -169,27 +170,28 @@ export function computeReceiptFeatures(db: Database, options: ComputeFeaturesOpt
   const revenue = new DoubleColumn();
   const tooNew: number[] = [];
   const windowDays = window.asOfDay - window.startDay + 1;
-  let anyCategorised = false;
   let rowCount = 0;
   // Both passes come in customer order, so a forward walk finds each id; a map is the fallback
   // should SQLite ever order the two differently.
   let firstAt = 0;
-  let firstById: Map<string, number> | null = null;
-  const firstReceiptOf = (customerId: string): number | undefined => {
+  let firstById: Map<string, number> | null = null; // customer → position in the days pass
+  const receiptDaysOf = (customerId: string): number => {
     if (!firstById) {
       const from = firstAt;
       while (firstAt < firstIds.length && firstIds[firstAt] !== customerId) firstAt++;
-      if (firstAt < firstIds.length) return firstDays.values[firstAt];
-      firstById = new Map(firstIds.map((id, i) => [id, firstDays.values[i]]));
+      if (firstAt < firstIds.length) return firstAt;
+      firstById = new Map(firstIds.map((id, i) => [id, i]));
       firstAt = from;
     }
-    return firstById.get(customerId);
+    return firstById.get(customerId)!;
   };
   const statement = db.prepare(windowAggregateSql(fresh.length)).raw();
   for (const row of statement.iterate(...fresh, params) as Iterable<WindowAggregateRow>) {
-    const [customerId, firstInWindow, lastReceipt, netCents, boughtCents, freshCents, categorisedRows, last3Cents, last6Cents, purchases] = row;
+    const [customerId, netCents, boughtCents, freshCents, last3Cents, last6Cents, purchases] = row;
     if (++rowCount % 65536 === 0) throwIfAborted(options.signal);
-    const firstReceipt = firstReceiptOf(customerId) ?? firstInWindow;
+    const at = receiptDaysOf(customerId);
+    const firstReceipt = firstDays.values[at];
+    const lastReceipt = lastDays.values[at];
     const refundCents = netCents - boughtCents;
     const prev3Cents = last6Cents - last3Cents;
     const visit = visits.get(customerId);
@@ -211,13 +213,12 @@ export function computeReceiptFeatures(db: Database, options: ComputeFeaturesOpt
     columns[2].push(purchases > 0 ? netSpend / purchases : NaN);
     columns[3].push(window.asOfDay - lastDay);
     columns[4].push(tenureMonths);
-    columns[5].push(categorisedRows > 0 && boughtCents > 0 ? freshCents / boughtCents : NaN);
+    columns[5].push(boughtCents > 0 ? freshCents / boughtCents : NaN);
     columns[6].push(trendBase > 0 ? (last3Cents - prev3Cents) / trendBase : 0);
     columns[7].push(boughtCents > 0 && refundCents < 0 ? -refundCents / boughtCents : 0);
     columns[8].push(purchases);
     revenue.push(netCents);
     tooNew.push(purchases < options.minPurchases || tenureMonths < options.minTenureMonths ? 1 : 0);
-    if (categorisedRows > 0) anyCategorised = true;
   }
   throwIfAborted(options.signal);
 
