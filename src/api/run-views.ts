@@ -5,10 +5,10 @@ import { modelFromJSON } from '../model/serialize.js';
 import type { MixtureModel } from '../model/types.js';
 import { decodeFloat64 } from '../runs/blobs.js';
 import { DISTRIBUTION_SAMPLE_SIZE } from '../runs/display-sample.js';
-import { computeFlags } from '../runs/flags.js';
 import { getMovement, getReviewQueue, getRunDetail, listSegments } from '../runs/repository.js';
 import type { RunDetail as CoreRunDetail, SegmentProfile as CoreSegmentProfile } from '../runs/types.js';
 import { InputError } from '../errors.js';
+import { atypicalCount, borderlineCount, confidenceHistogram, runCertaintySummary } from './certainty-summary.js';
 import type {
   ApiParsedInput,
   CertaintySummary,
@@ -188,58 +188,22 @@ export function reviewItemView(db: Database, runId: number, customerId: string):
 // ---------------------------------------------------------------------------------------------
 // Aggregates over a run's memberships
 
-interface CertaintyColumns {
-  confidence: Float64Array;
-  margin: Float64Array;
-  logDensity: Float64Array;
-}
-
-/** Certainty columns of the last run asked for: slider moves re-count without re-reading. */
-let cachedColumns: { db: Database; runId: number; columns: CertaintyColumns } | null = null;
-
-function certaintyColumns(db: Database, runId: number): CertaintyColumns {
-  if (cachedColumns && cachedColumns.db === db && cachedColumns.runId === runId) return cachedColumns.columns;
-  const n = db.prepare('SELECT count(*) FROM run_memberships WHERE run_id = ? AND segment_index IS NOT NULL').pluck().get(runId) as number;
-  const columns = { confidence: new Float64Array(n), margin: new Float64Array(n), logDensity: new Float64Array(n) };
-  let i = 0;
-  const rows = db
-    .prepare('SELECT confidence, margin, log_density FROM run_memberships WHERE run_id = ? AND segment_index IS NOT NULL')
-    .raw()
-    .iterate(runId) as Iterable<[number, number, number]>;
-  for (const [confidence, margin, logDensity] of rows) {
-    columns.confidence[i] = confidence;
-    columns.margin[i] = margin;
-    columns.logDensity[i] = logDensity;
-    i += 1;
-  }
-  cachedColumns = { db, runId, columns };
-  return columns;
-}
-
-/** Counts under the sliders' thresholds, by the runs core's own flag rule (computeFlags). */
+/**
+ * Counts under the sliders' thresholds, exactly as the runs core's flag rule (computeFlags) gives
+ * them, answered from the run's cached certainty summary (src/api/certainty-summary.ts) so that
+ * slider moves cost milliseconds at any run size.
+ */
 export function certaintyView(db: Database, input: ApiParsedInput<'certainty'>): CertaintySummary {
-  getRunDetail(db, input.runId);
-  const columns = certaintyColumns(db, input.runId);
-  const flags = computeFlags(columns.confidence, columns.margin, columns.logDensity, {
-    borderlineConfidence: input.borderlineConfidence,
-    borderlineMargin: input.borderlineMargin,
-    atypicalPercentile: input.atypicalPercentile,
-  });
-  const histogram = new Array<number>(input.bins).fill(0);
-  let borderline = 0;
-  let atypical = 0;
-  for (let i = 0; i < columns.confidence.length; i++) {
-    histogram[Math.min(input.bins - 1, Math.floor(columns.confidence[i] * input.bins))] += 1;
-    borderline += flags.borderline[i];
-    atypical += flags.atypical[i];
-  }
+  const summary = runCertaintySummary(db, input.runId);
+  const { atypical, cut } = atypicalCount(summary, input.atypicalPercentile);
+  const histogram = confidenceHistogram(summary, input.bins);
   return {
     runId: input.runId,
-    customers: columns.confidence.length,
+    customers: summary.customers,
     confidenceHistogram: histogram.map((customers, b) => ({ from: b / input.bins, to: (b + 1) / input.bins, customers })),
-    borderline,
+    borderline: borderlineCount(summary, input),
     atypical,
-    atypicalLogDensityBelow: flags.atypicalLogDensityBelow,
+    atypicalLogDensityBelow: cut,
   };
 }
 
