@@ -4,7 +4,7 @@ import { InputError } from '../errors.js';
 import { computedFeatureNames, featureDescriptions } from '../features/definitions.js';
 import { dataRange } from '../features/compute.js';
 import { isoDateFromDay } from '../store/days.js';
-import { tableCounts } from '../store/customers-repo.js';
+import { databaseCounts } from './database-counts.js';
 import { listImports, savedMapping } from '../store/imports-repo.js';
 import { CURRENT_SCHEMA_VERSION } from '../store/database.js';
 import { cautions } from '../export/cautions.js';
@@ -55,7 +55,7 @@ const defaultModelFeatures = new Set(['spend_per_month', 'visits_per_month', 'av
 
 function databaseInfo(session: ApiSession): DatabaseInfo {
   const db = session.db();
-  const counts = tableCounts(db);
+  const counts = databaseCounts(db);
   const range = dataRange(db);
   return {
     path: session.requirePath(),
