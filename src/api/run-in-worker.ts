@@ -2,7 +2,7 @@ import { CancelledError } from '../errors.js';
 import { fromApiError } from './api-errors.js';
 import type { LongTaskMethod, TaskResults } from './contract.js';
 import type { LongTaskRequest } from './long-task-request.js';
-import { startWorker } from './start-worker.js';
+import { startWorker } from '../workers/start-worker.js';
 import type { ProgressReporter } from './tasks.js';
 import type { ParentToWorker, WorkerToParent } from './worker-messages.js';
 

@@ -1,5 +1,5 @@
 import { CancelledError, InputError } from '../errors.js';
-import { startWorker } from '../api/start-worker.js';
+import { startWorker } from '../workers/start-worker.js';
 import type { ImportKind } from '../store/imports-repo.js';
 import type { FileProbe } from './file-probe.js';
 import type { ReadOptions } from './row-converters.js';
