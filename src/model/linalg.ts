@@ -7,11 +7,18 @@ import { CholeskyDecomposition, Matrix } from 'ml-matrix';
 
 /**
  * Lower-triangular Cholesky factor L of the symmetric d × d matrix stored at `offset` in `source`
- * (row-major), or null when the matrix is not positive definite.
+ * (row-major), or null when the matrix is not positive definite. Only the lower triangle is read
+ * (as LAPACK's dpotrf does), so a matrix symmetric only to rounding still factors.
  */
 export function choleskyLower(source: Float64Array, offset: number, d: number): Float64Array | null {
-  const rows: number[][] = [];
-  for (let i = 0; i < d; i++) rows.push(Array.from(source.subarray(offset + i * d, offset + (i + 1) * d)));
+  const rows: number[][] = Array.from({ length: d }, () => new Array<number>(d).fill(0));
+  for (let i = 0; i < d; i++) {
+    for (let j = 0; j <= i; j++) {
+      const value = source[offset + i * d + j];
+      rows[i][j] = value;
+      rows[j][i] = value;
+    }
+  }
   const decomposition = new CholeskyDecomposition(new Matrix(rows));
   if (!decomposition.isPositiveDefinite()) return null;
   const lower = decomposition.lowerTriangularMatrix;

@@ -61,6 +61,7 @@ export function modelFromJSON(json: unknown): MixtureModel {
       covariances.set(finiteVector(`covariances[${c}][${i}]`, matrix[i], d as number), (c * (d as number) + i) * (d as number));
     }
   }
+  assertSymmetric(covariances, k as number, d as number);
   const regularization = typeof source.regularization === 'number' && Number.isFinite(source.regularization) ? source.regularization : 0;
   return {
     covarianceType,
@@ -69,9 +70,32 @@ export function modelFromJSON(json: unknown): MixtureModel {
     weights,
     means,
     covariances,
-    precisionCholesky: precisionCholeskyOf(covariances, k as number, d as number),
+    precisionCholesky: precisionCholeskyOrInputError(covariances, k as number, d as number),
     regularization,
   };
+}
+
+/** Symmetric up to rounding (relative 1e-9 of the larger diagonal), or the file is refused. */
+function assertSymmetric(covariances: Float64Array, k: number, d: number): void {
+  for (let c = 0; c < k; c++) {
+    const base = c * d * d;
+    for (let i = 0; i < d; i++) {
+      for (let j = 0; j < i; j++) {
+        const scale = Math.max(Math.abs(covariances[base + i * d + i]), Math.abs(covariances[base + j * d + j]), Number.MIN_VALUE);
+        if (Math.abs(covariances[base + i * d + j] - covariances[base + j * d + i]) > 1e-9 * scale) {
+          throw new InputError(`Mixture model "covariances[${c}]" is not symmetric (entries [${i}][${j}] and [${j}][${i}] differ).`);
+        }
+      }
+    }
+  }
+}
+
+function precisionCholeskyOrInputError(covariances: Float64Array, k: number, d: number): Float64Array {
+  try {
+    return precisionCholeskyOf(covariances, k, d);
+  } catch (error) {
+    throw new InputError(`Mixture model is not usable: ${error instanceof Error ? error.message : String(error)}`);
+  }
 }
 
 function finiteVector(field: string, value: unknown, length: number): Float64Array {

@@ -24,4 +24,21 @@ describe('model JSON', () => {
     expect(() => modelFromJSON({ ...json, weights: [0.5] })).toThrow(/"weights" must be 2 finite numbers/);
     expect(() => modelFromJSON({ ...json, means: [json.means[0], [1, 2, 'x', 4]] })).toThrow(/"means\[1\]"/);
   });
+
+  it('accepts covariances symmetric only to rounding, refuses asymmetric or indefinite ones', () => {
+    const json = modelToJSON(fitMixture(iris, { components: 2, covarianceType: 'full' }).model);
+    const withCovariance = (c: number, i: number, j: number, value: number) => {
+      const covariances = json.covariances.map((matrix) => matrix.map((row) => [...row]));
+      covariances[c][i][j] = value;
+      return { ...json, covariances };
+    };
+    // Written by another program (e.g. numpy), the two triangles can differ in the last bit.
+    const original = json.covariances[0][2][0];
+    const rounded = modelFromJSON(withCovariance(0, 0, 2, original * (1 + 4e-16)));
+    expect(rounded.covariances[0 * 16 + 2 * 4 + 0]).toBe(original);
+    expect(() => modelFromJSON(withCovariance(0, 0, 2, original + 1))).toThrow(
+      /"covariances\[0\]" is not symmetric \(entries \[2\]\[0\] and \[0\]\[2\] differ\)/,
+    );
+    expect(() => modelFromJSON(withCovariance(1, 1, 1, -1))).toThrow(/not usable: Covariance matrix of component 2 is not positive definite/);
+  });
 });
