@@ -1,14 +1,18 @@
 /**
  * The borderline "why": which features pull a customer between their top two segments a and b.
  * The log-odds log(π_a N(x; μ_a, Σ_a)) − log(π_b N(x; μ_b, Σ_b)) splits into the prior part
- * log(π_a/π_b) and, when the covariances are diagonal (diag, spherical), a sum of one exact term
- * per feature:
- *   c_j = −½ [ln σ²_aj − ln σ²_bj + (x_j − μ_aj)²/σ²_aj − (x_j − μ_bj)²/σ²_bj].
- * For full and tied covariances the terms use each feature's marginal variance Σ_jj instead (the
- * stated approximation: correlations between features are ignored, so the terms need not add up to
- * the exact log-odds). Positive terms pull towards a, negative towards b.
+ * log(π_a/π_b) and the likelihood part ℓ(x) = log N_a(x) − log N_b(x).
+ * - Diagonal covariances (diag, spherical): ℓ is exactly a sum of one term per feature,
+ *     c_j = −½ [ln σ²_aj − ln σ²_bj + (x_j − μ_aj)²/σ²_aj − (x_j − μ_bj)²/σ²_bj].
+ * - Full and tied covariances (the stated approximation): each feature's term is how much ℓ
+ *   changes when that feature is left out, c_j = ℓ(x) − ℓ(x without j), with the marginal Gaussians
+ *   of the remaining features. It accounts for correlations between features (which the marginal
+ *   variances alone would miss), but the terms need not add up to ℓ. For diagonal covariances it
+ *   gives the exact terms above.
+ * Positive terms pull towards a, negative towards b.
  */
 import { featureLabel } from '../features/definitions.js';
+import { choleskyLower } from '../model/linalg.js';
 import type { MixtureModel } from '../model/types.js';
 import type { BorderlineWhy, WhyTerm } from './types.js';
 
@@ -27,28 +31,70 @@ export function explainBorderline(
   segmentNames: readonly string[],
 ): BorderlineWhy {
   const d = model.dimensions;
-  const terms: WhyTerm[] = [];
-  for (let j = 0; j < d; j++) {
-    if (Number.isNaN(x[j])) continue;
-    const varianceA = model.covariances[(top * d + j) * d + j];
-    const varianceB = model.covariances[(second * d + j) * d + j];
-    const deltaA = x[j] - model.means[top * d + j];
-    const deltaB = x[j] - model.means[second * d + j];
-    const contribution = -0.5 * (Math.log(varianceA) - Math.log(varianceB) + (deltaA * deltaA) / varianceA - (deltaB * deltaB) / varianceB);
-    terms.push({
+  const observed: number[] = [];
+  for (let j = 0; j < d; j++) if (!Number.isNaN(x[j])) observed.push(j);
+  const diagonal = model.covarianceType === 'diag' || model.covarianceType === 'spherical';
+  const likelihoodLogOdds = (indices: readonly number[]) =>
+    marginalLogDensity(model, top, x, indices) - marginalLogDensity(model, second, x, indices);
+  const whole = diagonal ? 0 : likelihoodLogOdds(observed);
+  const terms: WhyTerm[] = observed.map((j) => {
+    const contribution = diagonal
+      ? diagonalTerm(model, x, top, second, j)
+      : whole - likelihoodLogOdds(observed.filter((index) => index !== j));
+    return {
       feature: features[j],
       label: featureLabel(features[j]),
       contribution,
       fits: contribution >= 0 ? segmentNames[top] : segmentNames[second],
-    });
-  }
+    };
+  });
   terms.sort((a, b) => Math.abs(b.contribution) - Math.abs(a.contribution));
+  const priorLogOdds = Math.log(model.weights[top] / model.weights[second]);
   return {
     terms,
-    priorLogOdds: Math.log(model.weights[top] / model.weights[second]),
-    method: model.covarianceType === 'diag' || model.covarianceType === 'spherical' ? 'exact' : 'marginal',
-    text: whyText(terms, Math.log(model.weights[top] / model.weights[second]), segmentNames[top], segmentNames[second]),
+    priorLogOdds,
+    method: diagonal ? 'exact' : 'leave-one-out',
+    text: whyText(terms, priorLogOdds, segmentNames[top], segmentNames[second]),
   };
+}
+
+/** The exact per-feature term of the log-odds for diagonal covariances. */
+function diagonalTerm(model: MixtureModel, x: ArrayLike<number>, a: number, b: number, j: number): number {
+  const d = model.dimensions;
+  const varianceA = model.covariances[(a * d + j) * d + j];
+  const varianceB = model.covariances[(b * d + j) * d + j];
+  const deltaA = x[j] - model.means[a * d + j];
+  const deltaB = x[j] - model.means[b * d + j];
+  return -0.5 * (Math.log(varianceA) - Math.log(varianceB) + (deltaA * deltaA) / varianceA - (deltaB * deltaB) / varianceB);
+}
+
+/**
+ * log N(x_S; μ_S, Σ_SS) of one component on the features S (0 when S is empty), through the
+ * Cholesky factor of the sub-covariance. The ½ ln 2π terms cancel in differences but are kept so
+ * the value is a true log density.
+ */
+function marginalLogDensity(model: MixtureModel, component: number, x: ArrayLike<number>, indices: readonly number[]): number {
+  const m = indices.length;
+  if (m === 0) return 0;
+  const d = model.dimensions;
+  const sub = new Float64Array(m * m);
+  for (let r = 0; r < m; r++) {
+    for (let c = 0; c < m; c++) sub[r * m + c] = model.covariances[(component * d + indices[r]) * d + indices[c]];
+  }
+  const lower = choleskyLower(sub, 0, m);
+  if (!lower) return -Infinity;
+  // Solve L z = x_S − μ_S; log density = −½|z|² − Σ ln L_rr − (m/2) ln 2π.
+  const z = new Float64Array(m);
+  let squared = 0;
+  let logDeterminantHalf = 0;
+  for (let r = 0; r < m; r++) {
+    let value = x[indices[r]] - model.means[component * d + indices[r]];
+    for (let c = 0; c < r; c++) value -= lower[r * m + c] * z[c];
+    z[r] = value / lower[r * m + r];
+    squared += z[r] * z[r];
+    logDeterminantHalf += Math.log(lower[r * m + r]);
+  }
+  return -0.5 * squared - logDeterminantHalf - 0.5 * m * Math.log(2 * Math.PI);
 }
 
 /**

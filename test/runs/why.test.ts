@@ -51,19 +51,38 @@ describe('borderline why', () => {
     expect(why.text).toBe('visit rate fits Tier 2, basket size fits Tier 3, Tier 2 is the more common segment');
   });
 
-  it('full covariance: marginal terms, stated as such', () => {
+  it('full covariance: leave-one-out terms see the correlation the margins miss', () => {
     const full = model('full', [
       [[1, 0.5], [0.5, 1]],
       [[1, -0.2], [-0.2, 1]],
     ]);
     const why = explainBorderline(full, [1, 0.5], 0, 1, features, names);
-    expect(why.method).toBe('marginal');
+    expect(why.method).toBe('leave-one-out');
     expect(why.terms).toHaveLength(2);
-    // With equal marginal variances the term is −½[(x−μa)² − (x−μb)²]: basket −½[1 − 1] = 0.
-    expect(why.terms.find((term) => term.feature === 'average_basket')!.contribution).toBeCloseTo(0, 12);
-    // visits: −½[0.25 − 0.25] = 0 as well: nothing separates them on the margins but the prior.
-    // No feature is named when none pulls; only the segments' sizes tip the balance.
-    expect(why.text).toBe('Tier 2 is the more common segment');
+    // Worked by hand. Each margin alone says nothing: basket −½[(1−0)² − (1−2)²] = 0 and
+    // visits −½[0.5² − (0.5−1)²] = 0 (unit marginal variances). Jointly, with δa = (1, 0.5) and
+    // δb = (−1, −0.5): δaᵀΣa⁻¹δa = (4/3)(1 − 0.5 + 0.25) = 1, δbᵀΣb⁻¹δb = (1/0.96)(1 + 0.2 + 0.25)
+    // = 1.510417, so ℓ = −½[ln 0.75 + 1] + ½[ln 0.96 + 1.510417] = ½ ln 1.28 + 0.255208 = 0.378638.
+    // Leaving either feature out leaves a single margin (ℓ = 0), so both terms are ℓ itself.
+    const expected = 0.5 * Math.log(0.96 / 0.75) + 0.5 * (1.45 / 0.96 - 1);
+    expect(expected).toBeCloseTo(0.378638, 6);
+    for (const term of why.terms) {
+      expect(term.contribution).toBeCloseTo(expected, 12);
+      expect(term.fits).toBe('Tier 2');
+    }
+    expect(why.text).toBe('basket size fits Tier 2, visit rate fits Tier 2, Tier 2 is the more common segment');
+  });
+
+  it('leave-one-out gives the exact diagonal terms when the covariances are diagonal', () => {
+    const covariances = [
+      [[1, 0], [0, 0.5]],
+      [[2, 0], [0, 1]],
+    ];
+    const x = [1.3, 0.2];
+    const exact = explainBorderline(model('diag', covariances), x, 0, 1, features, names);
+    const leaveOneOut = explainBorderline(model('full', covariances), x, 0, 1, features, names);
+    expect(leaveOneOut.terms.map((term) => term.feature)).toEqual(exact.terms.map((term) => term.feature));
+    leaveOneOut.terms.forEach((term, index) => expect(term.contribution).toBeCloseTo(exact.terms[index].contribution, 12));
   });
 
   it('skips missing features and explains with what is observed', () => {

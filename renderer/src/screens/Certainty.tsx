@@ -16,7 +16,7 @@ import { RunScreen } from './NoRun.js';
 
 const whyMethodNote: Record<BorderlineRow['why']['method'], string> = {
   exact: 'Exact split of the log-odds between the two segments by feature.',
-  marginal: 'Feature by feature; correlations between features are left out of this explanation.',
+  'leave-one-out': 'Feature by feature: how much the balance between the two segments changes when that feature is left out (approximate; the effects need not add up).',
 };
 
 /** Waits until a value has been still for `delay` ms, so dragging a slider sends few requests. */
