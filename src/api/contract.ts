@@ -507,8 +507,8 @@ export interface BorderlineWhy {
   /** Features ranked by |contribution| to log(p_top / p_second); positive pulls to the top segment. */
   terms: { feature: string; label: string; contribution: number; fits: string }[];
   priorLogOdds: number;
-  /** 'exact' for diag/spherical; 'leave-one-out' (each feature's effect on the log-odds when left out) for full/tied. */
-  method: 'exact' | 'leave-one-out';
+  /** 'exact' per-feature terms for diag/spherical; 'shapley' (Shapley values over features, adding up to the log-odds) for full/tied. */
+  method: 'exact' | 'shapley';
   /** Plain words, e.g. "basket size fits Tier 2, visit rate fits Tier 3". */
   text: string;
 }

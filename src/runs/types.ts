@@ -226,8 +226,8 @@ export interface BorderlineWhy {
   terms: WhyTerm[];
   /** log(weight_top / weight_second): the prior part of the log-odds. */
   priorLogOdds: number;
-  /** 'exact' for diag/spherical; 'leave-one-out' (each feature's effect on the log-odds when left out) for full/tied. */
-  method: 'exact' | 'leave-one-out';
+  /** 'exact' per-feature terms for diag/spherical; 'shapley' (Shapley values over features, adding up to the log-odds) for full/tied. */
+  method: 'exact' | 'shapley';
   /** Plain words, e.g. "basket size fits Tier 2, visit rate fits Tier 3". */
   text: string;
 }

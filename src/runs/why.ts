@@ -4,11 +4,12 @@
  * log(π_a/π_b) and the likelihood part ℓ(x) = log N_a(x) − log N_b(x).
  * - Diagonal covariances (diag, spherical): ℓ is exactly a sum of one term per feature,
  *     c_j = −½ [ln σ²_aj − ln σ²_bj + (x_j − μ_aj)²/σ²_aj − (x_j − μ_bj)²/σ²_bj].
- * - Full and tied covariances (the stated approximation): each feature's term is how much ℓ
- *   changes when that feature is left out, c_j = ℓ(x) − ℓ(x without j), with the marginal Gaussians
- *   of the remaining features. It accounts for correlations between features (which the marginal
- *   variances alone would miss), but the terms need not add up to ℓ. For diagonal covariances it
- *   gives the exact terms above.
+ * - Full and tied covariances: correlated features share what they say, so there is no single
+ *   per-feature split. We use the Shapley values (Shapley 1953) of the game v(S) = ℓ(x_S), where
+ *   ℓ(x_S) uses the marginal Gaussians of the feature subset S: each feature gets its average added
+ *   log-odds over all orders of adding features. The terms add up exactly to ℓ(x) and give the
+ *   exact terms above when the covariances are diagonal; the split of shared information between
+ *   correlated features is the convention this method states.
  * Positive terms pull towards a, negative towards b.
  */
 import { featureLabel } from '../features/definitions.js';
@@ -20,6 +21,9 @@ import type { BorderlineWhy, WhyTerm } from './types.js';
 const NEGLIGIBLE_TERM = 0.05;
 /** How many features the sentence names at most. */
 const TERMS_IN_TEXT = 3;
+
+/** Above this many observed features the 2^m subsets of the Shapley split get too many. */
+const MAX_SHAPLEY_FEATURES = 16;
 
 export function explainBorderline(
   model: MixtureModel,
@@ -34,28 +38,52 @@ export function explainBorderline(
   const observed: number[] = [];
   for (let j = 0; j < d; j++) if (!Number.isNaN(x[j])) observed.push(j);
   const diagonal = model.covarianceType === 'diag' || model.covarianceType === 'spherical';
-  const likelihoodLogOdds = (indices: readonly number[]) =>
-    marginalLogDensity(model, top, x, indices) - marginalLogDensity(model, second, x, indices);
-  const whole = diagonal ? 0 : likelihoodLogOdds(observed);
-  const terms: WhyTerm[] = observed.map((j) => {
-    const contribution = diagonal
-      ? diagonalTerm(model, x, top, second, j)
-      : whole - likelihoodLogOdds(observed.filter((index) => index !== j));
-    return {
-      feature: features[j],
-      label: featureLabel(features[j]),
-      contribution,
-      fits: contribution >= 0 ? segmentNames[top] : segmentNames[second],
-    };
-  });
+  const contributions = diagonal
+    ? observed.map((j) => diagonalTerm(model, x, top, second, j))
+    : shapleyTerms(model, x, top, second, observed);
+  const terms: WhyTerm[] = observed.map((j, index) => ({
+    feature: features[j],
+    label: featureLabel(features[j]),
+    contribution: contributions[index],
+    fits: contributions[index] >= 0 ? segmentNames[top] : segmentNames[second],
+  }));
   terms.sort((a, b) => Math.abs(b.contribution) - Math.abs(a.contribution));
   const priorLogOdds = Math.log(model.weights[top] / model.weights[second]);
   return {
     terms,
     priorLogOdds,
-    method: diagonal ? 'exact' : 'leave-one-out',
+    method: diagonal ? 'exact' : 'shapley',
     text: whyText(terms, priorLogOdds, segmentNames[top], segmentNames[second]),
   };
+}
+
+/** Shapley value of each observed feature in the game v(S) = log N_a(x_S) − log N_b(x_S). */
+function shapleyTerms(model: MixtureModel, x: ArrayLike<number>, a: number, b: number, observed: readonly number[]): number[] {
+  const m = observed.length;
+  if (m > MAX_SHAPLEY_FEATURES) {
+    throw new Error(`The borderline explanation supports at most ${MAX_SHAPLEY_FEATURES} features; the model has ${m}.`);
+  }
+  const subsets = 1 << m;
+  const value = new Float64Array(subsets);
+  const size = new Int32Array(subsets);
+  for (let mask = 1; mask < subsets; mask++) {
+    const indices: number[] = [];
+    for (let bit = 0; bit < m; bit++) if (mask & (1 << bit)) indices.push(observed[bit]);
+    size[mask] = indices.length;
+    value[mask] = marginalLogDensity(model, a, x, indices) - marginalLogDensity(model, b, x, indices);
+  }
+  // Weight of a coalition of size s that feature j joins: s! (m − s − 1)! / m!.
+  const factorial = [1];
+  for (let n = 1; n <= m; n++) factorial.push(factorial[n - 1] * n);
+  return observed.map((_, bit) => {
+    let total = 0;
+    for (let mask = 0; mask < subsets; mask++) {
+      if (mask & (1 << bit)) continue;
+      const s = size[mask];
+      total += ((factorial[s] * factorial[m - s - 1]) / factorial[m]) * (value[mask | (1 << bit)] - value[mask]);
+    }
+    return total;
+  });
 }
 
 /** The exact per-feature term of the log-odds for diagonal covariances. */

@@ -3,6 +3,8 @@ import { modelFromJSON } from '../../src/model/serialize.js';
 import { scoreRows } from '../../src/model/score.js';
 import type { CovarianceType } from '../../src/model/types.js';
 import { explainBorderline, whyText } from '../../src/runs/why.js';
+import { fitMixture } from '../../src/model/em.js';
+import { referenceData } from '../model/support.js';
 
 function model(covarianceType: CovarianceType, covariances: number[][][]) {
   return modelFromJSON({
@@ -51,38 +53,58 @@ describe('borderline why', () => {
     expect(why.text).toBe('visit rate fits Tier 2, basket size fits Tier 3, Tier 2 is the more common segment');
   });
 
-  it('full covariance: leave-one-out terms see the correlation the margins miss', () => {
+  it('full covariance: Shapley terms see the correlation the margins miss, and add up to the log-odds', () => {
     const full = model('full', [
       [[1, 0.5], [0.5, 1]],
       [[1, -0.2], [-0.2, 1]],
     ]);
-    const why = explainBorderline(full, [1, 0.5], 0, 1, features, names);
-    expect(why.method).toBe('leave-one-out');
+    const x = [1, 0.5];
+    const why = explainBorderline(full, x, 0, 1, features, names);
+    expect(why.method).toBe('shapley');
     expect(why.terms).toHaveLength(2);
-    // Worked by hand. Each margin alone says nothing: basket −½[(1−0)² − (1−2)²] = 0 and
-    // visits −½[0.5² − (0.5−1)²] = 0 (unit marginal variances). Jointly, with δa = (1, 0.5) and
-    // δb = (−1, −0.5): δaᵀΣa⁻¹δa = (4/3)(1 − 0.5 + 0.25) = 1, δbᵀΣb⁻¹δb = (1/0.96)(1 + 0.2 + 0.25)
-    // = 1.510417, so ℓ = −½[ln 0.75 + 1] + ½[ln 0.96 + 1.510417] = ½ ln 1.28 + 0.255208 = 0.378638.
-    // Leaving either feature out leaves a single margin (ℓ = 0), so both terms are ℓ itself.
-    const expected = 0.5 * Math.log(0.96 / 0.75) + 0.5 * (1.45 / 0.96 - 1);
-    expect(expected).toBeCloseTo(0.378638, 6);
+    // Worked by hand. Each margin alone says nothing: v({basket}) = −½[(1−0)² − (1−2)²] = 0 and
+    // v({visits}) = −½[0.5² − (0.5−1)²] = 0 (unit marginal variances). Jointly, with δa = (1, 0.5)
+    // and δb = (−1, −0.5): δaᵀΣa⁻¹δa = (4/3)(1 − 0.5 + 0.25) = 1, δbᵀΣb⁻¹δb = (1/0.96)(1 + 0.2 +
+    // 0.25) = 1.510417, so v(both) = −½[ln 0.75 + 1] + ½[ln 0.96 + 1.510417] = 0.378638.
+    // Shapley: each feature gets ½[v({j}) − v(∅)] + ½[v(both) − v(other)] = 0.378638 / 2.
+    const joint = 0.5 * Math.log(0.96 / 0.75) + 0.5 * (1.45 / 0.96 - 1);
+    expect(joint).toBeCloseTo(0.378638, 6);
     for (const term of why.terms) {
-      expect(term.contribution).toBeCloseTo(expected, 12);
+      expect(term.contribution).toBeCloseTo(joint / 2, 12);
       expect(term.fits).toBe('Tier 2');
     }
+    const scored = scoreRows(full, { values: Float64Array.from(x), rows: 1, cols: 2 });
+    const logOdds = Math.log(scored.posteriors[0] / scored.posteriors[1]);
+    expect(why.priorLogOdds + why.terms.reduce((total, term) => total + term.contribution, 0)).toBeCloseTo(logOdds, 12);
     expect(why.text).toBe('basket size fits Tier 2, visit rate fits Tier 2, Tier 2 is the more common segment');
   });
 
-  it('leave-one-out gives the exact diagonal terms when the covariances are diagonal', () => {
+  it('Shapley terms equal the exact diagonal terms when the covariances are diagonal', () => {
     const covariances = [
       [[1, 0], [0, 0.5]],
       [[2, 0], [0, 1]],
     ];
     const x = [1.3, 0.2];
     const exact = explainBorderline(model('diag', covariances), x, 0, 1, features, names);
-    const leaveOneOut = explainBorderline(model('full', covariances), x, 0, 1, features, names);
-    expect(leaveOneOut.terms.map((term) => term.feature)).toEqual(exact.terms.map((term) => term.feature));
-    leaveOneOut.terms.forEach((term, index) => expect(term.contribution).toBeCloseTo(exact.terms[index].contribution, 12));
+    const shapley = explainBorderline(model('full', covariances), x, 0, 1, features, names);
+    expect(shapley.terms.map((term) => term.feature)).toEqual(exact.terms.map((term) => term.feature));
+    shapley.terms.forEach((term, index) => expect(term.contribution).toBeCloseTo(exact.terms[index].contribution, 12));
+  });
+
+  it('Shapley terms plus the prior equal the log posterior odds on a fitted 4-feature model', () => {
+    // Fisher's iris (R's datasets::iris), full covariances: its four measurements are correlated.
+    const iris = referenceData('iris');
+    const fitted = fitMixture(iris, { components: 3, covarianceType: 'full', restarts: 1 }).model;
+    const scored = scoreRows(fitted, iris);
+    const irisFeatures = ['spend_per_month', 'visits_per_month', 'average_basket', 'fresh_share'];
+    for (const row of [0, 60, 77, 120, 133]) {
+      const x = iris.values.subarray(row * 4, row * 4 + 4);
+      const top = scored.topSegment[row];
+      const second = scored.secondSegment[row];
+      const why = explainBorderline(fitted, x, top, second, irisFeatures, ['A', 'B', 'C']);
+      const logOdds = Math.log(scored.posteriors[row * 3 + top] / scored.posteriors[row * 3 + second]);
+      expect(why.priorLogOdds + why.terms.reduce((total, term) => total + term.contribution, 0)).toBeCloseTo(logOdds, 8);
+    }
   });
 
   it('skips missing features and explains with what is observed', () => {

@@ -16,7 +16,7 @@ import { RunScreen } from './NoRun.js';
 
 const whyMethodNote: Record<BorderlineRow['why']['method'], string> = {
   exact: 'Exact split of the log-odds between the two segments by feature.',
-  'leave-one-out': 'Feature by feature: how much the balance between the two segments changes when that feature is left out (approximate; the effects need not add up).',
+  shapley: 'Split of the log-odds between the two segments by feature; correlated features share what they say (Shapley values over the features).',
 };
 
 /** Waits until a value has been still for `delay` ms, so dragging a slider sends few requests. */

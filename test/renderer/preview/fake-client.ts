@@ -151,7 +151,7 @@ function whyOf(row: MembershipRow): BorderlineRow['why'] {
       { feature: 'visitsPerMonth', label: 'visits per month', contribution: -0.6, fits: second },
     ],
     priorLogOdds: 0.1,
-    method: 'leave-one-out',
+    method: 'shapley',
     text: `average basket fits ${top}, visits per month fits ${second}`,
   };
 }
