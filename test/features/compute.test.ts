@@ -136,3 +136,47 @@ describe('features worked by hand', () => {
     }
   });
 });
+
+describe('a window shorter than the trend months, with history before it', () => {
+  /**
+   * Worked by hand: as of 2026-11-30 a 2-month window is 2026-10-01 … 2026-11-30 (61 days), so the
+   * trend's "last 3" and "3 before" both start at the window start. Customer D has no join date
+   * and no visits; the receipt of 2026-07-01 lies before the window (it counts for tenure only).
+   */
+  let shortFolder: string;
+  let shortDb: Database;
+  beforeAll(() => {
+    shortFolder = mkdtempSync(join(tmpdir(), 'spendmix-features-short-'));
+    shortDb = openDatabase(join(shortFolder, 'features.db'));
+    shortDb.prepare("INSERT INTO imports (import_id, file_name, kind, content_hash, mapping, rows_read, rows_imported, rows_rejected, duplicates_skipped, imported_at) VALUES (1, 't', 'receipts', 'h', '{}', 0, 0, 0, 0, 'now')").run();
+    const receipt = shortDb.prepare('INSERT INTO receipts (receipt_id, customer_id, day, time, amount_cents, store_id, category, import_id) VALUES (?, ?, ?, ?, ?, ?, ?, 1)');
+    receipt.run('D1', 'D', dayFromIsoDate('2026-07-01'), '10:00:00', 3000, 'S1', 'pantry');
+    receipt.run('D2', 'D', dayFromIsoDate('2026-10-15'), '10:00:00', 2000, 'S1', 'fresh');
+    receipt.run('D3', 'D', dayFromIsoDate('2026-11-10'), '10:00:00', 1000, 'S1', 'pantry');
+  });
+  afterAll(() => {
+    shortDb.close();
+    rmSync(shortFolder, { recursive: true, force: true });
+  });
+
+  it('keeps the sums inside the window and takes tenure from the first receipt before it', () => {
+    const table = computeReceiptFeatures(shortDb, { asOf: '2026-11-30', windowMonths: 2, minPurchases: 2, minTenureMonths: 2 });
+    expect(table.customerIds).toEqual(['D']);
+    const d = Object.fromEntries(table.names.map((name, j) => [name, table.columns[j][0]]));
+    // In the window: 20 + 10 = 30 EUR over the whole 2 months (the first day is before the window).
+    expect(table.revenueCents[0]).toBe(3000);
+    expect(d.spend_per_month).toBeCloseTo(15, 12);
+    expect(d.purchases).toBe(2);
+    expect(d.average_basket).toBeCloseTo(15, 12);
+    // No visits file: purchases are the visits, 2 over 2 months.
+    expect(d.visits_per_month).toBeCloseTo(1, 12);
+    expect(d.days_since_last_visit).toBe(20);
+    // 2026-07-01 … 2026-11-30 inclusive is 153 days.
+    expect(d.tenure_months).toBeCloseTo(153 / 30.4375, 12);
+    expect(d.fresh_share).toBeCloseTo(20 / 30, 12);
+    // The July receipt is before the window, so it is not in "the 3 before": all spend is recent.
+    expect(d.spend_trend).toBe(1);
+    expect(d.refund_share).toBe(0);
+    expect(table.tooNew[0]).toBe(0);
+  });
+});
