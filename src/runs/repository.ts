@@ -1,8 +1,8 @@
 /**
  * Reading stored runs, and the two small edits the analyst makes on them (review decisions and
- * segment names). This is what the app's API and the export call; the shapes are in ./types.ts and
- * the list of functions in ./read-api.ts. Long lists are paged (offset/limit); the export streams
- * every customer through one prepared statement (`iterateRunCustomers`).
+ * segment names). This is what the app's API and the export call; the shapes are in ./types.ts.
+ * Long lists are paged (offset/limit); the export streams every customer through one prepared
+ * statement (`iterateRunCustomers`).
  */
 import type { Database } from 'better-sqlite3';
 import { InputError } from '../errors.js';
@@ -11,7 +11,6 @@ import { transformValue, type FeatureTransform } from '../features/transforms.js
 import { modelFromJSON } from '../model/serialize.js';
 import type { CovarianceType, MixtureModel, SelectionCriterion, SweepRow } from '../model/types.js';
 import { decodeFloat64 } from './blobs.js';
-import type { RunRepositoryFunctions } from './read-api.js';
 import { finalSegmentKey, reviewReasons } from './review-rules.js';
 import type {
   BorderlineItem,
@@ -206,6 +205,7 @@ function toMembership(row: MembershipRow, context: RunContext): Membership {
 
 // ---------------------------------------------------------------------------------------------
 
+/** Every run, newest first. */
 export function listRuns(db: Database): RunListItem[] {
   const rows = db.prepare('SELECT * FROM runs ORDER BY run_id DESC').all() as RunRow[];
   return rows.map((row) => ({
@@ -233,6 +233,7 @@ function runNumbers(row: RunRow): Omit<RunSummary, 'segments'> {
   };
 }
 
+/** `'latest'` or an id → an existing run id; InputError naming the known ids otherwise. */
 export function resolveRunId(db: Database, run: number | 'latest'): number {
   if (run === 'latest') {
     const latest = db.prepare('SELECT max(run_id) FROM runs').pluck().get() as number | null;
@@ -242,6 +243,7 @@ export function resolveRunId(db: Database, run: number | 'latest'): number {
   return runRow(db, run).run_id;
 }
 
+/** The `refresh --json` summary of a stored run. */
 export function getRunSummary(db: Database, runId: number): RunSummary {
   const { row, segments } = runContext(db, runId);
   return summaryOf(row, segments);
@@ -259,6 +261,7 @@ function summaryOf(row: RunRow, segments: SegmentRow[]): RunSummary {
   };
 }
 
+/** Summary plus settings, features with fitted transforms, warnings, retired segments. */
 export function getRunDetail(db: Database, runId: number): RunDetail {
   const { row, segments } = runContext(db, runId);
   return {
@@ -276,10 +279,12 @@ export function getRunDetail(db: Database, runId: number): RunDetail {
   };
 }
 
+/** The model-selection table (empty for a rescore). */
 export function getSweepTable(db: Database, runId: number): SweepRow[] {
   return JSON.parse(runRow(db, runId).sweep) as SweepRow[];
 }
 
+/** Segments in spend order with profiles in money terms. */
 export function listSegments(db: Database, runId: number): SegmentProfile[] {
   runRow(db, runId);
   return segmentRows(db, runId)
@@ -327,6 +332,7 @@ const flagConditions: Record<NonNullable<MembershipQuery['flag']>, string> = {
   decided: 'd.action IS NOT NULL',
 };
 
+/** One page of customers, sortable and filterable by segment or flag. */
 export function getMemberships(db: Database, runId: number, query: MembershipQuery = {}): Page<Membership> {
   const context = runContext(db, runId);
   const { offset, limit } = pageBounds(query);
@@ -379,6 +385,7 @@ function whyFor(row: MembershipRow, models: ModelContext, context: RunContext): 
   return explainBorderline(models.model, x, row.segment_index, row.second_index, models.features, names);
 }
 
+/** Borderline customers (by spend at stake) with the features that pull them between segments. */
 export function getBorderline(
   db: Database,
   runId: number,
@@ -408,6 +415,7 @@ export function getBorderline(
   };
 }
 
+/** The review queue ordered by spend at stake, with decisions here and last month. */
 export function getReviewQueue(
   db: Database,
   runId: number,
@@ -461,6 +469,7 @@ export function getReviewQueue(
   return { total, offset, items };
 }
 
+/** Movement against the parent; null for a first run. */
 export function getMovement(db: Database, runId: number): Movement | null {
   const { row, segments } = runContext(db, runId);
   if (row.movement === null || row.parent_run_id === null) return null;
@@ -493,6 +502,7 @@ function findSegment(context: RunContext, segment: number | string): SegmentRow 
   return found;
 }
 
+/** Records (or replaces) a decision on a customer of the run. */
 export function decideReview(db: Database, input: DecideInput): ReviewDecision {
   const context = runContext(db, input.runId);
   if (typeof input.customerId !== 'string' || input.customerId === '') throw new InputError('A decision needs the customer id.');
@@ -534,6 +544,7 @@ export function decideReview(db: Database, input: DecideInput): ReviewDecision {
   };
 }
 
+/** Renames a segment (by index, key or current name); names are unique within a run. */
 export function renameSegment(db: Database, runId: number, segment: number | string, name: string): SegmentProfile {
   const context = runContext(db, runId);
   const target = findSegment(context, segment);
@@ -582,20 +593,3 @@ export function* iterateRunCustomers(db: Database, runId: number): IterableItera
     };
   }
 }
-
-/** The functions above, typed against the published signatures (a compile-time check). */
-export const runRepository: RunRepositoryFunctions = {
-  listRuns,
-  resolveRunId,
-  getRunSummary,
-  getRunDetail,
-  getSweepTable,
-  listSegments,
-  getMemberships,
-  getBorderline,
-  getReviewQueue,
-  getMovement,
-  decideReview,
-  renameSegment,
-  iterateRunCustomers,
-};
