@@ -43,7 +43,7 @@ export interface ImportOptions {
   delimiter?: string;
   /** Folder for the import report (default: the database's folder). */
   reportDir?: string;
-  /** Parse CSV in a worker thread (default no: measured slower, see useWorker). */
+  /** Parse CSV in a worker thread (default: for files of 4 MiB and more, see useWorker). */
   parseInWorker?: boolean;
 }
 
@@ -131,15 +131,21 @@ function writerFor(db: Database, kind: ImportKind, importId: number, resolved: R
 /** Column of the store id in each kind's row values (see row-converters.ts), for recording unknown stores. */
 const STORE_VALUE_INDEX: Record<ImportKind, number> = { receipts: 5, visits: 3, customers: 3, features: -1 };
 
+/** Position of amount_cents in a receipt row's values (see row-converters.ts). */
+const RECEIPT_AMOUNT_INDEX = 4;
+
 /** Receipts or visits files above this size load with a rollback journal (see useRollbackJournalForLoad). */
 const ROLLBACK_JOURNAL_MIN_BYTES = 4 * 1024 * 1024;
 
 /**
- * Parsing in a worker thread is opt-in: measured on 1 M receipt rows it was slower (6.5 s against
- * 4.2 s single-threaded), because handing the rows across threads costs more than parsing them.
+ * CSV files this large are read and validated in a worker thread while this thread writes to the
+ * database (the two overlap on two cores; rows cross as packed batches, see packed-batch.ts).
+ * Below it, starting the worker costs more than it saves.
  */
+const WORKER_MIN_BYTES = 4 * 1024 * 1024;
+
 function useWorker(probe: FileProbe, request: ImportRequest): boolean {
-  return probe.format === 'csv' && request.options?.parseInWorker === true;
+  return probe.format === 'csv' && (request.options?.parseInWorker ?? probe.bytes >= WORKER_MIN_BYTES);
 }
 
 /** The single-thread path: validate each batch of the source as it is read. */
@@ -251,6 +257,7 @@ export async function importFile(db: Database, request: ImportRequest): Promise<
       let restoreIndexes: (() => void) | undefined;
       let firstBatch = true;
       let rowsRead = 0;
+      let addedAmountCents = 0; // of every accepted row, duplicates included
       const stride = strideOf(kind, resolved.featureColumns.length);
       const batches =
         useWorker(probe, request)
@@ -281,6 +288,9 @@ export async function importFile(db: Database, request: ImportRequest): Promise<
         rowsRead += batch.rowsRead;
         for (const rejection of batch.rejected) report.add(rejection.line, rejection);
         const values = batch.values;
+        if (kind === 'receipts') {
+          for (let offset = RECEIPT_AMOUNT_INDEX; offset < values.length; offset += stride) addedAmountCents += values[offset] as number;
+        }
         for (let offset = 0; offset < values.length; offset += stride) {
           if (storeIndex >= 0) {
             const storeId = values[offset + storeIndex] as string | null;
@@ -314,7 +324,9 @@ export async function importFile(db: Database, request: ImportRequest): Promise<
       }
       progress('committing', rowsRead, bytesRead);
       recordStoreIds(db, newStores);
-      const amountCents = kind === 'receipts' ? receiptAmountAfter(db, rowIdBefore) : null;
+      // With no duplicates the rows added are the rows written; otherwise sum what was written.
+      const amountCents =
+        kind !== 'receipts' ? null : writer.rowsWritten === writer.rowsAdded ? addedAmountCents : receiptAmountAfter(db, rowIdBefore);
       const reportPath = report.finish();
       const result: ImportResult = {
         file,

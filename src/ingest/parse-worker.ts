@@ -2,6 +2,7 @@ import { parentPort, workerData } from 'node:worker_threads';
 import { InputError } from '../errors.js';
 import { csvRecordBatches } from './csv-reader.js';
 import type { ParseJob, WorkerReply } from './parallel-parse.js';
+import { BatchPacker } from './packed-batch.js';
 import { makeRowConverter } from './row-converters.js';
 import { validateRecords } from './record-validator.js';
 
@@ -38,6 +39,7 @@ async function run(): Promise<void> {
     padShortRows: false,
     delimiter: job.delimiter,
   };
+  const packer = new BatchPacker(job.stride);
   let bytes = 0;
   let headerSkipped = false;
   for await (const records of csvRecordBatches(job.probe, job.delimiter, undefined, (read) => {
@@ -45,10 +47,10 @@ async function run(): Promise<void> {
   })) {
     const data = headerSkipped ? records : records.slice(1);
     headerSkipped = true;
-    const batch = validateRecords(data, context, bytes);
+    const { packed, transfer } = packer.pack(validateRecords(data, context, bytes));
     while (credit <= 0) await new Promise<void>((resolve) => (wake = resolve));
     credit -= 1;
-    port.postMessage({ type: 'batch', batch } satisfies WorkerReply);
+    port.postMessage({ type: 'batch', batch: packed } satisfies WorkerReply, transfer);
   }
   port.postMessage({ type: 'done' } satisfies WorkerReply);
 }

@@ -37,7 +37,7 @@ export function receiptAmountAfter(db: Database, afterRowId: number): number {
 export function useBulkLoadSettings(db: Database): () => void {
   const cacheSize = db.pragma('cache_size', { simple: true }) as number;
   const threads = db.pragma('threads', { simple: true }) as number;
-  db.pragma('cache_size = -32768');
+  db.pragma('cache_size = -4096');
   db.pragma('threads = 2');
   return () => {
     db.pragma(`cache_size = ${Number(cacheSize)}`);
