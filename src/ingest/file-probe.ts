@@ -20,6 +20,8 @@ export interface FileProbe {
 }
 
 export const READ_CHUNK_BYTES = 1 << 18;
+/** The probe only hashes and scans, so it reads in larger pieces (fewer awaits; measured faster). */
+const PROBE_CHUNK_BYTES = 1 << 22;
 
 /**
  * Reads the file once: content hash, format (XLSX by its zip signature, else text), and for text
@@ -47,7 +49,7 @@ export async function probeFile(
   const handle = await open(path, 'r');
   try {
     const hash = createHash('sha256');
-    const buffer = Buffer.allocUnsafe(READ_CHUNK_BYTES);
+    const buffer = Buffer.allocUnsafe(PROBE_CHUNK_BYTES);
     let offset = 0;
     let format: FileFormat = 'csv';
     let encoding: TextEncoding = 'utf-8';

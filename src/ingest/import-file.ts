@@ -27,7 +27,7 @@ import { maxRowId, receiptAmountAfter, suspendSecondaryIndexes, useBulkLoadSetti
 import { ImportReport } from './import-report.js';
 import { resolveMapping, type ColumnMapping, type ResolvedMapping } from './mapping.js';
 import { openRecordSource, type RecordSource } from './record-source.js';
-import { makeRowConverter } from './row-converters.js';
+import { AMOUNT_VALUE_INDEX, makeRowConverter, STORE_VALUE_INDEX } from './row-converters.js';
 import { DATE_FORMATS, type DateFormat } from './values.js';
 
 export interface ImportOptions {
@@ -128,11 +128,6 @@ function writerFor(db: Database, kind: ImportKind, importId: number, resolved: R
   }
 }
 
-/** Column of the store id in each kind's row values (see row-converters.ts), for recording unknown stores. */
-const STORE_VALUE_INDEX: Record<ImportKind, number> = { receipts: 5, visits: 3, customers: 3, features: -1 };
-
-/** Position of amount_cents in a receipt row's values (see row-converters.ts). */
-const RECEIPT_AMOUNT_INDEX = 4;
 
 /** Receipts or visits files above this size load with a rollback journal (see useRollbackJournalForLoad). */
 const ROLLBACK_JOURNAL_MIN_BYTES = 4 * 1024 * 1024;
@@ -275,7 +270,20 @@ export async function importFile(db: Database, request: ImportRequest): Promise<
               },
               signal,
             )
-          : validatedBatches(source, { convert, width, stride, padShortRows: source.padShortRows, delimiter: source.delimiter }, () => bytesRead);
+          : validatedBatches(
+              source,
+              {
+                convert,
+                width,
+                stride,
+                padShortRows: source.padShortRows,
+                delimiter: source.delimiter,
+                storeIndex,
+                amountIndex: AMOUNT_VALUE_INDEX[kind],
+                seenStoreIds: new Set<string>(),
+              },
+              () => bytesRead,
+            );
       for await (const batch of batches) {
         throwIfAborted(signal);
         if (firstBatch && table && batch.bytes > 0) {
@@ -287,20 +295,9 @@ export async function importFile(db: Database, request: ImportRequest): Promise<
         firstBatch = false;
         rowsRead += batch.rowsRead;
         for (const rejection of batch.rejected) report.add(rejection.line, rejection);
-        const values = batch.values;
-        if (kind === 'receipts') {
-          for (let offset = RECEIPT_AMOUNT_INDEX; offset < values.length; offset += stride) addedAmountCents += values[offset] as number;
-        }
-        for (let offset = 0; offset < values.length; offset += stride) {
-          if (storeIndex >= 0) {
-            const storeId = values[offset + storeIndex] as string | null;
-            if (storeId !== null && !knownStores.has(storeId)) {
-              knownStores.add(storeId);
-              newStores.add(storeId);
-            }
-          }
-          writer.add(values, offset);
-        }
+        addedAmountCents += batch.amountCents;
+        for (const storeId of batch.newStoreIds) if (!knownStores.has(storeId)) newStores.add(storeId);
+        writer.addRows(batch.values, stride);
         progress('reading', rowsRead, batch.bytes);
       }
       throwIfAborted(signal);

@@ -8,13 +8,17 @@ type Value = string | number | null;
  * one typed array of numbers and one of tags clone as a few memory copies:
  *
  * - `tags[i]` says what value `i` of the batch is: NULL_TAG, TEXT_TAG (the next piece of `text`,
- *   pieces joined by U+0000), NUMBER_TAG (the next entry of `numbers`) or DICTIONARY_TAG (the
- *   next entry of `numbers` is a code into the decoder's dictionary);
+ *   pieces joined by U+0000), NUMBER_TAG (the next entry of `numbers`), DICTIONARY_TAG (the
+ *   next entry of `numbers` is a code into the decoder's dictionary) or SAME_AS_ROW_ABOVE (the
+ *   string of the same column one row up: the department rows of a receipt repeat its receipt
+ *   and customer ids);
  * - `newEntries` are the dictionary strings first used in this batch, in code order.
  *
  * A batch with a U+0000 inside a string value travels as the plain array (`plain`) instead.
  */
 export interface PackedBatch {
+  /** Values per row. */
+  stride: number;
   tags: Uint8Array;
   text: string;
   textCount: number;
@@ -25,12 +29,15 @@ export interface PackedBatch {
   rejected: RejectedRow[];
   rowsRead: number;
   bytes: number;
+  amountCents: number;
+  newStoreIds: string[];
 }
 
 const NULL_TAG = 0;
 const TEXT_TAG = 1;
 const NUMBER_TAG = 2;
 const DICTIONARY_TAG = 3;
+const SAME_AS_ROW_ABOVE = 4;
 const SEPARATOR = '\u0000';
 
 /**
@@ -45,10 +52,13 @@ const MAX_CODED_LENGTH = 32;
 export class BatchPacker {
   private readonly codes = new Map<string, number>();
   private readonly newPerColumn: Int32Array;
+  /** Columns still dictionary-coded; the others skip the look-up altogether. */
+  private readonly coded: boolean[];
 
   constructor(private readonly stride: number) {
     if (!Number.isSafeInteger(stride) || stride <= 0) throw new Error(`Bad row stride ${stride}`);
     this.newPerColumn = new Int32Array(stride);
+    this.coded = new Array<boolean>(stride).fill(true);
   }
 
   pack(batch: ValidatedBatch): { packed: PackedBatch; transfer: ArrayBuffer[] } {
@@ -66,28 +76,29 @@ export class BatchPacker {
       } else if (typeof value === 'number') {
         tags[index] = NUMBER_TAG;
         numbers[numberCount++] = value;
-      } else {
+      } else if (this.coded[column] && value.length <= MAX_CODED_LENGTH) {
         let code = this.codes.get(value);
-        if (code === undefined && this.newPerColumn[column] < MAX_NEW_ENTRIES_PER_COLUMN && value.length <= MAX_CODED_LENGTH) {
-          this.newPerColumn[column] += 1;
+        if (code === undefined) {
           code = this.codes.size;
           this.codes.set(value, code);
           newEntries.push(value);
+          if (++this.newPerColumn[column] >= MAX_NEW_ENTRIES_PER_COLUMN) this.coded[column] = false;
         }
-        if (code !== undefined) {
-          tags[index] = DICTIONARY_TAG;
-          numbers[numberCount++] = code;
-        } else {
-          if (value.includes(SEPARATOR)) return this.plainForm(batch, newEntries);
-          tags[index] = TEXT_TAG;
-          pieces.push(value);
-        }
+        tags[index] = DICTIONARY_TAG;
+        numbers[numberCount++] = code;
+      } else if (index >= this.stride && values[index - this.stride] === value) {
+        tags[index] = SAME_AS_ROW_ABOVE;
+      } else {
+        if (value.includes(SEPARATOR)) return this.plainForm(batch, newEntries);
+        tags[index] = TEXT_TAG;
+        pieces.push(value);
       }
       column = column + 1 === this.stride ? 0 : column + 1;
     }
     const numbersUsed = numbers.slice(0, numberCount);
     const packed: PackedBatch = {
       ...summaryOf(batch),
+      stride: this.stride,
       tags,
       text: pieces.join(SEPARATOR),
       textCount: pieces.length,
@@ -102,6 +113,7 @@ export class BatchPacker {
   private plainForm(batch: ValidatedBatch, newEntries: string[]): { packed: PackedBatch; transfer: ArrayBuffer[] } {
     const packed: PackedBatch = {
       ...summaryOf(batch),
+      stride: this.stride,
       tags: new Uint8Array(0),
       text: '',
       textCount: 0,
@@ -113,10 +125,11 @@ export class BatchPacker {
   }
 }
 
-type BatchSummary = Pick<ValidatedBatch, 'accepted' | 'rejected' | 'rowsRead' | 'bytes'>;
+type BatchSummary = Omit<ValidatedBatch, 'values'>;
 
 function summaryOf(batch: BatchSummary): BatchSummary {
-  return { accepted: batch.accepted, rejected: batch.rejected, rowsRead: batch.rowsRead, bytes: batch.bytes };
+  const { accepted, rejected, rowsRead, bytes, amountCents, newStoreIds } = batch;
+  return { accepted, rejected, rowsRead, bytes, amountCents, newStoreIds };
 }
 
 /** Turns packed batches back into validated batches, in the order they were packed. */
@@ -127,7 +140,7 @@ export class BatchUnpacker {
     for (const entry of packed.newEntries) this.dictionary.push(entry);
     const summary = summaryOf(packed);
     if (packed.plain) return { ...summary, values: packed.plain };
-    const { tags, numbers } = packed;
+    const { tags, numbers, stride } = packed;
     const dictionary = this.dictionary;
     const pieces = packed.textCount === 0 ? [] : packed.text.split(SEPARATOR);
     if (pieces.length !== packed.textCount) throw new Error(`Packed batch holds ${pieces.length} strings, expected ${packed.textCount}`);
@@ -147,6 +160,9 @@ export class BatchUnpacker {
           break;
         case DICTIONARY_TAG:
           values[index] = dictionary[numbers[number++]];
+          break;
+        case SAME_AS_ROW_ABOVE:
+          values[index] = values[index - stride];
           break;
         default:
           throw new Error(`Unknown value tag ${tags[index]} in a packed batch`);

@@ -3,7 +3,7 @@ import { InputError } from '../errors.js';
 import { csvRecordBatches } from './csv-reader.js';
 import type { ParseJob, WorkerReply } from './parallel-parse.js';
 import { BatchPacker } from './packed-batch.js';
-import { makeRowConverter } from './row-converters.js';
+import { AMOUNT_VALUE_INDEX, makeRowConverter, STORE_VALUE_INDEX } from './row-converters.js';
 import { validateRecords } from './record-validator.js';
 
 /**
@@ -38,6 +38,9 @@ async function run(): Promise<void> {
     stride: job.stride,
     padShortRows: false,
     delimiter: job.delimiter,
+    storeIndex: STORE_VALUE_INDEX[job.kind],
+    amountIndex: AMOUNT_VALUE_INDEX[job.kind],
+    seenStoreIds: new Set<string>(),
   };
   const packer = new BatchPacker(job.stride);
   let bytes = 0;

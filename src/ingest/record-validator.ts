@@ -23,6 +23,10 @@ export interface ValidatedBatch {
   rowsRead: number;
   /** Bytes of the file read so far. */
   bytes: number;
+  /** Sum of the accepted rows' amounts in cents (0 for kinds without amounts). */
+  amountCents: number;
+  /** Store ids first seen in this file in this batch. */
+  newStoreIds: string[];
 }
 
 export interface ValidationContext {
@@ -34,6 +38,11 @@ export interface ValidationContext {
   /** XLSX drops trailing empty cells: pad short rows instead of rejecting them. */
   padShortRows: boolean;
   delimiter: string | null;
+  /** Where the store id and the amount sit in a row's values (-1: none; see row-converters.ts). */
+  storeIndex?: number;
+  amountIndex?: number;
+  /** Store ids seen so far in the file (filled in as batches are validated). */
+  seenStoreIds?: Set<string>;
 }
 
 /** Values per accepted row of each kind (see row-converters.ts). */
@@ -44,8 +53,13 @@ export function strideOf(kind: 'receipts' | 'visits' | 'customers' | 'features',
 /** Validates records: wrong column count, broken quoting and bad values become rejections. */
 export function validateRecords(records: readonly CsvRecord[], context: ValidationContext, bytes: number): ValidatedBatch {
   const { convert, width, stride } = context;
+  const storeIndex = context.storeIndex ?? -1;
+  const amountIndex = context.amountIndex ?? -1;
+  const seenStoreIds = context.seenStoreIds ?? new Set<string>();
   const values: Value[] = [];
   const rejected: RejectedRow[] = [];
+  const newStoreIds: string[] = [];
+  let amountCents = 0;
   let accepted = 0;
   for (const record of records) {
     let fields = record.fields;
@@ -72,7 +86,15 @@ export function validateRecords(records: readonly CsvRecord[], context: Validati
       continue;
     }
     for (let index = 0; index < stride; index += 1) values.push(row[index]);
+    if (amountIndex >= 0) amountCents += row[amountIndex] as number;
+    if (storeIndex >= 0) {
+      const storeId = row[storeIndex] as string | null;
+      if (storeId !== null && !seenStoreIds.has(storeId)) {
+        seenStoreIds.add(storeId);
+        newStoreIds.push(storeId);
+      }
+    }
     accepted += 1;
   }
-  return { values, accepted, rejected, rowsRead: records.length, bytes };
+  return { values, accepted, rejected, rowsRead: records.length, bytes, amountCents, newStoreIds };
 }

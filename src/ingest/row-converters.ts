@@ -34,6 +34,12 @@ export interface RowRejection {
  */
 export type RowValues = Array<string | number | null>;
 
+/** Position of the store id in each kind's row values, or -1 (used to record unknown stores). */
+export const STORE_VALUE_INDEX: Record<ImportKind, number> = { receipts: 5, visits: 3, customers: 3, features: -1 };
+
+/** Position of the amount in cents in each kind's row values, or -1. */
+export const AMOUNT_VALUE_INDEX: Record<ImportKind, number> = { receipts: 4, visits: -1, customers: -1, features: -1 };
+
 export type RowConverter = (fields: readonly string[]) => RowValues | RowRejection;
 
 export function isRowRejection(value: RowValues | RowRejection): value is RowRejection {

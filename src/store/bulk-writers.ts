@@ -8,8 +8,8 @@ type Value = string | number | null;
  * counts input rows that changed the database; the rest of what was added are duplicates.
  */
 export interface BulkWriter {
-  /** Adds the row that starts at `offset` of `values`. */
-  add(values: readonly Value[], offset?: number): void;
+  /** Adds the rows laid end to end in `values`, `stride` values each (the writer reads its columns from the start of each). */
+  addRows(values: readonly Value[], stride: number): void;
   /** Writes what is buffered; call before reading the counters. */
   flush(): void;
   readonly rowsAdded: number;
@@ -44,11 +44,13 @@ function tupleWriter(db: Database, width: number, sqlForRows: (rows: number) => 
     buffered = 0;
   };
   return {
-    add(values, offset = 0) {
-      for (let index = offset; index < offset + width; index += 1) buffer.push(values[index]);
-      buffered += 1;
-      rowsAdded += 1;
-      if (buffered === BATCH_ROWS) writeBuffered();
+    addRows(values, stride) {
+      for (let offset = 0; offset < values.length; offset += stride) {
+        for (let index = offset; index < offset + width; index += 1) buffer.push(values[index]);
+        buffered += 1;
+        rowsAdded += 1;
+        if (buffered === BATCH_ROWS) writeBuffered();
+      }
     },
     flush: writeBuffered,
     get rowsAdded() {
@@ -133,13 +135,15 @@ export function featureWriter(db: Database, importId: number, featureNames: read
   let rowsAdded = 0;
   let rowsWritten = 0;
   return {
-    add(values, offset = 0) {
-      rowsAdded += 1;
-      let changed = 0;
-      for (let index = 0; index < featureNames.length; index += 1) {
-        changed += upsert.run(values[offset], featureNames[index], values[offset + index + 1]).changes;
+    addRows(values, stride) {
+      for (let offset = 0; offset < values.length; offset += stride) {
+        rowsAdded += 1;
+        let changed = 0;
+        for (let index = 0; index < featureNames.length; index += 1) {
+          changed += upsert.run(values[offset], featureNames[index], values[offset + index + 1]).changes;
+        }
+        if (changed > 0) rowsWritten += 1;
       }
-      if (changed > 0) rowsWritten += 1;
     },
     flush() {},
     get rowsAdded() {

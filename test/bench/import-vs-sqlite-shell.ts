@@ -64,7 +64,8 @@ for (let pair = 1; pair <= pairs; pair += 1) {
   const oursDb = join(folder, 'ours.db');
   for (const path of [shellDb, oursDb]) for (const suffix of ['', '-wal', '-shm']) rmSync(path + suffix, { force: true });
   const shell = timed('sqlite3', [shellDb, '.mode csv', `.import ${csvPath} receipts`]);
-  const ours = timed(join(projectRoot, 'node_modules/.bin/tsx'), ['src/cli/main.ts', 'import', '--db', oursDb, '--receipts', csvPath, '--json']);
+  // The package's own command (`spendmix`, src/cli/bin.mjs), as a user runs it.
+  const ours = timed(process.execPath, ['src/cli/bin.mjs', 'import', '--db', oursDb, '--receipts', csvPath, '--json']);
   const result = JSON.parse(ours.output) as { rowsImported: number; rowsRead: number };
   if (result.rowsRead !== rows || result.rowsImported !== rows) throw new Error(`ours read ${result.rowsRead}, imported ${result.rowsImported}`);
   const shellRate = rows / shell.seconds;
