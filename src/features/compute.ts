@@ -1,9 +1,9 @@
 /**
  * Per-customer features for a trailing window, computed in SQLite: one pass over the window's
  * receipts (conditional aggregates give the last-3-month and prior-3-month sums, and one index
- * seek per customer its first receipt day), one over the visits, and a look-up of join dates. Definitions are in
- * ./definitions.ts. The population is every customer with at least one receipt row in the window;
- * customers with none there have lapsed and are not part of the run.
+ * seek per customer its first receipt day), one over the visits, and a look-up of join dates.
+ * Definitions are in ./definitions.ts. The population is every customer with at least one
+ * receipt row in the window; customers with none there have lapsed and are not part of the run.
  */
 import type { Database } from 'better-sqlite3';
 import { InputError, throwIfAborted } from '../errors.js';

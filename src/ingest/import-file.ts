@@ -22,12 +22,12 @@ import {
 } from '../store/imports-repo.js';
 import { probeFile, type FileProbe } from './file-probe.js';
 import { parseInWorker } from './parallel-parse.js';
-import { strideOf, validateRecords, type ValidatedBatch, type ValidationContext } from './record-validator.js';
+import { fileTotalsContext, strideOf, validateRecords, type ValidatedBatch, type ValidationContext } from './record-validator.js';
 import { maxRowId, receiptAmountAfter, suspendSecondaryIndexes, useBulkLoadSettings, useRollbackJournalForLoad } from '../store/bulk-load.js';
 import { ImportReport } from './import-report.js';
 import { resolveMapping, type ColumnMapping, type ResolvedMapping } from './mapping.js';
 import { openRecordSource, type RecordSource } from './record-source.js';
-import { AMOUNT_VALUE_INDEX, makeRowConverter, STORE_VALUE_INDEX } from './row-converters.js';
+import { makeRowConverter, STORE_VALUE_INDEX } from './row-converters.js';
 import { DATE_FORMATS, type DateFormat } from './values.js';
 
 export interface ImportOptions {
@@ -127,7 +127,6 @@ function writerFor(db: Database, kind: ImportKind, importId: number, resolved: R
       return featureWriter(db, importId, resolved.featureColumns.map(([, name]) => name));
   }
 }
-
 
 /** Receipts or visits files above this size load with a rollback journal (see useRollbackJournalForLoad). */
 const ROLLBACK_JOURNAL_MIN_BYTES = 4 * 1024 * 1024;
@@ -278,9 +277,7 @@ export async function importFile(db: Database, request: ImportRequest): Promise<
                 stride,
                 padShortRows: source.padShortRows,
                 delimiter: source.delimiter,
-                storeIndex,
-                amountIndex: AMOUNT_VALUE_INDEX[kind],
-                seenStoreIds: new Set<string>(),
+                ...fileTotalsContext(kind),
               },
               () => bytesRead,
             );

@@ -1,4 +1,4 @@
-import type { RejectedRow, ValidatedBatch } from './record-validator.js';
+import type { ValidatedBatch } from './record-validator.js';
 
 type Value = string | number | null;
 
@@ -16,7 +16,7 @@ type Value = string | number | null;
  *
  * A batch with a U+0000 inside a string value travels as the plain array (`plain`) instead.
  */
-export interface PackedBatch {
+export interface PackedBatch extends BatchSummary {
   /** Values per row. */
   stride: number;
   tags: Uint8Array;
@@ -25,13 +25,10 @@ export interface PackedBatch {
   numbers: Float64Array;
   newEntries: string[];
   plain: Value[] | null;
-  accepted: number;
-  rejected: RejectedRow[];
-  rowsRead: number;
-  bytes: number;
-  amountCents: number;
-  newStoreIds: string[];
 }
+
+/** What a batch says besides its values; it travels as it is. */
+type BatchSummary = Omit<ValidatedBatch, 'values'>;
 
 const NULL_TAG = 0;
 const TEXT_TAG = 1;
@@ -124,8 +121,6 @@ export class BatchPacker {
     return { packed, transfer: [] };
   }
 }
-
-type BatchSummary = Omit<ValidatedBatch, 'values'>;
 
 function summaryOf(batch: BatchSummary): BatchSummary {
   const { accepted, rejected, rowsRead, bytes, amountCents, newStoreIds } = batch;

@@ -3,8 +3,8 @@ import { InputError } from '../errors.js';
 import { csvRecordBatches } from './csv-reader.js';
 import type { ParseJob, WorkerReply } from './parallel-parse.js';
 import { BatchPacker } from './packed-batch.js';
-import { AMOUNT_VALUE_INDEX, makeRowConverter, STORE_VALUE_INDEX } from './row-converters.js';
-import { validateRecords } from './record-validator.js';
+import { makeRowConverter } from './row-converters.js';
+import { fileTotalsContext, validateRecords } from './record-validator.js';
 
 /**
  * Worker thread of a large CSV import: reads, tokenizes and validates the file while the main
@@ -38,9 +38,7 @@ async function run(): Promise<void> {
     stride: job.stride,
     padShortRows: false,
     delimiter: job.delimiter,
-    storeIndex: STORE_VALUE_INDEX[job.kind],
-    amountIndex: AMOUNT_VALUE_INDEX[job.kind],
-    seenStoreIds: new Set<string>(),
+    ...fileTotalsContext(job.kind),
   };
   const packer = new BatchPacker(job.stride);
   let bytes = 0;

@@ -1,5 +1,6 @@
 import type { CsvRecord } from './csv-tokenizer.js';
-import { isRowRejection, type RowConverter } from './row-converters.js';
+import type { ImportKind } from '../store/imports-repo.js';
+import { AMOUNT_VALUE_INDEX, isRowRejection, STORE_VALUE_INDEX, type RowConverter } from './row-converters.js';
 
 type Value = string | number | null;
 
@@ -43,6 +44,11 @@ export interface ValidationContext {
   amountIndex?: number;
   /** Store ids seen so far in the file (filled in as batches are validated). */
   seenStoreIds?: Set<string>;
+}
+
+/** The part of a file's validation context that gathers its amount total and store ids. */
+export function fileTotalsContext(kind: ImportKind): Pick<ValidationContext, 'storeIndex' | 'amountIndex' | 'seenStoreIds'> {
+  return { storeIndex: STORE_VALUE_INDEX[kind], amountIndex: AMOUNT_VALUE_INDEX[kind], seenStoreIds: new Set<string>() };
 }
 
 /** Values per accepted row of each kind (see row-converters.ts). */
