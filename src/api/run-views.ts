@@ -1,8 +1,7 @@
 import type { Database } from 'better-sqlite3';
 import { featureDescriptions, isComputedFeature } from '../features/definitions.js';
 import { transformValue, type FeatureTransform } from '../features/transforms.js';
-import { modelFromJSON } from '../model/serialize.js';
-import type { MixtureModel } from '../model/types.js';
+import { modelFromJSON, type MixtureModel } from '../model/index.js';
 import { decodeFloat64 } from '../runs/blobs.js';
 import { DISTRIBUTION_SAMPLE_SIZE } from '../runs/display-sample.js';
 import { getMovement, getReviewQueue, getRunDetail, listSegments } from '../runs/repository.js';

@@ -4,8 +4,7 @@
  * first that the data allow the largest k asked for.
  */
 import { InputError } from '../errors.js';
-import { fitMixtureParallel, sweepMixtures } from '../model/index.js';
-import { covarianceTypes, type CovarianceType, type DataMatrix, type FitProgress, type FitResult, type MixtureModel, type SweepRow } from '../model/types.js';
+import { fitMixtureParallel, sweepMixtures, sweepRowOf, covarianceTypes, type CovarianceType, type DataMatrix, type FitProgress, type InitMethod, type MixtureModel, type SweepRow } from '../model/index.js';
 import type { ResolvedRunSettings } from './types.js';
 
 export interface RunFit {
@@ -14,20 +13,11 @@ export interface RunFit {
   warnings: string[];
 }
 
-function sweepRowOf(result: FitResult): SweepRow {
-  return {
-    k: result.model.components,
-    covarianceType: result.model.covarianceType,
-    logLikelihood: result.logLikelihood,
-    bic: result.bic,
-    aic: result.aic,
-    icl: result.icl,
-    converged: result.converged,
-    iterations: result.iterations,
-    parameterCount: result.parameterCount,
-    warnings: result.warnings,
-  };
-}
+/**
+ * Runs start their restarts from the engine's mix (hierarchical agglomeration, then k-means and
+ * random partitions in turn, DESIGN.md §5); the run settings do not offer another start yet.
+ */
+const RUN_INIT: InitMethod = 'mixed';
 
 export async function fitForRun(
   data: DataMatrix,
@@ -50,13 +40,15 @@ export async function fitForRun(
     tol: settings.tol,
     maxIterations: settings.maxIterations,
     regularization: settings.regularization,
+    init: RUN_INIT,
     missing: anyMissing ? ('em' as const) : ('reject' as const),
     signal: options.signal,
     onProgress: options.onProgress,
   };
   if (kMin === kMax && structures.length === 1) {
     const result = await fitMixtureParallel(data, { ...common, components: kMin, covarianceType: structures[0] });
-    return { model: result.model, sweep: [sweepRowOf(result)], warnings: result.warnings };
+    const warnings = result.refused ? [...result.warnings, `This fit would be refused in a choice of k: ${result.refused}.`] : result.warnings;
+    return { model: result.model, sweep: [sweepRowOf(result)], warnings };
   }
   const sweep = await sweepMixtures(data, { ...common, componentRange: [kMin, kMax], covarianceTypes: structures, criterion: settings.criterion });
   return { model: sweep.best.model, sweep: sweep.table, warnings: sweep.best.warnings };

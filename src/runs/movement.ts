@@ -4,7 +4,7 @@
  * common customers, and drift warnings (a segment's mean moved more than half a parent standard
  * deviation on a feature, or its share changed by more than 5 percentage points).
  */
-import { adjustedRandIndex } from '../model/agreement.js';
+import { adjustedRandIndex } from '../model/index.js';
 import { featureLabel } from '../features/definitions.js';
 import type { DriftWarning } from './types.js';
 

@@ -6,8 +6,7 @@
 import type { Database } from 'better-sqlite3';
 import type { FeatureTable } from '../features/compute.js';
 import type { FeatureTransform } from '../features/transforms.js';
-import { modelToJSON } from '../model/serialize.js';
-import type { Memberships, MixtureModel, SelectionCriterion, SweepRow } from '../model/types.js';
+import { modelToJSON, type Memberships, type MixtureModel, type SelectionCriterion, type SweepRow } from '../model/index.js';
 import { encodeFloat64 } from './blobs.js';
 import { displaySamplePositions } from './display-sample.js';
 import type { Flags } from './flags.js';

@@ -8,8 +8,7 @@ import type { Database } from 'better-sqlite3';
 import { InputError } from '../errors.js';
 import { featureLabel } from '../features/definitions.js';
 import { transformValue, type FeatureTransform } from '../features/transforms.js';
-import { modelFromJSON } from '../model/serialize.js';
-import type { CovarianceType, MixtureModel, SelectionCriterion, SweepRow } from '../model/types.js';
+import { modelFromJSON, type CovarianceType, type MixtureModel, type SelectionCriterion, type SweepRow } from '../model/index.js';
 import { decodeFloat64 } from './blobs.js';
 import { finalSegmentKey, reviewReasons } from './review-rules.js';
 import type {

@@ -7,7 +7,7 @@ import { InputError } from '../errors.js';
 import { defaultFreshCategories } from '../features/definitions.js';
 import { logZTransform, validateTransform, zTransform, type FeatureTransform } from '../features/transforms.js';
 import { featureWindow } from '../features/window.js';
-import { covarianceTypes } from '../model/types.js';
+import { covarianceTypes } from '../model/index.js';
 import type { FeatureSource, ResolvedRunSettings, RunSettings } from './types.js';
 
 export const defaultModelFeatures: readonly string[] = ['spend_per_month', 'visits_per_month', 'average_basket'];

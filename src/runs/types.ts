@@ -7,7 +7,7 @@
  * `YYYY-MM-DD`, segment `index` = the model's 0-based component index, `key` = a stable id that
  * carries a segment across months ("S1", "S2", …), `name` = what the analyst sees (renamable).
  */
-import type { CovarianceType, FitProgress, SelectionCriterion, SweepRow } from '../model/types.js';
+import type { CovarianceType, FitProgress, SelectionCriterion, SweepRow } from '../model/index.js';
 import type { FeatureTransform } from '../features/transforms.js';
 
 export type RefreshMode = 'refit' | 'rescore';

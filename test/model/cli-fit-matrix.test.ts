@@ -5,7 +5,7 @@ import { fileURLToPath } from 'node:url';
 import { describe, expect, it } from 'vitest';
 import { runCli } from '../../src/cli/program.js';
 import { fitMixture } from '../../src/model/index.js';
-import { referenceData } from './support.js';
+import { fitSettings, referenceData } from './support.js';
 
 const faithfulCsv = fileURLToPath(new URL('../reference/data/faithful.csv', import.meta.url)); // R's datasets::faithful
 const folder = mkdtempSync(join(tmpdir(), 'spendmix-fit-matrix-'));
@@ -29,7 +29,7 @@ describe('spendmix fit-matrix', () => {
     expect(code).toBe(0);
     const result = JSON.parse(stdout);
     expect(Object.keys(result)).toEqual(['n', 'd', 'k', 'covariance', 'logLikelihood', 'meanLogLikelihood', 'bic', 'aic', 'icl', 'weights', 'means', 'covariances', 'converged', 'iterations', 'seconds']);
-    const engine = fitMixture(referenceData('faithful'), { components: 2, covarianceType: 'full', seed: 4 });
+    const engine = fitMixture(referenceData('faithful'), { ...fitSettings, components: 2, covarianceType: 'full', seed: 4 });
     expect(result).toMatchObject({ n: 272, d: 2, k: 2, covariance: 'full', logLikelihood: engine.logLikelihood, bic: engine.bic, icl: engine.icl });
     expect(result.means).toEqual([Array.from(engine.model.means.subarray(0, 2)), Array.from(engine.model.means.subarray(2, 4))]);
     expect(result.covariances[1][0][1]).toBe(engine.model.covariances[4 + 1]);

@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { fitMixture, parameterCount, type FitProgress } from '../../src/model/index.js';
-import { referenceData, sameBits } from './support.js';
+import { fitSettings, referenceData, sameBits } from './support.js';
 
 // Old Faithful: R's datasets::faithful (Azzalini & Bowman 1990), committed with its source under test/reference/data.
 const faithful = referenceData('faithful');
@@ -9,7 +9,7 @@ describe('EM fit', () => {
   it('is reproducible bit for bit with the same seed, for every init and structure', () => {
     for (const init of ['kmeans', 'kmeans++', 'random'] as const) {
       for (const covarianceType of ['full', 'diag', 'spherical', 'tied'] as const) {
-        const options = { components: 3, covarianceType, init, seed: 11, restarts: 2 };
+        const options = { ...fitSettings, components: 3, covarianceType, init, seed: 11, restarts: 2 };
         const first = fitMixture(faithful, options);
         const second = fitMixture(faithful, options);
         expect(first.logLikelihood).toBe(second.logLikelihood);
@@ -23,7 +23,7 @@ describe('EM fit', () => {
   it('different seeds start differently (the seed is used)', () => {
     const logLikelihoods = new Set<number>();
     for (let seed = 0; seed < 6; seed++) {
-      logLikelihoods.add(fitMixture(faithful, { components: 4, covarianceType: 'full', init: 'random', restarts: 1, seed, maxIterations: 3, tol: 0 }).logLikelihood);
+      logLikelihoods.add(fitMixture(faithful, { ...fitSettings, components: 4, covarianceType: 'full', init: 'random', restarts: 1, seed, maxIterations: 3, tol: 0 }).logLikelihood);
     }
     expect(logLikelihoods.size).toBeGreaterThan(1);
   });
@@ -32,6 +32,7 @@ describe('EM fit', () => {
     for (const covarianceType of ['full', 'diag', 'spherical', 'tied'] as const) {
       const trace: number[] = [];
       fitMixture(faithful, {
+      ...fitSettings,
         components: 3,
         covarianceType,
         init: 'random',
@@ -49,17 +50,17 @@ describe('EM fit', () => {
   });
 
   it('keeps the best of its restarts and reports all of them', () => {
-    const fit = fitMixture(faithful, { components: 3, covarianceType: 'full', init: 'random', restarts: 6, seed: 3 });
+    const fit = fitMixture(faithful, { ...fitSettings, components: 3, covarianceType: 'full', init: 'random', restarts: 6, seed: 3 });
     expect(fit.restartLogLikelihoods).toHaveLength(6);
     expect(fit.logLikelihood).toBe(Math.max(...fit.restartLogLikelihoods));
     expect(fit.restartLogLikelihoods[fit.bestRestart]).toBe(fit.logLikelihood);
-    const alone = fitMixture(faithful, { components: 3, covarianceType: 'full', init: 'random', restarts: fit.bestRestart + 1, seed: 3 });
+    const alone = fitMixture(faithful, { ...fitSettings, components: 3, covarianceType: 'full', init: 'random', restarts: fit.bestRestart + 1, seed: 3 });
     // Restart r draws from its own stream, so the first r + 1 restarts replay exactly.
     expect(alone.restartLogLikelihoods).toEqual(fit.restartLogLikelihoods.slice(0, fit.bestRestart + 1));
   });
 
   it('computes BIC, AIC and ICL from the log-likelihood and the parameter count', () => {
-    const fit = fitMixture(faithful, { components: 2, covarianceType: 'full' });
+    const fit = fitMixture(faithful, { ...fitSettings, components: 2, covarianceType: 'full' });
     const n = faithful.rows;
     // p = 2 · 3 covariance + 2 · 2 means + 1 weight = 11 (scikit-learn's _n_parameters, from memory)
     expect(fit.parameterCount).toBe(11);
@@ -80,18 +81,18 @@ describe('EM fit', () => {
   });
 
   it('runs exactly maxIterations with tol 0 and says it did not converge', () => {
-    const fit = fitMixture(faithful, { components: 2, covarianceType: 'diag', tol: 0, maxIterations: 7, restarts: 1 });
+    const fit = fitMixture(faithful, { ...fitSettings, components: 2, covarianceType: 'diag', tol: 0, maxIterations: 7, restarts: 1 });
     expect(fit.iterations).toBe(7);
     expect(fit.converged).toBe(false);
   });
 
   it('expands diag, spherical and tied covariances to full matrices with the right structure', () => {
-    const diag = fitMixture(faithful, { components: 2, covarianceType: 'diag' }).model;
+    const diag = fitMixture(faithful, { ...fitSettings, components: 2, covarianceType: 'diag' }).model;
     expect(diag.covariances[1]).toBe(0);
     expect(diag.covariances[2]).toBe(0);
-    const spherical = fitMixture(faithful, { components: 2, covarianceType: 'spherical' }).model;
+    const spherical = fitMixture(faithful, { ...fitSettings, components: 2, covarianceType: 'spherical' }).model;
     expect(spherical.covariances[0]).toBe(spherical.covariances[3]);
-    const tied = fitMixture(faithful, { components: 2, covarianceType: 'tied' }).model;
+    const tied = fitMixture(faithful, { ...fitSettings, components: 2, covarianceType: 'tied' }).model;
     expect(sameBits(tied.covariances.subarray(0, 4), tied.covariances.subarray(4, 8))).toBe(true);
     expect(tied.covariances[1]).not.toBe(0);
   });

@@ -53,9 +53,12 @@ export interface FitMatrixJson {
   iterations: number;
   /** Wall time of the fit alone (not reading the file or writing memberships). */
   seconds: number;
+  /** With --k auto: the fits refused for model choice (a collapsed component), with the reason. */
+  refusedFits?: { k: number; covariance: CovarianceType; reason: string }[];
 }
 
-const DEFAULT_K_MAX = 8;
+/** fit-matrix's defaults, in one place (the engine takes every setting from its caller). */
+const DEFAULTS = { kMax: 8, restarts: 5, seed: 0, tol: 1e-3, maxIter: 200, reg: 1e-6, init: 'mixed' } as const;
 
 function parseK(raw: string | undefined): number | 'auto' {
   if (raw === undefined) throw new InputError('fit-matrix needs --k N (a whole number ≥ 1) or --k auto.');
@@ -95,7 +98,7 @@ function nested(values: Float64Array, ...shape: number[]): unknown[] {
   });
 }
 
-function toJson(fit: FitResult, n: number, seconds: number): FitMatrixJson {
+function toJson(fit: FitResult, n: number, seconds: number, table: SweepRow[] | null): FitMatrixJson {
   const { model } = fit;
   const { components: k, dimensions: d } = model;
   return {
@@ -114,6 +117,7 @@ function toJson(fit: FitResult, n: number, seconds: number): FitMatrixJson {
     converged: fit.converged,
     iterations: fit.iterations,
     seconds,
+    ...(table ? { refusedFits: table.flatMap((row) => (row.refused === null ? [] : [{ k: row.k, covariance: row.covarianceType, reason: row.refused }])) } : {}),
   };
 }
 
@@ -143,7 +147,10 @@ function describe(result: FitMatrixJson, table: SweepRow[] | null, skipped: stri
   if (table) {
     lines.push('k  log L            BIC              ICL              converged');
     for (const row of table) {
-      lines.push(`${String(row.k).padEnd(2)} ${row.logLikelihood.toFixed(3).padEnd(16)} ${row.bic.toFixed(3).padEnd(16)} ${row.icl.toFixed(3).padEnd(16)} ${row.converged ? 'yes' : 'no'}`);
+      lines.push(
+        `${String(row.k).padEnd(2)} ${row.logLikelihood.toFixed(3).padEnd(16)} ${row.bic.toFixed(3).padEnd(16)} ${row.icl.toFixed(3).padEnd(16)} ${row.converged ? 'yes' : 'no'}` +
+          (row.refused ? `  refused: ${row.refused}` : ''),
+      );
     }
     lines.push(`Chosen by BIC: k = ${result.k}`);
   }
@@ -166,16 +173,23 @@ export const registerFitMatrix: RegisterCommand = (program, io, setExitCode) => 
     .description('Fit a Gaussian mixture to the numeric columns of a CSV file, as they are.')
     .option('--input <csv>', 'CSV with a header row; columns with no number at all (ids, labels) are left out')
     .option('--k <n|auto>', 'number of components, or "auto" to choose 1…--k-max by BIC')
-    .option('--k-max <n>', `largest k tried with --k auto (default ${DEFAULT_K_MAX})`, parseInteger('--k-max', 1, 100))
+    .option('--k-max <n>', `largest k tried with --k auto (default ${DEFAULTS.kMax})`, parseInteger('--k-max', 1, 100))
     .option('--covariance <structure>', `covariance structure: ${covarianceTypes.join(', ')}`)
-    .option('--restarts <n>', 'independent starts; the best log-likelihood wins', parseInteger('--restarts', 1, 1000), 5)
-    .option('--seed <n>', 'seed; the same seed gives the same fit', parseInteger('--seed', 0, 0x7fffffff), 0)
-    .option('--tol <x>', 'stop when the mean log-likelihood changes by less than this', parseNumber('--tol', 0), 1e-3)
-    .option('--max-iter <n>', 'most EM iterations per start', parseInteger('--max-iter', 1, 1_000_000), 200)
-    .option('--reg <x>', 'added to covariance diagonals', parseNumber('--reg', 0), 1e-6)
-    .option('--init <method>', `initialisation: ${initMethods.join(', ')}`, 'kmeans')
+    .option('--restarts <n>', 'independent starts; the best valid log-likelihood wins', parseInteger('--restarts', 1, 1000), DEFAULTS.restarts)
+    .option('--seed <n>', 'seed; the same seed gives the same fit', parseInteger('--seed', 0, 0x7fffffff), DEFAULTS.seed)
+    .option('--tol <x>', 'stop when the mean log-likelihood changes by less than this', parseNumber('--tol', 0), DEFAULTS.tol)
+    .option('--max-iter <n>', 'most EM iterations per start', parseInteger('--max-iter', 1, 1_000_000), DEFAULTS.maxIter)
+    .option('--reg <x>', 'added to covariance diagonals', parseNumber('--reg', 0), DEFAULTS.reg)
+    .option(
+      '--init <method>',
+      `initialisation: ${initMethods.join(', ')} (mixed: start 1 hierarchical agglomeration, then k-means and random partitions in turn)`,
+      DEFAULTS.init,
+    )
     .option('--memberships <out.csv>', 'write each row\'s segment, posteriors, confidence, margin and log density')
-    .option('--json', 'print one JSON object {n, d, k, covariance, logLikelihood, meanLogLikelihood, bic, aic, icl, weights, means, covariances, converged, iterations, seconds}')
+    .option(
+      '--json',
+      'print one JSON object {n, d, k, covariance, logLikelihood, meanLogLikelihood, bic, aic, icl, weights, means, covariances, converged, iterations, seconds}, with --k auto also refusedFits [{k, covariance, reason}]',
+    )
     .action(async (options: FitMatrixOptions) => {
       const json = Boolean(options.json);
       setExitCode(
@@ -201,8 +215,8 @@ export const registerFitMatrix: RegisterCommand = (program, io, setExitCode) => 
           let fit: FitResult;
           let table: SweepRow[] | null = null;
           if (k === 'auto') {
-            const kMax = largestFittableK(options.kMax ?? DEFAULT_K_MAX, data.rows, data.cols, covarianceType);
-            if (kMax < (options.kMax ?? DEFAULT_K_MAX)) {
+            const kMax = largestFittableK(options.kMax ?? DEFAULTS.kMax, data.rows, data.cols, covarianceType);
+            if (kMax < (options.kMax ?? DEFAULTS.kMax)) {
               io.stderr(`note: ${data.rows} rows support at most k = ${kMax} with ${covarianceType} covariance; trying k = 1…${kMax}\n`);
             }
             const sweep = await sweepMixtures(data, { ...common, componentRange: [1, kMax], covarianceTypes: [covarianceType], criterion: 'bic' });
@@ -214,8 +228,9 @@ export const registerFitMatrix: RegisterCommand = (program, io, setExitCode) => 
           const seconds = (performance.now() - started) / 1000;
           if (showProgress) io.stderr('\n');
           for (const warning of fit.warnings) io.stderr(`warning: ${warning}\n`);
+          if (fit.refused && k !== 'auto') io.stderr(`warning: this fit would be refused in a choice of k: ${fit.refused}.\n`);
           if (options.memberships) writeMemberships(options.memberships, fit, data);
-          const result = toJson(fit, data.rows, seconds);
+          const result = toJson(fit, data.rows, seconds, table);
           return { result, human: (value) => describe(value, table, skippedColumns, options.memberships) };
         }),
       );

@@ -1,6 +1,6 @@
 import { existsSync } from 'node:fs';
 import { InputError } from '../../errors.js';
-import { covarianceTypes, type CovarianceType } from '../../model/types.js';
+import { covarianceTypes, type CovarianceType } from '../../model/index.js';
 import { runSegmentation } from '../../runs/run.js';
 import type { RefreshMode, RunSummary } from '../../runs/types.js';
 import { openDatabase, type Database } from '../../store/database.js';
