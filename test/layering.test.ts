@@ -3,7 +3,7 @@ import { tmpdir } from 'node:os';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { describe, expect, it } from 'vitest';
-import { checkLayering } from './support/layering.js';
+import { checkLayering, checkModelEntry } from './support/layering.js';
 
 const projectRoot = fileURLToPath(new URL('..', import.meta.url));
 
@@ -61,6 +61,29 @@ describe('layering rules (DESIGN.md §2)', () => {
     expect(checkLayering(root).map((v) => v.rule).sort()).toEqual([
       'main must not import renderer',
       'src must not import electron',
+    ]);
+  });
+
+  it('the mixture engine is entered through src/model/index only', () => {
+    expect(checkModelEntry(projectRoot)).toEqual([]);
+  });
+
+  it('catches code outside src/model importing an engine module other than index (types too)', () => {
+    const root = plantTree({
+      'src/model/index.ts': "export * from './types.js';\n",
+      'src/model/em.ts': "import { LOG_2PI } from './gaussian.js';\n",
+      'src/runs/fit.ts': [
+        "import { fitMixture } from '../model/index.js';",
+        "import { choleskyLower } from '../model/gaussian.js';",
+        "import type { MixtureModel } from '../model/types.js';",
+      ].join('\n'),
+      'main/worker.ts': "const engine = await import('../src/model/em.js');\n",
+      'test/model/kernel.test.ts': "import { expectationStep } from '../../src/model/estep.js';\n",
+    });
+    expect(checkModelEntry(root).map((v) => `${v.file} ${v.specifier}`).sort()).toEqual([
+      `${join('main', 'worker.ts')} ../src/model/em.js`,
+      `${join('src', 'runs', 'fit.ts')} ../model/gaussian.js`,
+      `${join('src', 'runs', 'fit.ts')} ../model/types.js`,
     ]);
   });
 });

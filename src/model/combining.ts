@@ -109,7 +109,7 @@ export function classify(segmentPosteriorsByRow: Float64Array, rows: number, cou
 function levelEntropy(values: Float64Array): number {
   let sum = 0;
   for (let i = 0; i < values.length; i++) sum += entropyTerm(values[i]);
-  return -sum;
+  return 0 - sum; // not −0 when every row is certain
 }
 
 /**

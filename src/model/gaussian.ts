@@ -44,16 +44,6 @@ export function normalizeLogWeights(values: Float64Array, offset: number, count:
   return best + Math.log(total);
 }
 
-/** log Σ exp(values) without changing them. */
-export function logSumExp(values: ArrayLike<number>): number {
-  let best = -Infinity;
-  for (let c = 0; c < values.length; c++) if (values[c] > best) best = values[c];
-  if (best === -Infinity) return -Infinity;
-  let total = 0;
-  for (let c = 0; c < values.length; c++) total += Math.exp(values[c] - best);
-  return best + Math.log(total);
-}
-
 // ---------------------------------------------------------------------------------------------
 // Cholesky and the ridge
 

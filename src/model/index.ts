@@ -14,7 +14,7 @@ export { parameterCount, bayesianInformationCriterion, akaikeInformationCriterio
 export { modelToJSON, modelFromJSON } from './serialize.js';
 export { fitMixture, sweepRowOf } from './em.js';
 export { scoreRows, imputeMissing } from './score.js';
-export { LOG_2PI, componentLogDensity, logSumExp, marginalLogDensity } from './gaussian.js';
+export { componentLogDensity, marginalLogDensity } from './gaussian.js';
 export { RELATIVE_VARIANCE_FLOOR } from './validity.js';
 export { AGGLOMERATION_SAMPLE } from './agglomeration.js';
 export { RANDOM_PARTITION_ROWS_PER_COMPONENT, startMethodOf } from './init.js';

@@ -61,7 +61,8 @@ export function refusalOf(model: MixtureModel, rows: number, dataScale: Float64A
     const members = model.weights[c] * rows;
     if (members < needed * (1 - 1e-9)) {
       return (
-        `component ${c + 1} of ${k} holds ${members.toFixed(2)} effective members (its weight × ${rows} rows), ` +
+        // Rounded down, so a count just short of the minimum never prints as the minimum itself.
+        `component ${c + 1} of ${k} holds ${(Math.floor(members * 100) / 100).toFixed(2)} effective members (its weight × ${rows} rows), ` +
         `fewer than the ${needed} a ${covarianceType} covariance needs in ${d} dimension${d === 1 ? '' : 's'}`
       );
     }

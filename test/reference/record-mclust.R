@@ -12,6 +12,9 @@
 #    models, G = 1..6, on thyroid, wdbc (columns 3-12, the ten "_mean" features), banknote and
 #    diabetes, each with the smallest sum of posteriors over a component, and the BIC-chosen G.
 #    Default Mclust settings (hierarchical VVV start on SVD-scaled data, mclust.options()).
+#    Also the partitions of mclust's model-based hierarchical agglomeration (hc with its defaults
+#    for starting EM: modelName "VVV", use "SVD") cut at G = 2..6 (hclass), on those four and on
+#    faithful and iris as committed in test/reference/data.
 # 3. The numeric columns of those four datasets as CSV under test/reference/data.
 #
 # Run from the repository root:  Rscript test/reference/record-mclust.R
@@ -154,9 +157,23 @@ for (name in names(datasets)) {
     ))
   }
 }
+agglomeration <- character(0)
+for (name in c("thyroid", "wdbc", "banknote", "diabetes", "faithful", "iris")) {
+  file <- paste0("data/", name, ".csv")
+  x <- read.csv(file.path(out, file))
+  partitions <- hclass(hc(x, modelName = mclust.options("hcModelName"), use = mclust.options("hcUse")), 2:6)
+  agglomeration <- c(agglomeration, obj(
+    dataset = str(name),
+    file = str(file),
+    modelName = str(mclust.options("hcModelName")),
+    use = str(mclust.options("hcUse")),
+    partitions = arr(sapply(1:ncol(partitions), function(j) obj(k = int(j + 1), classification = arr(int(partitions[, j])))))
+  ))
+}
 optima <- do.call(obj, c(header(), list(
   note = str("mclustBic is mclust's 2 log L - p log n (higher is better), the negative of Spendmix's BIC"),
-  results = arr(records)
+  results = arr(records),
+  agglomeration = arr(agglomeration)
 )))
 writeLines(optima, file.path(out, "mclust-optima.json"))
 cat(sprintf("wrote mclust-combining.json (%d examples) and mclust-optima.json (%d records), mclust %s\n",

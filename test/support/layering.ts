@@ -119,3 +119,35 @@ export function checkLayering(root: string): LayeringViolation[] {
 
   return violations;
 }
+
+/**
+ * The mixture engine has one entry: code outside src/model imports src/model/index only
+ * (value or type imports alike), so the engine can be reorganised behind it. Looks at every
+ * layered folder (src, main, renderer) and every other top-level code folder but test, whose
+ * unit tests may reach into the engine's modules.
+ */
+export function checkModelEntry(root: string): LayeringViolation[] {
+  const modelFolder = join(root, 'src', 'model');
+  const entry = join(modelFolder, 'index');
+  const violations: LayeringViolation[] = [];
+  let folders: string[];
+  try {
+    folders = readdirSync(root).filter((name) => !name.startsWith('.') && name !== 'node_modules' && name !== 'test' && name !== 'dist');
+  } catch {
+    return [];
+  }
+  for (const folder of folders) {
+    if (!statSync(join(root, folder)).isDirectory()) continue;
+    for (const file of listCodeFiles(join(root, folder))) {
+      if (file.startsWith(modelFolder + sep)) continue;
+      for (const { specifier } of importsOf(file)) {
+        if (!specifier.startsWith('.')) continue;
+        const target = resolve(dirname(file), specifier);
+        if (!target.startsWith(modelFolder + sep)) continue;
+        if (target.replace(/\.(js|ts)$/, '') === entry) continue;
+        violations.push({ file: relative(root, file), specifier, rule: 'code outside src/model imports only src/model/index' });
+      }
+    }
+  }
+  return violations;
+}
