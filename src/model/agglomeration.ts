@@ -199,10 +199,13 @@ class MergeState {
   /** Fraley's regularised n log|W/n| (see the file comment); `scatter` (overwritten) null means W = 0. */
   private criterion(n: number, trace: number, scatter: Float64Array | null): number {
     const { d, alpha } = this;
-    if (n <= d || trace === 0 || !scatter) return n * Math.log((trace + alpha) / n);
-    if (!choleskyInPlace(scatter, 0, d)) return n * Math.log((trace + alpha) / n);
-    const logDeterminant = 2 * logDiagonalSum(scatter, 0, d) - d * Math.log(n);
     const ridge = (trace + alpha) / n;
+    if (n <= d || trace === 0 || !scatter || !choleskyInPlace(scatter, 0, d)) return n * Math.log(ridge);
+    // |W/n| = Π L_ii² / nᵈ: one logarithm instead of d + 2 while the product stays in range.
+    let determinant = 1;
+    for (let a = 0; a < d; a++) determinant *= (scatter[a * d + a] * scatter[a * d + a]) / n;
+    if (determinant > 1e-250 && determinant < 1e250) return n * Math.log(determinant + ridge);
+    const logDeterminant = 2 * logDiagonalSum(scatter, 0, d) - d * Math.log(n);
     return logDeterminant <= 0 ? n * Math.log(Math.exp(logDeterminant) + ridge) : n * (logDeterminant + Math.log1p(Math.exp(-logDeterminant) * ridge));
   }
 

@@ -1,19 +1,9 @@
 import { InputError } from '../errors.js';
 import { parameterCount } from './criteria.js';
-import { covarianceTypes, initMethods, type DataMatrix, type FitOptions, type InitMethod, type MissingPolicy } from './types.js';
+import { covarianceTypes, initMethods, type DataMatrix, type FitOptions, type MissingPolicy } from './types.js';
 
-/** Fit options checked, with the missing-value policy spelled out. */
-export interface ResolvedFitOptions {
-  components: number;
-  covarianceType: FitOptions['covarianceType'];
-  restarts: number;
-  seed: number;
-  tol: number;
-  maxIterations: number;
-  regularization: number;
-  init: InitMethod;
-  missing: MissingPolicy;
-}
+/** Fit options checked, with the missing-value policy spelled out (what a worker thread receives). */
+export type ResolvedFitOptions = Required<Omit<FitOptions, 'signal' | 'onProgress'>>;
 
 const LISTED_ROWS = 10;
 

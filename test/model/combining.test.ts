@@ -1,6 +1,5 @@
 import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
-import { InputError } from '../../src/errors.js';
 import {
   combineComponents,
   mergeSegments,
@@ -9,6 +8,7 @@ import {
   splitSegment,
   type Segmentation,
 } from '../../src/model/index.js';
+import { inputErrorOf } from './support.js';
 
 /**
  * mclust's clustCombi (Baudry, Raftery, Celeux, Lo & Gottardo 2010, J. Comput. Graph. Stat.
@@ -36,16 +36,6 @@ const recorded = JSON.parse(readFileSync(new URL('../reference/mclust-combining.
   mclustVersion: string;
   examples: RecordedExample[];
 };
-
-function inputErrorOf(run: () => unknown): InputError {
-  try {
-    run();
-  } catch (error) {
-    expect(error).toBeInstanceOf(InputError);
-    return error as InputError;
-  }
-  throw new Error('expected an InputError');
-}
 
 describe(`combining components by entropy, against mclust ${recorded.mclustVersion} clustCombi`, () => {
   it('covers the published examples and faithful and iris', () => {

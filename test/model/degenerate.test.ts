@@ -1,19 +1,8 @@
 import { describe, expect, it } from 'vitest';
-import { InputError } from '../../src/errors.js';
 import { fitMixture } from '../../src/model/index.js';
-import { fitSettings, matrix, referenceData } from './support.js';
+import { fitSettings, inputErrorOf, matrix, referenceData } from './support.js';
 
 const faithful = referenceData('faithful'); // R's datasets::faithful (Azzalini & Bowman 1990)
-
-function inputErrorOf(run: () => unknown): InputError {
-  try {
-    run();
-  } catch (error) {
-    expect(error).toBeInstanceOf(InputError);
-    return error as InputError;
-  }
-  throw new Error('expected an InputError');
-}
 
 describe('degenerate input', () => {
   it('lists the rows holding NaN or Infinity (1-based)', () => {

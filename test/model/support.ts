@@ -1,5 +1,7 @@
 import { readFileSync } from 'node:fs';
 import { fileURLToPath } from 'node:url';
+import { expect } from 'vitest';
+import { InputError } from '../../src/errors.js';
 import { modelFromJSON, parseNumericCsv, type CovarianceType, type DataMatrix, type FitOptions, type MixtureModel } from '../../src/model/index.js';
 
 /**
@@ -42,4 +44,15 @@ export function matrix(rows: number[][]): DataMatrix {
 
 export function sameBits(a: Float64Array, b: Float64Array): boolean {
   return a.length === b.length && Buffer.from(a.buffer, a.byteOffset, a.byteLength).equals(Buffer.from(b.buffer, b.byteOffset, b.byteLength));
+}
+
+/** The InputError a call throws (fails the test when it throws nothing or something else). */
+export function inputErrorOf(run: () => unknown): InputError {
+  try {
+    run();
+  } catch (error) {
+    expect(error).toBeInstanceOf(InputError);
+    return error as InputError;
+  }
+  throw new Error('expected an InputError');
 }
