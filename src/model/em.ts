@@ -2,7 +2,7 @@ import { throwIfAborted } from '../errors.js';
 import { akaikeInformationCriterion, bayesianInformationCriterion, integratedCompletedLikelihood, parameterCount } from './criteria.js';
 import { emptyStatistics, expectationStep, expectationTerms, type ExpectationSummary, type SufficientStatistics } from './estep.js';
 import { agglomerate, AGGLOMERATION_SAMPLE, sampleRows, type AgglomerationTree } from './agglomeration.js';
-import { covarianceEstimators, factorWithRidge } from './gaussian.js';
+import { covarianceEstimators, factorWithRidge, rowCovariance } from './gaussian.js';
 import { initialLabels, startMethodOf, statisticsFromLabels } from './init.js';
 import { groupByMissingPattern, meanFilled, patternExpectationStep, type MissingPattern } from './missing.js';
 import { maximizationStep, type MaximizationOutcome } from './mstep.js';
@@ -41,7 +41,8 @@ export interface FitContext {
   initialLabels: Map<string, Int32Array>;
   /** Agglomeration trees by sample ('all' when every row takes part), built on first use. */
   trees: Map<string, AgglomerationTree>;
-  /** W = L⁻¹ of the rows' covariance, for the validity test; built on first use. */
+  /** Covariance of all rows (d × d) and W = L⁻¹ of it, for re-seeding and the validity test; built on first use. */
+  covariance: Float64Array | null;
   dataScale: Float64Array | null;
 }
 
@@ -93,12 +94,18 @@ export function prepareFitContext(data: DataMatrix, anyMissing: boolean): FitCon
     filledValues: anyMissing ? meanFilled(values, rows, cols) : values,
     initialLabels: new Map(),
     trees: new Map(),
+    covariance: null,
     dataScale: null,
   };
 }
 
+function dataCovariance(context: FitContext): Float64Array {
+  context.covariance ??= rowCovariance(context.filledValues, context.rows, context.cols);
+  return context.covariance;
+}
+
 function dataScale(context: FitContext): Float64Array {
-  context.dataScale ??= dataScaleOf(context.filledValues, context.rows, context.cols);
+  context.dataScale ??= dataScaleOf(dataCovariance(context), context.cols);
   return context.dataScale;
 }
 
@@ -158,7 +165,7 @@ function reseedEmptied(
   reseeds: Int32Array,
 ): boolean {
   const { components: k, dimensions: d, covarianceType } = model;
-  const overall = overallCovariance(context.filledValues, context.rows, d);
+  const overall = dataCovariance(context);
   let reseeded = false;
   emptied.forEach((component, position) => {
     if (reseeds[component] >= MAX_RESEEDS) {
@@ -197,20 +204,6 @@ function reseedEmptied(
   for (let c = 0; c < k; c++) model.weights[c] /= total;
   model.precisionCholesky = factorWithRidge(model.covariances, k, d, covarianceEstimators[covarianceType].shared, model.regularization).precisionCholesky;
   return true;
-}
-
-function overallCovariance(values: Float64Array, n: number, d: number): Float64Array {
-  const mean = new Float64Array(d);
-  for (let row = 0; row < n; row++) for (let a = 0; a < d; a++) mean[a] += values[row * d + a] / n;
-  const covariance = new Float64Array(d * d);
-  for (let row = 0; row < n; row++) {
-    for (let a = 0; a < d; a++) {
-      const differenceA = values[row * d + a] - mean[a];
-      for (let b = 0; b <= a; b++) covariance[a * d + b] += (differenceA * (values[row * d + b] - mean[b])) / n;
-    }
-  }
-  for (let a = 0; a < d; a++) for (let b = a + 1; b < d; b++) covariance[a * d + b] = covariance[b * d + a];
-  return covariance;
 }
 
 /** An E-step the EM loop asks for: on `model`, adding into `statistics` (null: log-likelihood only). */

@@ -231,6 +231,21 @@ export function marginalLogDensity(model: MixtureModel, component: number, x: Ar
   return logDensityConstant(0, factor, 0, m) - 0.5 * whitenedSquaredNorm(factor, 0, deviation, m);
 }
 
+/** Covariance (d × d, symmetric, denominator n) of the n × d rows. */
+export function rowCovariance(values: Float64Array, n: number, d: number): Float64Array {
+  const mean = new Float64Array(d);
+  for (let row = 0; row < n; row++) for (let a = 0; a < d; a++) mean[a] += values[row * d + a] / n;
+  const covariance = new Float64Array(d * d);
+  for (let row = 0; row < n; row++) {
+    for (let a = 0; a < d; a++) {
+      const differenceA = values[row * d + a] - mean[a];
+      for (let b = 0; b <= a; b++) covariance[a * d + b] += (differenceA * (values[row * d + b] - mean[b])) / n;
+    }
+  }
+  for (let a = 0; a < d; a++) for (let b = a + 1; b < d; b++) covariance[a * d + b] = covariance[b * d + a];
+  return covariance;
+}
+
 // ---------------------------------------------------------------------------------------------
 // symmetric eigenvalues
 

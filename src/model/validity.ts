@@ -27,22 +27,11 @@ import type { MixtureModel } from './types.js';
 export const RELATIVE_VARIANCE_FLOOR = 1e-6;
 
 /**
- * W = L⁻¹ (d × d, lower triangular) of the covariance S = L Lᵀ of the n × d rows (a copy of S
- * with a minimal ridge when the features are exactly collinear).
+ * W = L⁻¹ (d × d, lower triangular) of the rows' covariance S = L Lᵀ (gaussian.ts, rowCovariance),
+ * through a minimal ridge when the features are exactly collinear.
  */
-export function dataScaleOf(values: Float64Array, n: number, d: number): Float64Array {
-  const mean = new Float64Array(d);
-  for (let row = 0; row < n; row++) for (let a = 0; a < d; a++) mean[a] += values[row * d + a];
-  for (let a = 0; a < d; a++) mean[a] /= n;
-  const covariance = new Float64Array(d * d);
-  for (let row = 0; row < n; row++) {
-    for (let a = 0; a < d; a++) {
-      const deviation = values[row * d + a] - mean[a];
-      for (let b = 0; b <= a; b++) covariance[a * d + b] += deviation * (values[row * d + b] - mean[b]);
-    }
-  }
-  for (let i = 0; i < d * d; i++) covariance[i] /= n;
-  return factorWithRidge(covariance, 1, d, false, 0).precisionCholesky;
+export function dataScaleOf(covariance: Float64Array, d: number): Float64Array {
+  return factorWithRidge(Float64Array.from(covariance), 1, d, false, 0).precisionCholesky;
 }
 
 /**

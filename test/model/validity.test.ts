@@ -1,6 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { InputError } from '../../src/errors.js';
 import { fitMixture, sweepMixtures, type CovarianceType, type DataMatrix } from '../../src/model/index.js';
+import { rowCovariance } from '../../src/model/gaussian.js';
 import { dataScaleOf, refusalOf, RELATIVE_VARIANCE_FLOOR } from '../../src/model/validity.js';
 import { fitSettings, matrix, modelOf, referenceData } from './support.js';
 
@@ -19,7 +20,7 @@ function model(covarianceType: CovarianceType, weights: [number, number], second
 
 describe('which fits may compete (validity.ts)', () => {
   const data = twoFeatures(200);
-  const scale = dataScaleOf(data.values, data.rows, data.cols);
+  const scale = dataScaleOf(rowCovariance(data.values, data.rows, data.cols), data.cols);
 
   it('accepts components with enough members and a spread of their own', () => {
     expect(refusalOf(model('full', [0.5, 0.5], [[0.5, 0.1], [0.1, 0.4]], 1e-6), 200, scale, [])).toBeNull();
@@ -45,7 +46,7 @@ describe('which fits may compete (validity.ts)', () => {
     expect(refusalOf(model('full', [0.5, 0.5], thin, 0), 200, scale, [])).toMatch(/held up by the regularisation floor: along its thinnest direction its own variance is .* of the data's \(below 1e-6\)/);
     // The same data and model in units a million times larger (variances 1e12 times): same verdicts.
     const big = twoFeatures(200, 1e6);
-    const bigScale = dataScaleOf(big.values, big.rows, big.cols);
+    const bigScale = dataScaleOf(rowCovariance(big.values, big.rows, big.cols), big.cols);
     const scaled = (matrix: number[][]) => matrix.map((row) => row.map((value) => value * 1e12));
     expect(refusalOf(model('full', [0.5, 0.5], scaled(thin), 0, 1e6), 200, bigScale, [])).toMatch(/below 1e-6/);
     expect(refusalOf(model('full', [0.5, 0.5], scaled([[0.5, 0.1], [0.1, 0.4]]), 0, 1e6), 200, bigScale, [])).toBeNull();
