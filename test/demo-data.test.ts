@@ -13,11 +13,11 @@ import {
   atypicalCount,
   generateDemoChain,
   type DemoChainResult,
-} from '../demo-data/generator/index.js';
-import { AsciiSink } from '../demo-data/generator/ascii-sink.js';
-import { STORE_PLACES } from '../demo-data/generator/chain.js';
-import { formatCents } from '../demo-data/generator/generate.js';
-import { buildMessyFiles, messyReadme } from '../demo-data/generator/messy.js';
+} from '../src/demo/index.js';
+import { AsciiSink } from '../src/demo/ascii-sink.js';
+import { STORE_PLACES } from '../src/demo/chain.js';
+import { formatCents } from '../src/demo/generate.js';
+import { buildMessyFiles, messyReadme } from '../src/demo/messy.js';
 import { CancelledError, InputError } from '../src/errors.js';
 
 const projectRoot = fileURLToPath(new URL('..', import.meta.url));

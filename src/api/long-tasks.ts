@@ -1,7 +1,7 @@
 import { mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { DEFAULT_CUSTOMERS, generateDemoChain } from '../../demo-data/generator/index.js';
+import { DEFAULT_CUSTOMERS, generateDemoChain } from '../demo/index.js';
 import { exportRun } from '../export/export-run.js';
 import { importFile } from '../ingest/import-file.js';
 import { demoDatabaseSummary, loadDemoFiles } from '../ingest/load-demo.js';

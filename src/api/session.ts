@@ -5,7 +5,7 @@ import type { LongTaskMethod, TaskResults } from './contract.js';
 import type { LongTaskRequest } from './long-task-request.js';
 import { runInWorker } from './run-in-worker.js';
 import { TaskManager, type ProgressReporter } from './tasks.js';
-import { DEFAULT_CUSTOMERS as DEFAULT_DEMO_CUSTOMERS } from '../../demo-data/generator/index.js';
+import { DEFAULT_CUSTOMERS as DEFAULT_DEMO_CUSTOMERS } from '../demo/index.js';
 
 /** Runs a long task's core work; the default puts it on a worker thread. */
 export type LongTaskRunner = <M extends LongTaskMethod>(

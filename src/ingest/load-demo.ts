@@ -5,7 +5,7 @@ import { tokenizeCsv } from './csv-tokenizer.js';
 import { importFile, type ImportProgress, type ImportResult } from './import-file.js';
 import type { ImportKind } from '../store/imports-repo.js';
 
-/** Paths of the demo generator's files for the kinds we load (demo-data/generator/output-folder.ts). */
+/** Paths of the demo generator's files for the kinds we load (src/demo/output-folder.ts). */
 export interface DemoFiles {
   receipts: string;
   visits: string;

@@ -11,7 +11,7 @@
 import { closeSync, mkdtempSync, openSync, readdirSync, rmSync, statSync, writeSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { generateDemoChain } from '../../demo-data/generator/index.js';
+import { generateDemoChain } from '../../src/demo/index.js';
 
 const customers = Number(process.argv[2] ?? 6000);
 const repeats = Number(process.argv[3] ?? 3);

@@ -4,7 +4,7 @@ import {
   MAX_CUSTOMERS,
   generateDemoChain,
   type DemoChainResult,
-} from '../../../demo-data/generator/index.js';
+} from '../../demo/index.js';
 import { mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join, resolve } from 'node:path';

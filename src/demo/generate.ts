@@ -1,4 +1,4 @@
-import { InputError, throwIfAborted } from '../../src/errors.js';
+import { InputError, throwIfAborted } from '../errors.js';
 import { EVENT_NO_RECEIPT, MonthEvents, drawCustomerMonth, type CustomerState } from './activity.js';
 import { CATEGORIES, CHAIN_NAME, STORES } from './chain.js';
 import { AsciiSink, fixedWidthBytes } from './ascii-sink.js';
