@@ -17,8 +17,10 @@ import { join } from 'node:path';
 import Sqlite from 'better-sqlite3';
 import { uniformFloat64 } from 'pure-rand/distribution/uniformFloat64';
 import { xoroshiro128plus } from 'pure-rand/generator/xoroshiro128plus';
-import { databaseCounts } from '../../src/api/database-counts.js';
-import { certaintyView } from '../../src/api/run-views.js';
+import { startRunInput } from '../../src/api/contract.js';
+import { runSettingsFor } from '../../src/api/long-tasks.js';
+import { certaintySummary as certaintyView } from '../../src/runs/read/certainty.js';
+import { databaseCounts } from '../../src/store/database-counts.js';
 import { dataRange } from '../../src/features/compute.js';
 import { importFile } from '../../src/ingest/import-file.js';
 import { runSegmentation } from '../../src/runs/run.js';
@@ -89,7 +91,8 @@ async function storedRun(customers: number): Promise<{ db: Database; runId: numb
   await writeLines(csv, 'customer_id,joined,marketing_consent,home_store', customers, (i) => `${customerId(i)},2024-0${1 + (i % 9)}-15,${i % 4 ? 'yes' : 'no'},S0${i % 8}`);
   await importFile(db, { path: csv, kind: 'customers', options: { reportDir: folder } });
   rmSync(csv, { force: true });
-  const run = await runSegmentation(db, { asOf: '2026-11-30', windowMonths: 12, mode: 'refit', parentRunId: null, k: 4, covariance: 'diag', restarts: 1, seed: 1, maxIterations: 40 });
+  const settings = startRunInput.parse({ asOf: '2026-11-30', windowMonths: 12, mode: 'refit', parentRunId: null, k: 4, covariance: 'diag', restarts: 1, seed: 1, maxIterations: 40 });
+  const run = await runSegmentation(db, runSettingsFor(db, settings));
   console.log(`${customers} customers: built in ${((performance.now() - started) / 1000).toFixed(1)} s (run ${run.runId}, ${run.customers} placed)`);
   return { db, runId: run.runId };
 }

@@ -10,10 +10,11 @@ import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { runCli } from '../../src/cli/program.js';
 import { importFile } from '../../src/ingest/import-file.js';
-import { decideReview, getMemberships, getMovement, getReviewQueue, listSegments } from '../../src/runs/repository.js';
-import { runSegmentation } from '../../src/runs/run.js';
-import type { Membership } from '../../src/runs/types.js';
+import type { MembershipRow } from '../../src/api/contract.js';
+import { movementOf } from '../../src/runs/read/movement.js';
+import { listSegments } from '../../src/runs/read/segments.js';
 import { openDatabase, type Database } from '../../src/store/database.js';
+import { allMemberships, decide, runMonth, wholeQueue } from '../support/core-calls.js';
 import { readCsv, readWorkbook, sheet, tableRecords, type ReadWorkbook } from './independent-readers.js';
 
 const sampleDir = new URL('../../demo-data/sample/', import.meta.url).pathname;
@@ -34,15 +35,6 @@ async function cli(args: string[]): Promise<{ code: number; stdout: string; stde
   return { code, stdout, stderr };
 }
 
-function allMemberships(db: Database, runId: number): Membership[] {
-  const items: Membership[] = [];
-  for (let offset = 0; ; offset += 10_000) {
-    const page = getMemberships(db, runId, { offset, limit: 10_000, sort: 'customerId' });
-    items.push(...page.items);
-    if (items.length >= page.total || page.items.length === 0) return items;
-  }
-}
-
 describe('export of a real run of the demo sample', () => {
   const folder = mkdtempSync(join(tmpdir(), 'spendmix-export-e2e-'));
   const dbPath = join(folder, 'larkmoor.db');
@@ -60,20 +52,20 @@ describe('export of a real run of the demo sample', () => {
       await importFile(db, { path: join(sampleDir, `${kind}.csv`), kind, options: { reportDir: folder } });
     }
     const settings = { windowMonths: 12, mode: 'refit' as const, k: 3, covariance: 'diag' as const, restarts: 2, seed: 5 };
-    await runSegmentation(db, { ...settings, asOf: '2026-10-31' });
-    runId = (await runSegmentation(db, { ...settings, asOf: '2026-11-30' })).runId;
+    await runMonth(db, { ...settings, asOf: '2026-10-31' });
+    runId = (await runMonth(db, { ...settings, asOf: '2026-11-30' })).runId;
 
     // Three decisions on consenting queued customers: exclude one, move one, keep one.
-    const queue = getReviewQueue(db, runId, { limit: 10_000 }).items.filter((item) => consent.get(item.customerId) === 'yes');
+    const queue = wholeQueue(db, runId).filter((item) => consent.get(item.customerId) === 'yes');
     expect(queue.length).toBeGreaterThanOrEqual(3);
-    const segments = listSegments(db, runId);
+    const segments = listSegments(db, runId).segments;
     decided.excluded = queue[0].customerId;
     decided.moved = queue[1].customerId;
     decided.movedTo = segments.find((segment) => segment.name !== queue[1].segmentName)?.name as string;
     decided.kept = queue[2].customerId;
-    decideReview(db, { runId, customerId: decided.excluded, action: 'exclude', note: 'staff card', reviewer: 'analyst' });
-    decideReview(db, { runId, customerId: decided.moved, action: 'move', segment: decided.movedTo, reviewer: 'analyst' });
-    decideReview(db, { runId, customerId: decided.kept, action: 'keep', reviewer: 'analyst' });
+    decide(db, { runId, customerId: decided.excluded, action: 'exclude', note: 'staff card', reviewer: 'analyst' });
+    decide(db, { runId, customerId: decided.moved, action: 'move', segment: decided.movedTo, reviewer: 'analyst' });
+    decide(db, { runId, customerId: decided.kept, action: 'keep', reviewer: 'analyst' });
 
     const out = join(outDir, 'run.xlsx');
     const result = await cli(['export', '--db', dbPath, '--run', 'latest', '--out', out, '--json']);
@@ -98,7 +90,7 @@ describe('export of a real run of the demo sample', () => {
     const records = tableRecords(sheet(book, 'Customers'));
     expect(records.length).toBe(workbookResult.customersExported);
     for (const record of records) {
-      const membership = stored.get(String(record['Customer id'].v)) as Membership;
+      const membership = stored.get(String(record['Customer id'].v)) as MembershipRow;
       expect(membership).toBeDefined();
       expect(record['Final segment'].v).toBe(membership.finalSegmentName);
       expect(record['Model segment'].v).toBe(membership.segmentName);
@@ -129,19 +121,19 @@ describe('export of a real run of the demo sample', () => {
   });
 
   it('writes the stored movement matrix', () => {
-    const movement = getMovement(db, runId);
-    expect(movement).not.toBeNull();
+    const movement = movementOf(db, runId);
+    expect(movement.parentRunId).not.toBeNull();
     const records = tableRecords(sheet(book, 'Movement'));
-    expect(records.map((record) => record['Last month \\ this month'].v)).toEqual(movement?.parentSegments.map((s) => s.name));
+    expect(records.map((record) => record['Last month \\ this month'].v)).toEqual(movement.parentSegments.map((s) => s.name));
     records.forEach((record, i) => {
-      movement?.currentSegments.forEach((segment, j) => expect(record[segment.name].v).toBe(movement.counts[i][j]));
+      movement.currentSegments.forEach((segment, j) => expect(record[segment.name].v).toBe(movement.matrix[i][j]));
     });
   });
 
   it('suppression over the whole demo: no customer with consent "no" in any campaign list', async () => {
     const refused = new Set([...consent].filter(([, value]) => value !== 'yes').map(([id]) => id));
     expect(refused.size).toBeGreaterThan(0);
-    const segments = listSegments(db, runId).map((segment) => segment.name);
+    const segments = listSegments(db, runId).segments.map((segment) => segment.name);
     const lists: { segments: string[]; format: 'xlsx' | 'csv'; extra: string[] }[] = [
       { segments: [], format: 'xlsx', extra: ['--min-confidence', '0.9'] },
       { segments: [], format: 'csv', extra: [] },
