@@ -53,7 +53,7 @@ function describeProblem(issue: Issue): string | undefined {
       return alternatives.every(Boolean) ? `must be ${alternatives.join(' or ')}` : 'is not any of the accepted forms';
     }
     case 'unrecognized_keys':
-      return `${issue.path.length === 0 ? '' : 'has an '}unknown field${issue.keys.length > 1 ? 's' : ''} ${issue.keys.map(quote).join(', ')}`;
+      return `unknown field${issue.keys.length > 1 ? 's' : ''} ${issue.keys.map(quote).join(', ')}`;
     default:
       return undefined; // schema-level messages (formats, refinements) stand as written
   }
@@ -111,7 +111,13 @@ function problemWithValue(issue: Issue): string {
  */
 export function inputErrorFromZod(what: string, error: ZodError, schema?: z.ZodType): InputError {
   const issues = error.issues.map((issue) => ({ path: issuePath(issue.path), message: problemWithValue(issue) }));
-  const text = error.issues.map((issue, i) => [fieldLabel(schema, issue.path), issues[i].message].filter(Boolean).join(' ')).join('; ');
+  const text = error.issues
+    .map((issue, i) => {
+      const label = fieldLabel(schema, issue.path);
+      if (!label) return issues[i].message;
+      return `${label} ${issue.code === 'unrecognized_keys' ? 'has an ' : ''}${issues[i].message}`;
+    })
+    .join('; ');
   return new InputError(`${what}: invalid input — ${text}.`, { issues });
 }
 

@@ -8,7 +8,7 @@ import { mkdtempSync, readdirSync, readFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { runCli } from '../../src/cli/program.js';
+import { cli } from '../support/run-cli.js';
 import { importFile } from '../../src/ingest/import-file.js';
 import type { MembershipRow } from '../../src/api/contract.js';
 import { movementOf } from '../../src/runs/read/movement.js';
@@ -26,13 +26,6 @@ function sampleConsent(): Map<string, string> {
   const idColumn = header.indexOf('customer_id');
   const consentColumn = header.indexOf('marketing_consent');
   return new Map(lines.slice(1).map((line) => line.split(',')).map((cells) => [cells[idColumn], cells[consentColumn]]));
-}
-
-async function cli(args: string[]): Promise<{ code: number; stdout: string; stderr: string }> {
-  let stdout = '';
-  let stderr = '';
-  const code = await runCli(args, { stdout: (text) => (stdout += text), stderr: (text) => (stderr += text) });
-  return { code, stdout, stderr };
 }
 
 describe('export of a real run of the demo sample', () => {
@@ -68,7 +61,7 @@ describe('export of a real run of the demo sample', () => {
     decide(db, { runId, customerId: decided.kept, action: 'keep', reviewer: 'analyst' });
 
     const out = join(outDir, 'run.xlsx');
-    const result = await cli(['export', '--db', dbPath, '--run', 'latest', '--out', out, '--json']);
+    const result = await cli('export', '--db', dbPath, '--run', 'latest', '--out', out, '--json');
     expect(result.stderr).toBe('');
     expect(result.code).toBe(0);
     workbookResult = JSON.parse(result.stdout);
@@ -146,7 +139,7 @@ describe('export of a real run of the demo sample', () => {
       const out = join(outDir, `list-${index}.${list.format}`);
       const args = ['export', '--db', dbPath, '--run', String(runId), '--out', out, '--json', ...list.extra];
       if (list.segments.length > 0) args.push('--segments', list.segments.join(','));
-      const result = await cli(args);
+      const result = await cli(...args);
       expect(result.code, result.stderr).toBe(0);
       let customerIds: string[];
       let otherIds: string[] = [];
@@ -167,18 +160,18 @@ describe('export of a real run of the demo sample', () => {
 
   it('refuses bad input with exit code 2, a clear message and no file', async () => {
     const before = readdirSync(outDir).length;
-    const unknownRun = await cli(['export', '--db', dbPath, '--run', '99', '--out', join(outDir, 'x.xlsx')]);
+    const unknownRun = await cli('export', '--db', dbPath, '--run', '99', '--out', join(outDir, 'x.xlsx'));
     expect(unknownRun.code).toBe(2);
     expect(unknownRun.stderr).toMatch(/There is no run 99; runs in this database: 1, 2/);
-    const unknownSegment = await cli(['export', '--db', dbPath, '--run', 'latest', '--out', join(outDir, 'x.xlsx'), '--segments', 'Platinum']);
+    const unknownSegment = await cli('export', '--db', dbPath, '--run', 'latest', '--out', join(outDir, 'x.xlsx'), '--segments', 'Platinum');
     expect(unknownSegment.code).toBe(2);
     expect(unknownSegment.stderr).toMatch(/No segment named "Platinum" in this run\. The segments are: "Tier 1 — highest spend"/);
-    const missingFolder = await cli(['export', '--db', dbPath, '--run', 'latest', '--out', join(outDir, 'no', 'x.xlsx')]);
+    const missingFolder = await cli('export', '--db', dbPath, '--run', 'latest', '--out', join(outDir, 'no', 'x.xlsx'));
     expect(missingFolder.code).toBe(2);
     expect(missingFolder.stderr).toMatch(/does not exist/);
-    const badConfidence = await cli(['export', '--db', dbPath, '--run', 'latest', '--out', join(outDir, 'x.xlsx'), '--min-confidence', '2']);
+    const badConfidence = await cli('export', '--db', dbPath, '--run', 'latest', '--out', join(outDir, 'x.xlsx'), '--min-confidence', '2');
     expect(badConfidence.code).toBe(2);
-    const noDatabase = await cli(['export', '--db', join(folder, 'none.db'), '--run', 'latest', '--out', join(outDir, 'x.xlsx')]);
+    const noDatabase = await cli('export', '--db', join(folder, 'none.db'), '--run', 'latest', '--out', join(outDir, 'x.xlsx'));
     expect(noDatabase.code).toBe(2);
     expect(noDatabase.stderr).toMatch(/does not exist/);
     expect(readdirSync(outDir).length).toBe(before);

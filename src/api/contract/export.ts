@@ -9,7 +9,7 @@ export type ExportFormat = (typeof exportFormats)[number];
 export const exportRunInput = z.strictObject({
   runId: named(runId, 'the run', '--run'),
   out: named(nonEmpty, 'the output file', '--out'),
-  format: named(z.enum(exportFormats).optional(), 'xlsx (workbook) or csv (campaign list); absent: from the file name', '--format'),
+  format: named(z.enum(exportFormats).optional(), 'the file format, xlsx for a workbook or csv for a campaign list (absent: from the file name)', '--format'),
   /** Final segment names to list; absent = every segment. */
   segments: named(z.array(nonEmpty).min(1).optional(), 'final segments to list (absent: all)', '--segments'),
   minConfidence: named(probability.default(0), 'least confidence of a listed customer', '--min-confidence'),

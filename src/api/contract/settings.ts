@@ -106,7 +106,7 @@ export const windowSettings = {
 
 /** What is fitted and how the model is chosen. */
 export const modelSettings = {
-  mode: named(z.enum(refreshModes).default('refit'), "refit (fit anew) or rescore (apply the parent run's model)", '--mode'),
+  mode: named(z.enum(refreshModes).default('refit'), "how the model is made, refit or rescore (refit fits anew; rescore applies the parent run's model)", '--mode'),
   parentRunId: named(
     runId.nullable().optional(),
     'the parent run (absent: the latest run with an earlier as-of date; null: none)',

@@ -46,11 +46,12 @@ export const registerDemo: RegisterCommand = (program, io, setExitCode) => {
     .option('--out <dir>', 'folder for the files; created when missing, must be empty or hold only an earlier demo')
     .option('--db <file>', 'load the demo into this database (created when missing) through the importer');
   addSchemaOptions(command, chainFlags)
-    .option('--json', 'print one JSON object {dir, customers, receipts, visits} (with --db: {db, customers, receipts, visits}); receipts counts distinct receipts, not department rows')
+    .option('--json', 'print one JSON object {dir, customers, receipts, visits} (with --db: {db, customers, receipts, visits})')
     .addHelpText(
       'after',
       [
         '',
+        'In the JSON, receipts counts distinct receipts, not department rows.',
         'Files written: receipts.csv (one row per receipt and department; refunds are negative),',
         'visits.csv (store and online visits, with or without a purchase), customers.csv, stores.csv,',
         'truth.csv (each customer\'s latent profile, for tests only) and manifest.json (seed and counts).',
