@@ -30,9 +30,9 @@ const expectedWords: Record<string, string> = {
 
 /** What is wrong, in words, without the field's name (the screens show it beside the field). */
 function describeProblem(issue: Issue): string | undefined {
+  if (issue.input === undefined && (issue.code === 'invalid_type' || issue.code === 'invalid_value' || issue.code === 'invalid_union')) return 'is required';
   switch (issue.code) {
     case 'invalid_type':
-      if (issue.input === undefined) return 'is required';
       return `must be ${expectedWords[issue.expected] ?? issue.expected}`;
     case 'too_big': {
       const limit = String(issue.maximum);

@@ -1,9 +1,11 @@
+import type { Command } from 'commander';
 import { existsSync } from 'node:fs';
 import { callApi } from '../api/handlers.js';
 import { runLongTask } from '../api/long-tasks.js';
 import { ApiSession } from '../api/session.js';
 import type { ApiInput, ApiMethod, ApiOutput, LongTaskMethod, TaskProgress, TaskResults, TaskStarted } from '../api/contract.js';
 import { InputError } from '../errors.js';
+import { runCommand, type CliIo, type CommandOutcome } from './run-command.js';
 import { numberOrText } from './schema-options.js';
 
 /**
@@ -59,4 +61,31 @@ export async function withApi<T>(dbPath: string, work: (api: CliApi) => Promise<
   } finally {
     await session.close();
   }
+}
+
+/** A command over one run of a database (`review`, `segments`): `--db` and `--run` on the group, the work in its subcommands. */
+export function runGroup(program: Command, name: string, description: string): Command {
+  return program.command(name).description(description).option('--db <file>', 'the Spendmix database').option('--run <id>', 'run id, or latest');
+}
+
+/**
+ * A subcommand's action in a run group: one API session on the group's database with its run
+ * id resolved ("latest" included), the CLI's output conventions around it.
+ */
+export function onGroupRun<T>(
+  group: Command,
+  io: CliIo,
+  setExitCode: (code: number) => void,
+  work: (api: CliApi, runId: number, options: Record<string, unknown>) => Promise<CommandOutcome<T>>,
+): (options: Record<string, unknown>) => Promise<void> {
+  return async (options) => {
+    const parent = group.opts<{ db?: string; run?: string; json?: boolean }>();
+    const json = Boolean(options.json || parent.json);
+    setExitCode(
+      await runCommand(io, json, async () => {
+        const db = requireExistingDatabase(parent.db, group.name());
+        return withApi(db, async (api) => work(api, await api.runId(parent.run, group.name()), options));
+      }),
+    );
+  };
 }

@@ -33,7 +33,7 @@ describe('spendmix import (DESIGN.md §10)', () => {
       [['import', '--db', db, '--receipts', file, '--map', 'nonsense'], /COLUMN=FIELD/],
       [['import', '--db', db, '--receipts', file, '--max-rejected-share', '7'], /\(rejectionThreshold, --max-rejected-share\) must be at most 1 \(got 7\)/],
       [['import', '--db', db, '--receipts', file], /date is not ISO.*--date-format/],
-      [['import', '--db', db, '--receipts', join(folder, 'absent.csv')], /Cannot read/],
+      [['import', '--db', db, '--receipts', join(folder, 'absent.csv')], /File .*absent\.csv does not exist/],
     ];
     for (const [args, pattern] of cases) {
       const run = await cli(args);

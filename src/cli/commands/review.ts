@@ -1,13 +1,7 @@
-import { decideReviewInput, reviewQueueInput, type ReviewDecision, type ReviewItem } from '../../api/contract.js';
-import { requireExistingDatabase, withApi } from '../api-client.js';
-import { runCommand, type RegisterCommand } from '../run-command.js';
+import { decideReviewInput, reviewQueueInput, type ApiInput, type ReviewDecision, type ReviewItem } from '../../api/contract.js';
+import { onGroupRun, runGroup } from '../api-client.js';
+import type { RegisterCommand } from '../run-command.js';
 import { addSchemaOptions, inputFromFlags, schemaOptions } from '../schema-options.js';
-
-interface ReviewCliOptions {
-  db?: string;
-  run?: string;
-  json?: boolean;
-}
 
 const probability = (value: number | null) => (value === null ? '-' : value.toFixed(3));
 
@@ -41,46 +35,28 @@ const decideFlags = schemaOptions(decideReviewInput.shape, ['runId']);
  * same API calls. Only customers in the queue take a decision (src/runs/review-decisions.ts).
  */
 export const registerReview: RegisterCommand = (program, io, setExitCode) => {
-  const review = program
-    .command('review')
-    .description("The review queue of a run (borderline and atypical customers by spend at stake) and the analyst's decisions.")
-    .option('--db <file>', 'the Spendmix database')
-    .option('--run <id>', 'run id, or latest');
+  const review = runGroup(program, 'review', "The review queue of a run (borderline and atypical customers by spend at stake) and the analyst's decisions.");
 
   addSchemaOptions(review.command('list').description('List the queue, highest spend at stake first.'), listFlags)
     .option('--json', 'print one JSON object {runId, total, offset, items}')
-    .action(async (options: Record<string, unknown>) => {
-      const parent = review.opts<ReviewCliOptions>();
-      const json = Boolean(options.json || parent.json);
-      setExitCode(
-        await runCommand(io, json, async () => {
-          const db = requireExistingDatabase(parent.db, 'review');
-          const page = await withApi(db, async (api) => api.call('reviewQueue', { ...inputFromFlags(listFlags, options), runId: await api.runId(parent.run, 'review') }));
-          return { result: { runId: page.runId, total: page.total, offset: page.offset, items: page.rows }, human: describeQueue };
-        }),
-      );
-    });
+    .action(
+      onGroupRun(review, io, setExitCode, async (api, runId, options) => {
+        const page = await api.call('reviewQueue', { ...inputFromFlags(listFlags, options), runId });
+        return { result: { runId, total: page.total, offset: page.offset, items: page.rows }, human: describeQueue };
+      }),
+    );
 
   addSchemaOptions(
     review.command('decide').description('Record a decision on a customer in the queue: keep, move to a segment, or exclude from campaigns.'),
     decideFlags,
   )
     .option('--json', 'print one JSON object {runId, customerId, decision}')
-    .action(async (options: Record<string, unknown>) => {
-      const parent = review.opts<ReviewCliOptions>();
-      const json = Boolean(options.json || parent.json);
-      setExitCode(
-        await runCommand(io, json, async () => {
-          const db = requireExistingDatabase(parent.db, 'review');
-          // Who decided: the session's user unless --reviewer names someone.
-          const input = { reviewer: process.env.USER ?? '', ...inputFromFlags(decideFlags, options) };
-          const result = await withApi(db, async (api) => {
-            const runId = await api.runId(parent.run, 'review');
-            const item = await api.call('decideReview', { ...input, runId } as never);
-            return { runId, customerId: item.customerId, decision: item.decision };
-          });
-          return { result, human: describeDecision };
-        }),
-      );
-    });
+    .action(
+      onGroupRun(review, io, setExitCode, async (api, runId, options) => {
+        // Who decided: the session's user unless --reviewer names someone.
+        const input = { reviewer: process.env.USER ?? '', ...inputFromFlags(decideFlags, options), runId };
+        const item = await api.call('decideReview', input as ApiInput<'decideReview'>);
+        return { result: { runId, customerId: item.customerId, decision: item.decision }, human: describeDecision };
+      }),
+    );
 };

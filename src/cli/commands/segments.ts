@@ -1,13 +1,7 @@
-import { renameSegmentInput, type SegmentProfile, type SegmentsResult } from '../../api/contract.js';
-import { requireExistingDatabase, withApi } from '../api-client.js';
-import { runCommand, type RegisterCommand } from '../run-command.js';
+import { renameSegmentInput, type ApiInput, type SegmentProfile, type SegmentsResult } from '../../api/contract.js';
+import { onGroupRun, runGroup } from '../api-client.js';
+import type { RegisterCommand } from '../run-command.js';
 import { addSchemaOptions, inputFromFlags, schemaOptions } from '../schema-options.js';
-
-interface SegmentsCliOptions {
-  db?: string;
-  run?: string;
-  json?: boolean;
-}
 
 const percent = (share: number) => `${(share * 100).toFixed(1)}%`;
 
@@ -26,41 +20,25 @@ const renameFlags = schemaOptions(renameSegmentInput.shape, ['runId']);
  * Segments screen's profiles and its rename, through the same API calls.
  */
 export const registerSegments: RegisterCommand = (program, io, setExitCode) => {
-  const segments = program
-    .command('segments')
-    .description("A run's segments in spend order with their profiles, and renaming one (names carry over to next month).")
-    .option('--db <file>', 'the Spendmix database')
-    .option('--run <id>', 'run id, or latest');
+  const segments = runGroup(program, 'segments', "A run's segments in spend order with their profiles, and renaming one (names carry over to next month).");
 
   segments
     .command('list')
     .description('List the segments, highest spend first: index, key, name, size, revenue share and feature medians.')
     .option('--json', 'print one JSON object {runId, features, segments}')
-    .action(async (options: { json?: boolean }) => {
-      const parent = segments.opts<SegmentsCliOptions>();
-      const json = Boolean(options.json || parent.json);
-      setExitCode(
-        await runCommand(io, json, async () => {
-          const db = requireExistingDatabase(parent.db, 'segments');
-          const result = await withApi(db, async (api) => api.call('segments', { runId: await api.runId(parent.run, 'segments') }));
-          return { result, human: (value: SegmentsResult) => [`Run ${value.runId}: ${value.segments.length} segments`, ...value.segments.map(describeSegment)].join('\n') };
-        }),
-      );
-    });
+    .action(
+      onGroupRun(segments, io, setExitCode, async (api, runId) => ({
+        result: await api.call('segments', { runId }),
+        human: (value: SegmentsResult) => [`Run ${value.runId}: ${value.segments.length} segments`, ...value.segments.map(describeSegment)].join('\n'),
+      })),
+    );
 
   addSchemaOptions(segments.command('rename').description('Rename a segment of the run (by index, key or current name).'), renameFlags)
     .option('--json', 'print the renamed segment as one JSON object')
-    .action(async (options: Record<string, unknown>) => {
-      const parent = segments.opts<SegmentsCliOptions>();
-      const json = Boolean(options.json || parent.json);
-      setExitCode(
-        await runCommand(io, json, async () => {
-          const db = requireExistingDatabase(parent.db, 'segments');
-          const result = await withApi(db, async (api) =>
-            api.call('renameSegment', { ...inputFromFlags(renameFlags, options), runId: await api.runId(parent.run, 'segments') } as never),
-          );
-          return { result, human: (value: SegmentProfile) => `Renamed:\n${describeSegment(value)}` };
-        }),
-      );
-    });
+    .action(
+      onGroupRun(segments, io, setExitCode, async (api, runId, options) => ({
+        result: await api.call('renameSegment', { ...inputFromFlags(renameFlags, options), runId } as ApiInput<'renameSegment'>),
+        human: (value: SegmentProfile) => `Renamed:\n${describeSegment(value)}`,
+      })),
+    );
 };

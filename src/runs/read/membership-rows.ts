@@ -13,7 +13,17 @@ import { explainBorderline } from '../why.js';
 import type { RunSegments } from './run-segments.js';
 import { runModel, storedRun } from './stored-run.js';
 
-interface MembershipSqlRow {
+/** The decision columns of a review_decisions row. */
+export interface DecisionColumns {
+  action: ReviewAction | null;
+  segment_key: string | null;
+  note: string | null;
+  reviewer: string | null;
+  decided_at: string | null;
+  carried_from_run_id: number | null;
+}
+
+interface MembershipSqlRow extends DecisionColumns {
   customer_id: string;
   segment_index: number | null;
   confidence: number | null;
@@ -30,12 +40,6 @@ interface MembershipSqlRow {
   revenue_cents: number;
   spend_per_month: number | null;
   features: Buffer;
-  action: ReviewAction | null;
-  segment_key: string | null;
-  note: string | null;
-  reviewer: string | null;
-  decided_at: string | null;
-  carried_from_run_id: number | null;
   marketing_consent?: 0 | 1 | null;
 }
 
@@ -58,16 +62,6 @@ export interface MembershipRecord {
   features: Float64Array;
   /** Marketing consent (only when asked for with `withConsent`). */
   marketingConsent: 0 | 1 | null;
-}
-
-/** The decision columns of a review_decisions row. */
-export interface DecisionColumns {
-  action: ReviewAction | null;
-  segment_key: string | null;
-  note: string | null;
-  reviewer: string | null;
-  decided_at: string | null;
-  carried_from_run_id: number | null;
 }
 
 export function decisionOf(row: DecisionColumns, nameOfKey: ReadonlyMap<string, string>): ReviewDecision | null {

@@ -3,20 +3,15 @@
  * rename them: by index, by key and by name, with the profile JSON parsed only when asked for.
  */
 import type { Database } from 'better-sqlite3';
+import type { SegmentProfile } from '../../api/contract.js';
 import { InputError } from '../../errors.js';
 import type { StoredQuartiles } from '../profiles.js';
 
-export interface StoredSegment {
+/** A segment as stored: the profile's own numbers, by model index, with revenue in cents. */
+export type StoredSegment = Pick<SegmentProfile, 'key' | 'name' | 'spendRank' | 'origin' | 'customers' | 'share' | 'revenueShare'> & {
   index: number;
-  key: string;
-  name: string;
-  spendRank: number;
-  origin: 'first' | 'matched' | 'new';
-  customers: number;
-  share: number;
   revenueCents: number;
-  revenueShare: number;
-}
+};
 
 /** The profile column: quartiles of every stored feature, and the component in the model's space. */
 export interface StoredProfile {
