@@ -28,9 +28,19 @@ export function flagValue(schema: z.ZodType, raw: string): unknown {
 }
 
 function describeField(schema: z.ZodType, words: string): string {
-  const { defaultValue, nullable } = fieldShape(schema);
+  const { defaultValue } = fieldShape(schema);
   const shown = Array.isArray(defaultValue) ? defaultValue.join(',') : defaultValue === null ? 'none' : defaultValue;
-  return `${words}${shown === undefined ? '' : ` (default ${String(shown)})`}${nullable ? '; "none" for none' : ''}`;
+  return `${words}${shown === undefined || shown === '' ? '' : ` (default ${String(shown)})`}`;
+}
+
+/** The form of a flag's value as help shows it: `<n>`, `<x>`, `<n|auto>`, `<a|b|c>`, `<a,b>` or `<text>`. */
+function valueForm(schema: z.ZodType): string {
+  const shape = fieldShape(schema);
+  const none = shape.nullable ? ['none'] : [];
+  if (shape.list) return '<a,b>';
+  if (shape.number) return `<${[shape.integer ? 'n' : 'x', ...shape.choices, ...none].join('|')}>`;
+  if (shape.choices.length > 0) return `<${[...shape.choices, ...none].join('|')}>`;
+  return '<text>';
 }
 
 export interface SchemaOption {
@@ -44,7 +54,7 @@ export function schemaOptions(shape: Record<string, z.ZodType>, except: readonly
   return Object.entries(shape).flatMap(([field, schema]) => {
     const name = nameOf(schema);
     if (!name?.flag || except.includes(field)) return [];
-    return [{ field, schema, option: new Option(`${name.flag} <value>`, describeField(schema, name.words)) }];
+    return [{ field, schema, option: new Option(`${name.flag} ${name.valueForm ?? valueForm(schema)}`, describeField(schema, name.words)) }];
   });
 }
 

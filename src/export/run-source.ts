@@ -1,6 +1,6 @@
 /**
  * An ExportSource over a stored run: the run's header, segment profiles, movement and review
- * queue from the runs repository, and its customers through the repository's one-statement
+ * queue from the runs core's reads (src/runs/read), and its customers through one prepared
  * cursor (`iterateRunCustomers`), so a million customers stream without being held in memory.
  */
 import type { Database } from 'better-sqlite3';

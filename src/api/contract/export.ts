@@ -8,10 +8,10 @@ export type ExportFormat = (typeof exportFormats)[number];
 
 export const exportRunInput = z.strictObject({
   runId: named(runId, 'the run', '--run'),
-  out: named(nonEmpty, 'the output file', '--out'),
+  out: named(nonEmpty, 'the output file: .xlsx for the workbook, .csv for a campaign list', '--out <file>'),
   format: named(z.enum(exportFormats).optional(), 'the file format, xlsx for a workbook or csv for a campaign list (absent: from the file name)', '--format'),
   /** Final segment names to list; absent = every segment. */
-  segments: named(z.array(nonEmpty).min(1).optional(), 'final segments to list (absent: all)', '--segments'),
+  segments: named(z.array(nonEmpty).min(1).optional(), 'final segments to list, by name (absent: all)', '--segments <a,b>'),
   minConfidence: named(probability.default(0), 'least confidence of a listed customer', '--min-confidence'),
   includeReviewed: named(z.boolean().default(true), 'list customers with a keep or move review decision', '--include-reviewed'),
 });
@@ -54,6 +54,6 @@ export interface DemoResult {
 
 /** `demo --out DIR`: the chain's files, written on this machine (a command-line tool, not an app action). */
 export const demoFilesInput = z.strictObject({
-  out: named(nonEmpty, 'the folder for the files', '--out'),
+  out: named(nonEmpty, 'the folder for the files', '--out <dir>'),
   ...demoChainSettings,
 });

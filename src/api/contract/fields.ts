@@ -9,11 +9,15 @@ import { z } from 'zod';
 /**
  * What a field is called: plain words for both surfaces, and the command-line flag if there is
  * one. The words may end in a detail in parentheses (a default, what "none" means): `--help`
- * shows it, refusals leave it out (`shortWords`).
+ * shows it, refusals leave it out (`shortWords`). A flag may name its value's form after a space
+ * (`--as-of <YYYY-MM-DD>`); otherwise the command line derives one from the schema.
  */
 export interface FieldName {
   words: string;
+  /** The flag alone, e.g. `--as-of`. */
   flag?: string;
+  /** The form of its value, e.g. `<YYYY-MM-DD>`, when the flag names one. */
+  valueForm?: string;
 }
 
 /** The words without their closing detail in parentheses. */
@@ -30,7 +34,9 @@ export function named<T extends z.ZodType>(schema: T, words: string, flag?: stri
 export function nameOf(schema: z.ZodType): FieldName | undefined {
   const meta = z.globalRegistry.get(schema) as { words?: unknown; flag?: unknown } | undefined;
   if (typeof meta?.words !== 'string') return undefined;
-  return { words: meta.words, ...(typeof meta.flag === 'string' ? { flag: meta.flag } : {}) };
+  if (typeof meta.flag !== 'string') return { words: meta.words };
+  const [flag, ...form] = meta.flag.split(' ');
+  return { words: meta.words, flag, ...(form.length > 0 ? { valueForm: form.join(' ') } : {}) };
 }
 
 /** C0 and C1 control characters and DEL (NUL, escape, line breaks, tabs …). */
@@ -84,6 +90,10 @@ export const probability = z.number().min(0).max(1);
 /** What kinds of value a field's schema accepts, and its default: how a command line reads a flag for it. */
 export interface FieldShape {
   number: boolean;
+  /** Whole numbers only. */
+  integer: boolean;
+  /** The texts the field takes, where it takes only some (enums and literals). */
+  choices: string[];
   nullable: boolean;
   list: boolean;
   boolean: boolean;
@@ -92,7 +102,7 @@ export interface FieldShape {
 }
 
 export function fieldShape(schema: z.ZodType): FieldShape {
-  const shape: FieldShape = { number: false, nullable: false, list: false, boolean: false };
+  const shape: FieldShape = { number: false, integer: false, choices: [], nullable: false, list: false, boolean: false };
   const visit = (current: z.ZodType) => {
     const def = (current as unknown as { _zod: { def: Record<string, unknown> } })._zod.def;
     switch (def.type) {
@@ -112,6 +122,13 @@ export function fieldShape(schema: z.ZodType): FieldShape {
         break;
       case 'number':
         shape.number = true;
+        shape.integer = (current as unknown as { isInt?: boolean }).isInt === true;
+        break;
+      case 'enum':
+        shape.choices.push(...Object.values(def.entries as Record<string, string>));
+        break;
+      case 'literal':
+        shape.choices.push(...(def.values as unknown[]).map(String));
         break;
       case 'boolean':
         shape.boolean = true;

@@ -54,11 +54,11 @@ const segmentReference = z.union([z.number().int().min(0), nonEmpty]);
 export const decideReviewInput = z
   .strictObject({
     runId: named(runId, 'the run', '--run'),
-    customerId: named(nonEmpty, 'the customer', '--customer'),
+    customerId: named(nonEmpty, 'the customer', '--customer <id>'),
     action: named(z.enum(reviewActions), 'keep, move or exclude', '--action'),
-    segment: named(segmentReference.optional(), 'the target segment of a move (index, key or name)', '--segment'),
+    segment: named(segmentReference.optional(), 'the target segment of a move (index, key or name)', '--segment <segment>'),
     note: named(plainText(2000).default(''), 'a note kept with the decision', '--note'),
-    reviewer: named(plainLine(200).default(''), 'who decided', '--reviewer'),
+    reviewer: named(plainLine(200).default(''), 'who decided (default: the user running the command)', '--reviewer <name>'),
   })
   .refine((value) => value.action !== 'move' || value.segment !== undefined, {
     message: 'a move needs the target segment',
@@ -68,7 +68,7 @@ export type DecideReviewInput = z.output<typeof decideReviewInput>;
 
 export const renameSegmentInput = z.strictObject({
   runId: named(runId, 'the run', '--run'),
-  segment: named(segmentReference, 'the segment (index, key or current name)', '--segment'),
-  name: named(plainName(80), 'the new name', '--name'),
+  segment: named(segmentReference, 'the segment (index, key or current name)', '--segment <segment>'),
+  name: named(plainName(80), 'the new name', '--name <text>'),
 });
 export type RenameSegmentInput = z.output<typeof renameSegmentInput>;

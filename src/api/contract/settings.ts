@@ -92,7 +92,7 @@ export const fitSettings = {
 
 /** Which customers and which month: the window, where features come from, who is too new. */
 export const windowSettings = {
-  asOf: named(isoDate, 'the last day of the window', '--as-of'),
+  asOf: named(isoDate, 'the last day of the window', '--as-of <YYYY-MM-DD>'),
   windowMonths: named(z.number().int().min(1).max(60).default(12), 'the window in months', '--window-months'),
   source: named(
     z.enum(featureSources).optional(),
@@ -109,7 +109,7 @@ export const modelSettings = {
   mode: named(z.enum(refreshModes).default('refit'), "how the model is made, refit or rescore (refit fits anew; rescore applies the parent run's model)", '--mode'),
   parentRunId: named(
     runId.nullable().optional(),
-    'the parent run (absent: the latest run with an earlier as-of date; null: none)',
+    'the parent run (absent: the latest run with an earlier as-of date; none: no parent, start afresh)',
     '--parent',
   ),
   features: named(
@@ -140,7 +140,7 @@ export const flagSettings = {
   atypicalPercentile: named(z.number().min(0).max(50).default(1), 'atypical below this percentile of log density', '--atypical-percentile'),
   reviewMoversBelowConfidence: named(
     probability.nullable().default(null),
-    'also queue customers who changed segment with confidence below this (null: off)',
+    'also queue customers who changed segment with confidence below this (none: off)',
     '--review-movers-below',
   ),
 };
@@ -200,11 +200,11 @@ export function explicitRunSettings(settings: RunSettings, data: FeatureData): E
 /** The fit-matrix tool's input: a CSV's numeric columns fitted as they are (DESIGN.md §10). */
 export const fitMatrixInput = z
   .strictObject({
-    input: named(nonEmpty, 'the CSV file to fit', '--input'),
+    input: named(nonEmpty, 'the CSV file to fit', '--input <csv>'),
     k: named(z.union([z.number().int().min(1), z.literal('auto')]), 'number of components, or auto to choose 1…kMax by BIC', '--k'),
     kMax: named(z.number().int().min(1).max(100).optional(), 'largest k tried with k auto (absent: 8)', '--k-max'),
     covariance: named(z.enum(covarianceTypes), 'covariance structure', '--covariance'),
-    memberships: named(nonEmpty.optional(), "file for each row's segment, posteriors, confidence, margin and log density", '--memberships'),
+    memberships: named(nonEmpty.optional(), "file for each row's segment, posteriors, confidence, margin and log density", '--memberships <out.csv>'),
     ...fitSettings,
   })
   .refine((value) => value.kMax === undefined || value.k === 'auto', { message: 'applies only with k auto (--k auto)', path: ['kMax'] });

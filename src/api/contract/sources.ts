@@ -20,7 +20,7 @@ const delimiterChoices = [...Object.keys(delimiterNames), ...Object.values(delim
 
 /** How a file is read: sheet, dates, decimals. */
 export const readSettings = {
-  sheet: named(z.string().min(1).optional(), 'the sheet of an XLSX workbook to read (absent: the first)', '--sheet'),
+  sheet: named(z.string().min(1).optional(), 'the sheet of an XLSX workbook to read (absent: the first)', '--sheet <name>'),
   dateOrder: named(
     z.enum(['iso', 'day-first', 'month-first']).default('iso'),
     'how dates that are not ISO are read (ISO dates are always accepted)',
@@ -81,7 +81,7 @@ export const importFileInput = z.strictObject({
   /** Share of rejected rows above which the whole file is refused (DESIGN.md §3: 5%). */
   rejectionThreshold: named(probability.default(0.05), 'share of rejected rows above which the whole file is refused', '--max-rejected-share'),
   ...readSettings,
-  delimiter: named(z.enum(delimiterChoices).optional(), 'the CSV delimiter: comma, semicolon, tab or pipe (absent: detected)', '--delimiter'),
+  delimiter: named(z.enum(delimiterChoices).optional(), 'the CSV delimiter: comma, semicolon, tab or pipe (absent: detected)', '--delimiter <comma|semicolon|tab|pipe>'),
 });
 
 export type ImportFileInput = z.input<typeof importFileInput>;
