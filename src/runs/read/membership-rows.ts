@@ -14,7 +14,7 @@ import type { RunSegments } from './run-segments.js';
 import { runModel, storedRun } from './stored-run.js';
 
 /** The decision columns of a review_decisions row. */
-export interface DecisionColumns {
+interface DecisionColumns {
   action: ReviewAction | null;
   segment_key: string | null;
   note: string | null;
@@ -64,7 +64,7 @@ export interface MembershipRecord {
   marketingConsent: 0 | 1 | null;
 }
 
-export function decisionOf(row: DecisionColumns, nameOfKey: ReadonlyMap<string, string>): ReviewDecision | null {
+function decisionOf(row: DecisionColumns, nameOfKey: ReadonlyMap<string, string>): ReviewDecision | null {
   if (row.action === null || row.decided_at === null) return null;
   return {
     action: row.action,
@@ -74,6 +74,17 @@ export function decisionOf(row: DecisionColumns, nameOfKey: ReadonlyMap<string, 
     reviewer: row.reviewer,
     decidedAt: row.decided_at,
     carriedFromRunId: row.carried_from_run_id,
+  };
+}
+
+/** The decision made on a customer in another run (last month's, for the review queue), named with that run's segment names. */
+export function decisionsOfRun(db: Database, runId: number, nameOfKey: ReadonlyMap<string, string>): (customerId: string) => ReviewDecision | null {
+  const statement = db.prepare(
+    'SELECT action, segment_key, note, reviewer, decided_at, carried_from_run_id FROM review_decisions WHERE run_id = ? AND customer_id = ?',
+  );
+  return (customerId) => {
+    const found = statement.get(runId, customerId) as DecisionColumns | undefined;
+    return found ? decisionOf(found, nameOfKey) : null;
   };
 }
 

@@ -7,7 +7,7 @@ import type { Database } from 'better-sqlite3';
 import type { ReviewDecision, ReviewItem, ReviewQueuePage, ReviewQueueQuery } from '../../api/contract.js';
 import { featureLabel } from '../../features/definitions.js';
 import { reviewReasons } from '../review-rules.js';
-import { borderlineWhy, countMemberships, decisionOf, membershipRecords, type DecisionColumns, type MembershipRecord } from './membership-rows.js';
+import { borderlineWhy, countMemberships, decisionsOfRun, membershipRecords, type MembershipRecord } from './membership-rows.js';
 import { runSegments, type RunSegments } from './run-segments.js';
 import { storedRun } from './stored-run.js';
 
@@ -17,19 +17,10 @@ const statusConditions = { all: '', open: 'd.action IS NULL', done: 'd.action IS
 const QUEUE_ORDER = 'm.revenue_cents DESC';
 
 /** What the items of one run need from its parent: segment names by key and the decisions made there. */
-function parentContext(db: Database, parentRunId: number | null) {
+function parentContext(db: Database, parentRunId: number | null): { nameOfKey: ReadonlyMap<string, string>; decisionOf: (customerId: string) => ReviewDecision | null } {
   if (parentRunId === null) return { nameOfKey: new Map<string, string>(), decisionOf: () => null };
-  const parent = runSegments(db, parentRunId);
-  const statement = db.prepare(
-    'SELECT action, segment_key, note, reviewer, decided_at, carried_from_run_id FROM review_decisions WHERE run_id = ? AND customer_id = ?',
-  );
-  return {
-    nameOfKey: parent.nameOfKey,
-    decisionOf: (customerId: string): ReviewDecision | null => {
-      const found = statement.get(parentRunId, customerId) as DecisionColumns | undefined;
-      return found ? decisionOf(found, parent.nameOfKey) : null;
-    },
-  };
+  const { nameOfKey } = runSegments(db, parentRunId);
+  return { nameOfKey, decisionOf: decisionsOfRun(db, parentRunId, nameOfKey) };
 }
 
 function reviewItems(db: Database, segments: RunSegments, records: MembershipRecord[]): ReviewItem[] {
