@@ -100,7 +100,8 @@ function issuePath(path: readonly PropertyKey[]): string {
 }
 
 function problemWithValue(issue: Issue): string {
-  const shown = issue.code !== 'unrecognized_keys' && issue.input !== undefined && (typeof issue.input !== 'object' || issue.input === null);
+  const saysWhere = issue.code === 'custom' && (issue.params as { saysWhere?: boolean } | undefined)?.saysWhere === true;
+  const shown = !saysWhere && issue.code !== 'unrecognized_keys' && issue.input !== undefined && (typeof issue.input !== 'object' || issue.input === null);
   return shown ? `${issue.message} (got ${quote(issue.input)})` : issue.message;
 }
 

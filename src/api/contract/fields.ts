@@ -44,27 +44,28 @@ const CONTROL_CHARACTER = /[\u0000-\u001F\u007F-\u009F]/;
 /** The same, except the line breaks and tabs a multi-line note may hold. */
 const CONTROL_CHARACTER_IN_TEXT = /[\u0000-\u0008\u000B\u000C\u000E-\u001F\u007F-\u009F]/;
 
-function controlCharacterCheck(pattern: RegExp, allowed: string) {
+function controlCharacterCheck(pattern: RegExp, rule: string) {
   return (value: string, context: z.RefinementCtx) => {
     const found = pattern.exec(value);
     if (found) {
       const code = found[0].codePointAt(0)!.toString(16).toUpperCase().padStart(4, '0');
-      context.addIssue({ code: 'custom', message: `must not contain control characters (found U+${code} at character ${found.index + 1}); ${allowed}` });
+      // The message names the character and where it is; the text itself is not repeated (it may be long).
+      context.addIssue({ code: 'custom', message: `${rule} (found U+${code} at character ${found.index + 1})`, params: { saysWhere: true } });
     }
   };
 }
 
 /** One line of text (a name): trimmed, not empty, at most `max` characters, no control characters. */
 export const plainName = (max: number) =>
-  z.string().trim().min(1).max(max).superRefine(controlCharacterCheck(CONTROL_CHARACTER, 'use letters, digits, spaces and punctuation only'));
+  z.string().trim().min(1).max(max).superRefine(controlCharacterCheck(CONTROL_CHARACTER, 'must not contain control characters such as line breaks, tabs or escapes'));
 
 /** Free text (a note): may span lines; no other control characters. */
 export const plainText = (max: number) =>
-  z.string().trim().max(max).superRefine(controlCharacterCheck(CONTROL_CHARACTER_IN_TEXT, 'line breaks and tabs are allowed'));
+  z.string().trim().max(max).superRefine(controlCharacterCheck(CONTROL_CHARACTER_IN_TEXT, 'may hold line breaks and tabs but no other control characters'));
 
 /** Optional one-line text: empty allowed (stored as nothing). */
 export const plainLine = (max: number) =>
-  z.string().trim().max(max).superRefine(controlCharacterCheck(CONTROL_CHARACTER, 'use letters, digits, spaces and punctuation only'));
+  z.string().trim().max(max).superRefine(controlCharacterCheck(CONTROL_CHARACTER, 'must not contain control characters such as line breaks, tabs or escapes'));
 
 /** A non-empty string (an id, a path, a feature name). */
 export const nonEmpty = z.string().trim().min(1);
