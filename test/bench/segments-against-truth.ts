@@ -22,7 +22,7 @@ import { existsSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'no
 import { tmpdir } from 'node:os';
 import { join, resolve } from 'node:path';
 import { parseArgs } from 'node:util';
-import { runSegmentation } from '../../src/runs/run.js';
+import { runMonth } from '../support/core-calls.js';
 import { spendmixJson, type ImportJson } from '../support/cli-runner.js';
 import { CHAIN_SIZE, generateSecondChain } from '../support/second-chain/generate.js';
 import { describeEvaluation, evaluateAgainstTruth, placedLabels, readTruthFile, type Truth, type TruthEvaluation } from '../support/truth-evaluation.js';
@@ -88,17 +88,18 @@ function sklearnAri(work: string, dbPath: string, runId: number, truth: Truth): 
 
 /** A 4-component fit on log visit rate and log basket only, stored as another run of the same month. */
 async function twoFeatureRun(dbPath: string, asOf: string, covariance: 'auto' | 'full'): Promise<number> {
-  const logThenZ = { log1p: true, clipLowerPercentile: null, clipUpperPercentile: null, zScore: true };
   const db = new Database(dbPath);
   try {
-    const summary = await runSegmentation(db, {
+    const summary = await runMonth(db, {
       asOf,
       windowMonths: 12,
       mode: 'refit',
       k: 4,
       covariance,
-      features: ['visits_per_month', 'average_basket'],
-      transforms: { visits_per_month: logThenZ, average_basket: logThenZ },
+      features: [
+        { feature: 'visits_per_month', log1p: true, zScore: true },
+        { feature: 'average_basket', log1p: true, zScore: true },
+      ],
     });
     return summary.runId;
   } finally {
