@@ -331,7 +331,7 @@ export function summarizeRestarts(outcomes: RestartOutcome[], options: ResolvedF
 export function sweepRowOf(fit: FitResult): SweepRow {
   return {
     k: fit.model.components,
-    covarianceType: fit.model.covarianceType,
+    covariance: fit.model.covarianceType,
     logLikelihood: fit.logLikelihood,
     bic: fit.bic,
     aic: fit.aic,

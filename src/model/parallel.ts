@@ -254,9 +254,9 @@ function everyFitRefused(table: SweepResult['table']): InputError {
   const first = table[0];
   return new InputError(
     `Every fit was refused: each has a component too small to estimate its covariance ` +
-      `(for example k = ${first.k} ${first.covarianceType}: ${first.refused}). ` +
+      `(for example k = ${first.k} ${first.covariance}: ${first.refused}). ` +
       'Try fewer components, other features, or a larger regularisation.',
-    { refused: table.map((row) => ({ k: row.k, covariance: row.covarianceType, reason: row.refused })) },
+    { refused: table.map((row) => ({ k: row.k, covariance: row.covariance, reason: row.refused })) },
   );
 }
 

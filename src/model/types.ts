@@ -1,3 +1,4 @@
+import type { SweepRow as ContractSweepRow } from '../api/contract.js';
 /**
  * Public shapes of the mixture engine. Other layers (runs, api, cli) code against these; keep them
  * stable. All matrices are row-major Float64Arrays with their shape written beside them.
@@ -146,21 +147,8 @@ export interface SweepOptions extends Omit<FitOptions, 'components' | 'covarianc
   threads?: number;
 }
 
-export interface SweepRow {
-  k: number;
-  covarianceType: CovarianceType;
-  logLikelihood: number;
-  bic: number;
-  aic: number;
-  icl: number;
-  converged: boolean;
-  iterations: number;
-  parameterCount: number;
-  /** Warnings of that fit, so a table can flag cells that needed regularisation. */
-  warnings: string[];
-  /** Why the fit was refused for model choice (never chosen), or null. */
-  refused: string | null;
-}
+/** One fit of the model-selection table: the contract's row without `chosen` (decided when read). */
+export type SweepRow = Omit<ContractSweepRow, 'chosen'>;
 
 export interface SweepResult {
   /** One row per (k, structure), ordered by structure as given, then k ascending; refused fits included. */

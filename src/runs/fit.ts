@@ -1,27 +1,35 @@
 /**
  * The fitting step of a run: one fit for a fixed k and structure, or the engine's sweep over the
  * k range and structures choosing by BIC or ICL (both lower-is-better), on worker threads. Checks
- * first that the data allow the largest k asked for.
+ * first that the data allow the largest k asked for. Every engine option is passed explicitly from
+ * the run's settings (their defaults are the contract's, src/api/contract/settings.ts).
  */
+import type { ExplicitRunSettings } from '../api/contract.js';
 import { InputError } from '../errors.js';
-import { fitMixtureParallel, sweepMixtures, sweepRowOf, covarianceTypes, type CovarianceType, type DataMatrix, type FitProgress, type InitMethod, type MixtureModel, type SweepRow } from '../model/index.js';
-import type { ResolvedRunSettings } from './types.js';
+import {
+  covarianceTypes,
+  fitMixtureParallel,
+  sweepMixtures,
+  sweepRowOf,
+  type CovarianceType,
+  type DataMatrix,
+  type FitProgress,
+  type MixtureModel,
+  type SweepRow,
+} from '../model/index.js';
+
+/** A row of the model-selection table as stored with the run (`chosen` is decided when read). */
+export type StoredSweepRow = SweepRow;
 
 export interface RunFit {
   model: MixtureModel;
-  sweep: SweepRow[];
+  sweep: StoredSweepRow[];
   warnings: string[];
 }
 
-/**
- * Runs start their restarts from the engine's mix (hierarchical agglomeration, then k-means and
- * random partitions in turn, DESIGN.md §5); the run settings do not offer another start yet.
- */
-const RUN_INIT: InitMethod = 'mixed';
-
 export async function fitForRun(
   data: DataMatrix,
-  settings: ResolvedRunSettings,
+  settings: ExplicitRunSettings,
   options: { signal?: AbortSignal; onProgress?: (progress: FitProgress) => void },
 ): Promise<RunFit> {
   const [kMin, kMax] = settings.k === 'auto' ? [settings.kMin, settings.kMax] : [settings.k, settings.k];
@@ -40,7 +48,7 @@ export async function fitForRun(
     tol: settings.tol,
     maxIterations: settings.maxIterations,
     regularization: settings.regularization,
-    init: RUN_INIT,
+    init: settings.init,
     missing: anyMissing ? ('em' as const) : ('reject' as const),
     signal: options.signal,
     onProgress: options.onProgress,

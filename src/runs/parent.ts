@@ -9,7 +9,7 @@ import { transformValue, type FeatureTransform } from '../features/transforms.js
 import { modelFromJSON, type MixtureModel } from '../model/index.js';
 import { decodeFloat64 } from './blobs.js';
 import { segmentMoments, type SegmentMoments } from './movement.js';
-import type { ReviewAction } from './types.js';
+import type { ReviewAction } from '../api/contract.js';
 
 export interface ParentDecision {
   customerId: string;

@@ -14,7 +14,7 @@
  */
 import { featureLabel } from '../features/definitions.js';
 import { marginalLogDensity, type MixtureModel } from '../model/index.js';
-import type { BorderlineWhy, WhyTerm } from './types.js';
+import type { BorderlineWhy, WhyTerm } from '../api/contract.js';
 
 /** Terms smaller than this (in log-odds) are not worth a word unless nothing else pulls. */
 const NEGLIGIBLE_TERM = 0.05;

@@ -43,7 +43,7 @@ async function child(path: string, rows: number, kMax: number, threads: number |
     { componentRange: [1, kMax], covarianceTypes, restarts, seed: 0, tol: TOL, maxIterations: MAX_ITERATIONS, regularization: 1e-6, init, criterion: 'bic', threads },
   );
   const seconds = (performance.now() - started) / 1000;
-  const cells: Cell[] = sweep.table.map((row) => ({ k: row.k, covariance: row.covarianceType, iterations: row.iterations, bic: row.bic }));
+  const cells: Cell[] = sweep.table.map((row) => ({ k: row.k, covariance: row.covariance, iterations: row.iterations, bic: row.bic }));
   console.log(JSON.stringify({ seconds, cells }));
 }
 

@@ -55,14 +55,14 @@ describe('worker threads', () => {
       threads: 2,
       onProgress: (progress) => seen.add(`${progress.covarianceType}/${progress.k}/${progress.restart}`),
     });
-    expect(sweep.table.map((row) => `${row.covarianceType}${row.k}`)).toEqual(['full1', 'full2', 'full3', 'full4', 'diag1', 'diag2', 'diag3', 'diag4']);
+    expect(sweep.table.map((row) => `${row.covariance}${row.k}`)).toEqual(['full1', 'full2', 'full3', 'full4', 'diag1', 'diag2', 'diag3', 'diag4']);
     expect(seen.size).toBe(16);
     const lowest = Math.min(...sweep.table.map((row) => row.bic));
     expect(sweep.bestRow.bic).toBe(lowest);
     // On Old Faithful BIC prefers two full-covariance groups (the recorded scikit-learn sweep in test/reference agrees).
-    expect([sweep.bestRow.covarianceType, sweep.bestRow.k]).toEqual(['full', 2]);
+    expect([sweep.bestRow.covariance, sweep.bestRow.k]).toEqual(['full', 2]);
     for (const row of sweep.table) {
-      const single = fitMixture(faithful, { ...fitSettings, components: row.k, covarianceType: row.covarianceType, restarts: 2 });
+      const single = fitMixture(faithful, { ...fitSettings, components: row.k, covarianceType: row.covariance, restarts: 2 });
       expect(row.logLikelihood).toBe(single.logLikelihood);
       expect(row.icl).toBe(single.icl);
     }

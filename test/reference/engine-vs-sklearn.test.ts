@@ -168,7 +168,7 @@ for (const datasetName of datasetNames) {
       const sweep = await ourSweep(datasetName);
       expect(sweep.table).toHaveLength(covarianceTypes.length * dataset.bicSweep.ks.length);
       for (const reference of dataset.bicSweep.structures) {
-        const ourRows = sweep.table.filter((row) => row.covarianceType === reference.covariance);
+        const ourRows = sweep.table.filter((row) => row.covariance === reference.covariance);
         expect(ourRows.map((row) => row.k)).toEqual(dataset.bicSweep.ks);
         const theirValid = reference.table.filter((row) => row.smallestVarianceRatio >= RELATIVE_VARIANCE_FLOOR);
         const winnerK = bicWinner(theirValid);
