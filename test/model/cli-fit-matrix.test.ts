@@ -112,7 +112,7 @@ describe('spendmix fit-matrix', () => {
       [['--input', faithfulCsv, '--k', '2', '--covariance', 'round'], /\(covariance, --covariance\) must be one of full, diag, spherical, tied \(got "round"\)/],
       [['--input', faithfulCsv, '--k', '2'], /\(covariance, --covariance\) is required/],
       [['--input', join(folder, 'nowhere.csv'), '--k', '2', '--covariance', 'full'], /Cannot read --input/],
-      [['--input', faithfulCsv, '--k', '2', '--covariance', 'full', '--init', 'best'], /\(init, --init\) must be one of kmeans, kmeans\+\+, random \(got "best"\)/],
+      [['--input', faithfulCsv, '--k', '2', '--covariance', 'full', '--init', 'best'], /\(init, --init\) must be one of mixed, hierarchical, kmeans, kmeans\+\+, random, random-partition \(got "best"\)/],
       [['--input', faithfulCsv, '--k', '2', '--covariance', 'full', '--k-max', '4'], /\(kMax, --k-max\) applies only with k auto \(--k auto\)/],
       [['--input', faithfulCsv, '--k', '200', '--covariance', 'full'], /too few/],
     ];
