@@ -1,5 +1,3 @@
-import { existsSync, statSync } from 'node:fs';
-import { dirname, resolve } from 'node:path';
 import { InputError } from '../errors.js';
 import { computedFeatureNames, featureDescriptions } from '../features/definitions.js';
 import { dataRange } from '../features/compute.js';
@@ -75,22 +73,6 @@ function pageOf<T>(runId: number, page: { total: number; offset: number; items: 
   return { runId, total: page.total, offset: page.offset, rows: page.items };
 }
 
-/** An input file the user named: it must exist and be a file; the message says which. */
-function requireReadableFile(path: string): string {
-  const absolute = resolve(path);
-  if (!existsSync(absolute)) throw new InputError(`File ${absolute} does not exist.`);
-  if (!statSync(absolute).isFile()) throw new InputError(`${absolute} is a folder, not a file.`);
-  return absolute;
-}
-
-/** An output path: its folder must exist (the exporter reports everything else). */
-function requireWritableTarget(path: string): string {
-  const absolute = resolve(path);
-  if (!existsSync(dirname(absolute))) throw new InputError(`Folder ${dirname(absolute)} does not exist; choose an existing folder.`);
-  if (existsSync(absolute) && statSync(absolute).isDirectory()) throw new InputError(`${absolute} is a folder; give a file name.`);
-  return absolute;
-}
-
 /**
  * The one handler map: each takes validated input (see `callApi`), calls the core and returns the
  * contract's output. The CLI, Electron IPC and the browser host all go through it.
@@ -104,7 +86,7 @@ export const handlers = {
     cautions: [...cautions],
   }),
   openDatabase: (session, input) => {
-    session.open(input.path);
+    session.open(session.files.databasePath(input.path));
     return databaseInfo(session);
   },
   databaseInfo: (session) => databaseInfo(session),
@@ -152,7 +134,7 @@ export const handlers = {
   },
   previewFile: async (session, input) => {
     const preview = await previewFile(session.db(), {
-      path: requireReadableFile(input.path),
+      path: session.files.inputFile(input.path),
       kind: input.kind,
       mapping: input.mapping ? toCoreMapping(input.mapping) : undefined,
       rows: input.rows,
@@ -225,11 +207,11 @@ export const handlers = {
   importFile: (session, input) =>
     session.startTask('importFile', {
       ...input,
-      path: requireReadableFile(input.path),
+      path: session.files.inputFile(input.path),
       mapping: input.mapping ? toCoreMapping(input.mapping) : undefined,
     }),
   startRun: (session, input) => session.startTask('startRun', input),
-  exportRun: (session, input) => session.startTask('exportRun', { ...input, out: requireWritableTarget(input.out) }),
+  exportRun: (session, input) => session.startTask('exportRun', { ...input, out: session.files.exportTarget(input.out) }),
   loadDemo: (session, input) => session.startTask('loadDemo', { ...input, customers: input.customers ?? session.demoCustomers }),
   cancelTask: (session, input) => session.tasks.cancel(input.taskId),
   taskStatus: (session, input) => session.tasks.status(input.taskId),

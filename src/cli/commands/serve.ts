@@ -1,5 +1,5 @@
 import { resolve } from 'node:path';
-import { startHost, type RunningHost } from '../../api/http-host.js';
+import { DEFAULT_MAX_UPLOAD_BYTES, startHost, type RunningHost } from '../../api/http-host.js';
 import { defaultRendererDir } from '../../api/package-root.js';
 import { ApiSession } from '../../api/session.js';
 import { InputError } from '../../errors.js';
@@ -10,6 +10,7 @@ interface ServeOptions {
   port: number;
   renderer?: string;
   demoCustomers?: number;
+  maxUploadMib: number;
   json?: boolean;
 }
 
@@ -40,8 +41,19 @@ export const registerServe: RegisterCommand = (program, io, setExitCode) => {
     .option('--port <n>', 'port on 127.0.0.1; 0 picks a free one', parseInteger('--port', 0, 65535), 0)
     .option('--renderer <dir>', 'folder of the built screens (default: dist/renderer, made by `npm run build:renderer`)')
     .option('--demo-customers <n>', 'size of the demo chain the screens load (default 6,000; smaller loads faster)', parseInteger('--demo-customers', 50, 200_000))
+    .option(
+      '--max-upload-mib <n>',
+      'largest file the screens may upload for an import, in MiB',
+      parseInteger('--max-upload-mib', 1, 1024 * 1024),
+      DEFAULT_MAX_UPLOAD_BYTES / 2 ** 20,
+    )
     .option('--json', 'print one JSON object {url} once listening')
-    .addHelpText('after', '\nOpen the printed address (it carries the session token) in a browser; every /api/ request needs that token.')
+    .addHelpText(
+      'after',
+      '\nOpen the printed address (it carries the session token) in a browser; every /api/ request needs that token.\n' +
+        'The host works on the --db database only, reads only files uploaded into its private session folder\n' +
+        '(up to --max-upload-mib each, default 2048 = 2 GiB), and hands exports to the browser as downloads.',
+    )
     .action(async (options: ServeOptions) => {
       const json = Boolean(options.json);
       let host: RunningHost | undefined;
@@ -54,6 +66,7 @@ export const registerServe: RegisterCommand = (program, io, setExitCode) => {
             session,
             port: options.port,
             rendererDir: options.renderer ? resolve(options.renderer) : defaultRendererDir(),
+            maxUploadBytes: options.maxUploadMib * 2 ** 20,
           });
         } catch (error) {
           await session.close();
