@@ -74,7 +74,9 @@ export const registerServe: RegisterCommand = (program, io, setExitCode) => {
         }
         return {
           result: { url: host.url },
-          human: ({ url }) => `Spendmix is serving ${session!.dbPath} at\n  ${url}\nOpen it in a browser; press Ctrl+C to stop.`,
+          human: ({ url }) =>
+            `Spendmix is serving ${session!.dbPath} at\n  ${url}\nOpen it in a browser; press Ctrl+C to stop. ` +
+            `Files are uploaded for import (up to ${options.maxUploadMib.toLocaleString('en-GB')} MiB each) and exports downloaded.`,
         };
       });
       if (host && session) {
