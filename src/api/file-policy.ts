@@ -36,11 +36,19 @@ function writableTarget(path: string): string {
   return absolute;
 }
 
+/** A database file to open or create; never an in-memory one (worker threads open the same file). */
+export function databaseFile(path: string): string {
+  if (path.trim() === '' || path === ':memory:') {
+    throw new InputError("Give a database file: the app's worker threads open the same file, so an in-memory database cannot be used.");
+  }
+  return resolve(path);
+}
+
 /** The desktop app and the CLI: the paths the user chose. */
 export const userPaths: FilePolicy = {
   inputFile: existingFile,
   exportTarget: writableTarget,
-  databasePath: (path) => resolve(path),
+  databasePath: databaseFile,
   close: () => undefined,
 };
 

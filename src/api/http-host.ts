@@ -6,7 +6,7 @@ import { extname, join, normalize, resolve, sep } from 'node:path';
 import { InputError } from '../errors.js';
 import { httpStatusFor, toApiError } from './api-errors.js';
 import { contentSecurityPolicy } from './content-security-policy.js';
-import { tokenHeader, type CallOutcome, type TaskEvent } from './contract.js';
+import { DEFAULT_MAX_UPLOAD_MIB, tokenHeader, type CallOutcome, type TaskEvent } from './contract.js';
 import { SessionFolder } from './file-policy.js';
 import { callApiOutcome } from './handlers.js';
 import type { ApiSession } from './session.js';
@@ -19,7 +19,7 @@ export const HOST_ADDRESS = '127.0.0.1';
 /** Largest JSON body a call may send; inputs are small (files go through /api/upload). */
 const MAX_JSON_BYTES = 1024 * 1024;
 /** Largest file an upload may send unless `serve --max-upload-mib` says otherwise: 2 GiB. */
-export const DEFAULT_MAX_UPLOAD_BYTES = 2 * 1024 ** 3;
+export const DEFAULT_MAX_UPLOAD_BYTES = DEFAULT_MAX_UPLOAD_MIB * 2 ** 20;
 /** SSE comment sent this often so idle connections are not dropped by anything in between. */
 const HEARTBEAT_MS = 15_000;
 

@@ -8,7 +8,7 @@
 import type { Database } from 'better-sqlite3';
 import { InputError, throwIfAborted } from '../errors.js';
 import { isoDateFromDay } from '../store/days.js';
-import { computedFeatureNames, defaultFreshCategories } from './definitions.js';
+import { computedFeatureNames } from './definitions.js';
 import { DAYS_PER_MONTH, featureWindow, type FeatureWindow } from './window.js';
 
 /**
@@ -31,7 +31,8 @@ export interface ComputeFeaturesOptions {
   windowMonths: number;
   minPurchases: number;
   minTenureMonths: number;
-  freshCategories?: readonly string[];
+  /** Departments counted as fresh (the run's setting; its default is the contract's). */
+  freshCategories: readonly string[];
   signal?: AbortSignal;
 }
 
@@ -126,7 +127,7 @@ class DoubleColumn {
 /** Computes the features of DESIGN.md §4 from receipts and visits. */
 export function computeReceiptFeatures(db: Database, options: ComputeFeaturesOptions): FeatureTable {
   const window = featureWindow(options.asOf, options.windowMonths);
-  const fresh = categorySpellings(options.freshCategories ?? defaultFreshCategories);
+  const fresh = categorySpellings(options.freshCategories);
   const params = { start: window.startDay, last3: window.last3StartDay, prev3: window.prev3StartDay, asOf: window.asOfDay };
 
   const joined = new Map<string, number>();

@@ -86,9 +86,6 @@ export const featureDescriptions: Record<ComputedFeatureName, FeatureDescription
   },
 };
 
-/** Departments counted as fresh by default (common practice in grocery reporting). */
-export const defaultFreshCategories: readonly string[] = ['fresh', 'produce', 'fruit', 'vegetables', 'meat', 'fish', 'bakery', 'dairy', 'deli'];
-
 /** Label for any feature name, including imported ones (which are shown as they are named). */
 export function featureLabel(name: string): string {
   return (featureDescriptions as Record<string, FeatureDescription>)[name]?.label ?? name.replace(/_/g, ' ');
@@ -96,4 +93,9 @@ export function featureLabel(name: string): string {
 
 export function isComputedFeature(name: string): name is ComputedFeatureName {
   return (computedFeatureNames as readonly string[]).includes(name);
+}
+
+/** Unit of any feature: a computed one's own, none for imported features (we do not know it). */
+export function featureUnit(name: string): string {
+  return isComputedFeature(name) ? featureDescriptions[name].unit : '';
 }
