@@ -1,5 +1,5 @@
 import { z, ZodError } from 'zod';
-import { CancelledError, InputError } from '../errors.js';
+import { CancelledError, InputError, environmentError } from '../errors.js';
 import { nameOf, shortWords, type ApiError, type FieldName } from './contract.js';
 
 /**
@@ -144,6 +144,9 @@ export function toApiError(error: unknown): ApiError {
     const details = error.details && Object.keys(error.details).some((key) => key !== 'issues') ? error.details : undefined;
     return { kind: 'input', message: error.message, ...(issues ? { issues } : {}), ...(details ? { details } : {}) };
   }
+  // A failure of the user's environment (permissions, full disk, locked or damaged file) is theirs to fix.
+  const explained = environmentError(error);
+  if (explained) return toApiError(explained);
   const message = error instanceof Error ? error.message : String(error);
   return { kind: 'internal', message };
 }

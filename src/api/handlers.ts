@@ -35,7 +35,6 @@ import {
   type LongTaskMethod,
 } from './contract.js';
 import { appVersion } from './package-root.js';
-import { inputFilePath, outputFilePath } from './paths.js';
 import type { ApiSession } from './session.js';
 
 export type Handler<M extends ApiMethod> = (session: ApiSession, input: ApiParsedInput<M>) => Promise<ApiOutput<M>> | ApiOutput<M>;
@@ -63,7 +62,7 @@ function databaseInfo(session: ApiSession): DatabaseInfo {
 /**
  * The one handler map: each takes validated input (see `callApi`), calls the core and returns the
  * contract's output. The CLI, Electron IPC and the browser host all go through it. Paths go
- * through ./paths.ts, one function per kind.
+ * through the session's file policy (./file-policy.ts), one function per kind.
  */
 export const handlers = {
   appInfo: (session) => ({
@@ -74,7 +73,7 @@ export const handlers = {
     cautions: [...cautions],
   }),
   openDatabase: (session, input) => {
-    session.open(input.path);
+    session.open(session.files.databasePath(input.path));
     return databaseInfo(session);
   },
   databaseInfo: (session) => databaseInfo(session),
@@ -95,7 +94,7 @@ export const handlers = {
   },
   previewFile: async (session, input) => {
     const preview = await previewFile(session.db(), {
-      path: inputFilePath(session, input.path),
+      path: session.files.inputFile(input.path),
       kind: input.kind,
       mapping: coreMappingOf(input),
       rows: input.rows,
@@ -122,12 +121,12 @@ export const handlers = {
   importFile: (session, input) =>
     session.startTask('importFile', {
       ...input,
-      path: inputFilePath(session, input.path),
+      path: session.files.inputFile(input.path),
       mapping: coreMappingOf(input),
       ignoreColumns: undefined,
     }),
   startRun: (session, input) => session.startTask('startRun', input),
-  exportRun: (session, input) => session.startTask('exportRun', { ...input, out: outputFilePath(session, input.out) }),
+  exportRun: (session, input) => session.startTask('exportRun', { ...input, out: session.files.exportTarget(input.out) }),
   loadDemo: (session, input) => session.startTask('loadDemo', { ...input, customers: input.customers ?? session.demoCustomers }),
   cancelTask: (session, input) => session.tasks.cancel(input.taskId),
   taskStatus: (session, input) => session.tasks.status(input.taskId),

@@ -123,7 +123,8 @@ describe('every handler rejects malformed input with a clear error naming the fi
 
   it('reports a missing file or run as bad input, not as an internal failure', async () => {
     const missingFile = await callApiOutcome(session, 'importFile', { path: join(folder, 'nowhere.csv'), kind: 'receipts' });
-    expect(missingFile.ok === false && missingFile.error).toMatchObject({ kind: 'input', message: expect.stringMatching(/does not exist/) });
+    // The browser shell reads only files uploaded into its session (file-policy.ts).
+    expect(missingFile.ok === false && missingFile.error).toMatchObject({ kind: 'input', message: expect.stringMatching(/was not uploaded in this session/) });
     const missingRun = await callApiOutcome(session, 'segments', { runId: 99 });
     expect(missingRun.ok === false && missingRun.error.kind).toBe('input');
     const missingTask = await callApiOutcome(session, 'taskStatus', { taskId: 'no-such-task' });

@@ -197,10 +197,17 @@ describe('Spendmix in Chromium through the browser host', () => {
   it('exports the run and the workbook reads back with the counts the screen shows', async () => {
     await openScreen(page, 'export');
     await page.getByTestId('export-cautions').waitFor({ state: 'visible' });
-    const out = join(folder, 'november-campaign.xlsx');
-    await page.getByTestId('export-path').fill(out);
+    // In the browser the export is a download: the host writes it into its session folder and
+    // serves it once; the screen starts the download when the export is written.
+    await page.getByTestId('export-path').fill('november-campaign.xlsx');
+    const download = page.waitForEvent('download', { timeout: taskTimeout });
     await page.getByTestId('export-start').click();
     await waitForTask(page, 'export-task');
+    const saved = await download;
+    expect(saved.suggestedFilename()).toBe('november-campaign.xlsx');
+    const out = join(folder, 'downloaded-campaign.xlsx');
+    await saved.saveAs(out);
+    await expect.poll(() => page.getByTestId('export-download').getAttribute('data-state')).toBe('saved');
     await screenshot(page, '09-export');
     const exported = Number((await page.getByTestId('export-count-exported').innerText()).replace(/,/g, ''));
     const suppressed = Number((await page.getByTestId('export-count-suppressed').innerText()).replace(/,/g, ''));

@@ -1,5 +1,6 @@
 import type { ApiMethod, Api, LongTaskMethod, TaskResults } from './methods.js';
 import type { ApiError, TaskEvent, TaskProgress, TaskStarted } from './tasks.js';
+import type { ExportResult } from './export.js';
 
 /** Commands the application menu sends to the screens. */
 export type MenuCommand =
@@ -20,6 +21,11 @@ export interface SpendmixShell {
    * Electron, an upload into the host's session folder in the browser.
    */
   pathForFile(file: File): Promise<string>;
+  /**
+   * Hands a finished export to the user. Electron: nothing to do, the file is where the user
+   * chose. Browser: the host wrote it into its session folder; this downloads it (served once).
+   */
+  deliverExport(result: ExportResult): Promise<void>;
   onMenuCommand(listener: (command: MenuCommand) => void): () => void;
 }
 
@@ -46,9 +52,12 @@ export interface SpendmixBridge {
  * - `POST /api/<method>` with a JSON body → 200 `CallOutcome` ok, or 400 (input) / 409
  *   (cancelled) / 500 (internal) with `CallOutcome` not ok;
  * - `GET /api/events` → server-sent events, one `TaskEvent` per `data:` line;
- * - `POST /api/upload?name=<file name>` with the file's bytes → `{ path }` in the session folder.
+ * - `POST /api/upload?name=<file name>` with the file's bytes → `{ path }` in the session folder
+ *   (413 above the host's upload limit);
+ * - `GET /api/download?path=<ExportResult.out>` → the finished export as an attachment, once.
  * Every `/api/` request carries the session token, as the `x-spendmix-token` header or, where a
- * header cannot be set (EventSource), the `token` query parameter; without it: 401.
+ * header cannot be set (EventSource), the `token` query parameter; without it: 401. A request a
+ * browser sends from any page but the host's own is refused with 403.
  */
 export const tokenHeader = 'x-spendmix-token';
 /** The header's name as a type, so the renderer (which may import types only) is checked against it. */

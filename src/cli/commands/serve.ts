@@ -1,6 +1,6 @@
 import { resolve } from 'node:path';
 import { parseInput } from '../../api/api-errors.js';
-import { serveInput } from '../../api/contract.js';
+import { DEFAULT_MAX_UPLOAD_MIB, serveInput } from '../../api/contract.js';
 import { startHost, type RunningHost } from '../../api/http-host.js';
 import { defaultRendererDir } from '../../api/package-root.js';
 import { ApiSession } from '../../api/session.js';
@@ -34,7 +34,12 @@ export const registerServe: RegisterCommand = (program, io, setExitCode) => {
     serveFlags,
   )
     .option('--json', 'print one JSON object {url} once listening')
-    .addHelpText('after', '\nOpen the printed address (it carries the session token) in a browser; every /api/ request needs that token.')
+    .addHelpText(
+      'after',
+      '\nOpen the printed address (it carries the session token) in a browser; every /api/ request needs that token.\n' +
+        'The host works on the --db database only, reads only files uploaded into its private session folder\n' +
+        `(up to --max-upload-mib each, default ${DEFAULT_MAX_UPLOAD_MIB} MiB), and hands exports to the browser as downloads.`,
+    )
     .action(async (flags: Record<string, unknown>) => {
       const json = Boolean(flags.json);
       let host: RunningHost | undefined;
@@ -47,6 +52,7 @@ export const registerServe: RegisterCommand = (program, io, setExitCode) => {
             session,
             port: options.port,
             rendererDir: options.renderer ? resolve(options.renderer) : defaultRendererDir(),
+            maxUploadBytes: options.maxUploadMib * 2 ** 20,
           });
         } catch (error) {
           await session.close();
@@ -54,7 +60,9 @@ export const registerServe: RegisterCommand = (program, io, setExitCode) => {
         }
         return {
           result: { url: host.url },
-          human: ({ url }) => `Spendmix is serving ${session!.dbPath} at\n  ${url}\nOpen it in a browser; press Ctrl+C to stop.`,
+          human: ({ url }) =>
+            `Spendmix is serving ${session!.dbPath} at\n  ${url}\nOpen it in a browser; press Ctrl+C to stop. ` +
+            `Files are uploaded for import (up to ${options.maxUploadMib.toLocaleString('en-GB')} MiB each) and exports downloaded.`,
         };
       });
       if (host && session) {

@@ -394,6 +394,7 @@ export const fakeClient: SpendmixClient = {
     chooseOpenFile: async () => null,
     chooseSavePath: async () => null,
     pathForFile: async (file) => `/tmp/uploads/${file.name}`,
+    deliverExport: async () => undefined,
     onMenuCommand: () => () => undefined,
   },
   onTaskEvent: (listener) => {
