@@ -257,6 +257,10 @@ export interface ModelOptions {
 }
 
 const percentile = z.number().min(0).max(100);
+/** The trailing window and the too-new thresholds: shared by a run and by the feature query. */
+const windowMonths = z.number().int().min(1).max(60).default(12);
+const minPurchases = z.number().int().min(0).default(2);
+const minTenureMonths = z.number().int().min(0).default(2);
 const transformSpec = z.strictObject({
   feature: nonEmpty('feature'),
   log1p: z.boolean().default(false),
@@ -268,7 +272,7 @@ const transformSpec = z.strictObject({
 export const startRunInput = z
   .strictObject({
     asOf: isoDate,
-    windowMonths: z.number().int().min(1).max(60).default(12),
+    windowMonths,
     mode: z.enum(['refit', 'rescore']).default('refit'),
     /** Parent run; absent = the latest run with an earlier as-of date; null = none (start afresh). */
     parentRunId: runId.nullable().optional(),
@@ -287,8 +291,8 @@ export const startRunInput = z
     borderlineMargin: probability.default(0.2),
     /** Log-density percentile under which a customer is atypical (DESIGN.md §5: 1). */
     atypicalPercentile: z.number().min(0).max(50).default(1),
-    minPurchases: z.number().int().min(0).default(2),
-    minTenureMonths: z.number().int().min(0).default(2),
+    minPurchases,
+    minTenureMonths,
   })
   .refine((value) => value.kMin <= value.kMax, { message: 'kMin must not exceed kMax', path: ['kMin'] });
 export type RunSettings = z.output<typeof startRunInput>;
@@ -644,6 +648,60 @@ export interface DemoResult {
 }
 
 // ---------------------------------------------------------------------------------------------
+// Warehouse: SQL for the chain's own engine (DESIGN.md §8a; CLI features-sql and model-sql)
+
+/** Engines the generated SQL is written for (src/warehouse/dialects.ts holds the same list; a test checks). */
+export const sqlDialects = ['duckdb', 'postgres', 'sqlite'] as const;
+export type SqlDialectName = (typeof sqlDialects)[number];
+const sqlDialect = z.enum(sqlDialects, { error: `must be one of ${sqlDialects.join(', ')}` }).default('duckdb');
+/** A table name as the analyst's engine knows it; src/warehouse refuses anything but plain (schema.)table names. */
+const tableName = nonEmpty('table name').max(200);
+
+export const featuresSqlInput = z.strictObject({
+  asOf: isoDate,
+  windowMonths,
+  minPurchases,
+  minTenureMonths,
+  dialect: sqlDialect,
+  receiptsTable: tableName.default('receipts'),
+  visitsTable: tableName.default('visits'),
+  customersTable: tableName.default('customers'),
+});
+/** The feature query: one row per customer with customer_id, the features under the app's names, too_new. */
+export interface FeaturesSqlResult {
+  sql: string;
+  dialect: SqlDialectName;
+  asOf: string;
+  windowMonths: number;
+  /** First day of the window (YYYY-MM-DD); the window ends on asOf. */
+  windowStart: string;
+  tables: { receipts: string; visits: string; customers: string };
+  /** Output columns in order. */
+  columns: string[];
+}
+
+export const modelSqlInput = z.strictObject({
+  /** A run id, or 'latest' for the newest run. */
+  runId: z.union([runId, z.literal('latest')]),
+  dialect: sqlDialect,
+  featuresTable: tableName.default('customer_features'),
+});
+/** A run's scoring query: reads customer_id and `features` from the table, returns `columns`. */
+export interface ModelSqlResult {
+  sql: string;
+  dialect: SqlDialectName;
+  runId: number;
+  featuresTable: string;
+  /** Feature columns the query reads (original units), in model order. */
+  features: string[];
+  segments: string[];
+  components: number;
+  columns: string[];
+  /** How a row with an empty feature is treated. */
+  emptyValues: 'scored on the observed features' | 'not scored';
+}
+
+// ---------------------------------------------------------------------------------------------
 // Tasks
 
 export const taskInput = z.strictObject({ taskId: nonEmpty('taskId') });
@@ -682,6 +740,8 @@ export const apiSchemas = {
   movement: runInput,
   exportRun: exportRunInput,
   loadDemo: loadDemoInput,
+  featuresSql: featuresSqlInput,
+  modelSql: modelSqlInput,
   cancelTask: taskInput,
   taskStatus: taskInput,
 } as const;
@@ -724,6 +784,8 @@ export interface ApiOutputs {
   movement: MovementResult;
   exportRun: TaskStarted<'exportRun'>;
   loadDemo: TaskStarted<'loadDemo'>;
+  featuresSql: FeaturesSqlResult;
+  modelSql: ModelSqlResult;
   cancelTask: CancelResult;
   taskStatus: TaskStatus;
 }

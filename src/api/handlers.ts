@@ -17,7 +17,9 @@ import {
   getSweepTable,
   listRuns,
   renameSegment,
+  resolveRunId,
 } from '../runs/repository.js';
+import { featuresSql, modelSql, readScoringModel } from '../warehouse/index.js';
 import { toCoreMapping, toScreenMapping } from './mapping-direction.js';
 import { importReportPage } from './import-report-page.js';
 import { previewFile } from '../ingest/preview.js';
@@ -231,6 +233,24 @@ export const handlers = {
   startRun: (session, input) => session.startTask('startRun', input),
   exportRun: (session, input) => session.startTask('exportRun', { ...input, out: requireWritableTarget(input.out) }),
   loadDemo: (session, input) => session.startTask('loadDemo', { ...input, customers: input.customers ?? session.demoCustomers }),
+  featuresSql: (_session, input) => {
+    const query = featuresSql(input);
+    return {
+      sql: query.sql,
+      dialect: query.dialect,
+      asOf: input.asOf,
+      windowMonths: input.windowMonths,
+      windowStart: query.windowStart,
+      tables: { receipts: input.receiptsTable, visits: input.visitsTable, customers: input.customersTable },
+      columns: query.columns,
+    };
+  },
+  modelSql: (session, input) => {
+    const db = session.db();
+    const runId = resolveRunId(db, input.runId);
+    const query = modelSql(readScoringModel(db, runId), { dialect: input.dialect, featuresTable: input.featuresTable });
+    return { ...query, runId, featuresTable: input.featuresTable };
+  },
   cancelTask: (session, input) => session.tasks.cancel(input.taskId),
   taskStatus: (session, input) => session.tasks.status(input.taskId),
 } satisfies HandlerMap;
