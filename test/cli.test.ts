@@ -6,27 +6,14 @@ import { fileURLToPath } from 'node:url';
 import type { Command } from 'commander';
 import { afterEach, describe, expect, it } from 'vitest';
 import { commandModules } from '../src/cli/commands/index.js';
-import { buildProgram, runCli } from '../src/cli/program.js';
-import { runCommand, type CliIo, type RegisterCommand } from '../src/cli/run-command.js';
+import { buildProgram } from '../src/cli/program.js';
+import { runCommand, type RegisterCommand } from '../src/cli/run-command.js';
 import { InputError } from '../src/errors.js';
+import { cli } from './support/cli-capture.js';
 
 const projectRoot = fileURLToPath(new URL('..', import.meta.url));
 const freshFolder = () => mkdtempSync(join(tmpdir(), 'spendmix-cli-'));
 
-interface Captured {
-  code: number;
-  stdout: string;
-  stderr: string;
-}
-
-/** Runs the CLI in-process, as `npm run -s spendmix -- …argv` would, capturing its output. */
-async function cli(...argv: string[]): Promise<Captured> {
-  let stdout = '';
-  let stderr = '';
-  const io: CliIo = { stdout: (text) => void (stdout += text), stderr: (text) => void (stderr += text) };
-  const code = await runCli(argv, io);
-  return { code, stdout, stderr };
-}
 
 /** The one JSON object a --json run prints: exactly one line on stdout, nothing else. */
 function onlyJson(stdout: string): Record<string, unknown> {

@@ -2,27 +2,18 @@
  * Per-customer features for a trailing window, computed in SQLite: one pass over the window's
  * receipts (conditional aggregates give the last-3-month and prior-3-month sums, and one index
  * seek per customer its first receipt day), one over the visits, and a look-up of join dates; then
- * the formulas, compiled once. Aggregates and formulas are the shared data of ./definitions.ts. The population is every customer with at least one
- * receipt row in the window; customers with none there have lapsed and are not part of the run.
+ * the formulas, compiled once. Aggregates and formulas are the shared data of ./definitions.ts.
+ * The population is every customer with at least one receipt row in the window; customers with
+ * none there have lapsed and are not part of the run.
  */
 import type { Database } from 'better-sqlite3';
 import { InputError, throwIfAborted } from '../errors.js';
 import { isoDateFromDay } from '../store/days.js';
-import {
-  categorySpellings,
-  customerInputs,
-  defaultFreshCategories,
-  derivedValues,
-  featureFormulas,
-  formulaConstants,
-  receiptAggregates,
-  tooNewCondition,
-  visitAggregates,
-  type RowAggregate,
-  type RowCondition,
-} from './definitions.js';
+import { categorySpellings, defaultFreshCategories, featureDefinitions, type RowAggregate, type RowCondition } from './definitions.js';
 import { javaScriptSyntax, renderCondition, renderExpression } from './expressions.js';
 import { featureWindow, type FeatureWindow } from './window.js';
+
+const { receiptAggregates, visitAggregates, formulaConstants, customerInputs, derivedValues, featureFormulas, tooNewCondition } = featureDefinitions;
 
 /**
  * Features of the customers of a run, in original units. `columns[j][i]` is feature `names[j]` of

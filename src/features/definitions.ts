@@ -264,3 +264,14 @@ export function featureLabel(name: string): string {
 export function isComputedFeature(name: string): name is ComputedFeatureName {
   return (computedFeatureNames as readonly string[]).includes(name);
 }
+
+/** Everything a renderer of the definitions reads: the app's computation and the generated SQL. */
+export const featureDefinitions = {
+  receiptAggregates,
+  visitAggregates,
+  formulaConstants,
+  customerInputs,
+  derivedValues,
+  featureFormulas,
+  tooNewCondition,
+} as const;

@@ -48,36 +48,30 @@ export const atLeast = compare('>=');
 export const allOf = (...conditions: Condition[]): Condition => ({ kind: 'all', conditions });
 export const anyOf = (...conditions: Condition[]): Condition => ({ kind: 'any', conditions });
 
-/** The names an expression reads, in first-use order. */
-export function namesRead(expression: Expression | Condition, into: string[] = []): string[] {
-  switch (expression.kind) {
+function children(node: Expression | Condition): (Expression | Condition)[] {
+  switch (node.kind) {
     case 'value':
-      if (!into.includes(expression.name)) into.push(expression.name);
-      break;
-    case 'arithmetic':
-    case 'larger':
-    case 'smaller':
-    case 'compare':
-      namesRead(expression.left, into);
-      namesRead(expression.right, into);
-      break;
+    case 'number':
+    case 'missing':
+      return [];
     case 'negate':
-      namesRead(expression.operand, into);
-      break;
+      return [node.operand];
     case 'orElse':
-      namesRead(expression.value, into);
-      namesRead(expression.fallback, into);
-      break;
+      return [node.value, node.fallback];
     case 'choose':
-      namesRead(expression.test, into);
-      namesRead(expression.then, into);
-      namesRead(expression.otherwise, into);
-      break;
+      return [node.test, node.then, node.otherwise];
     case 'all':
     case 'any':
-      for (const condition of expression.conditions) namesRead(condition, into);
-      break;
+      return node.conditions;
+    default:
+      return [node.left, node.right];
   }
+}
+
+/** The names an expression reads, in first-use order. */
+export function namesRead(node: Expression | Condition, into: string[] = []): string[] {
+  if (node.kind === 'value' && !into.includes(node.name)) into.push(node.name);
+  for (const child of children(node)) namesRead(child, into);
   return into;
 }
 

@@ -10,23 +10,12 @@
  * under the app's name, and `too_new` (1/0) — which `import --features` reads as it is.
  */
 import { InputError } from '../errors.js';
-import {
-  categorySpellings,
-  customerInputs,
-  defaultFreshCategories,
-  derivedValues,
-  featureFormulas,
-  formulaConstants,
-  receiptAggregates,
-  tooNewCondition,
-  visitAggregates,
-  type RowAggregate,
-  type RowCondition,
-} from '../features/definitions.js';
+import { categorySpellings, defaultFreshCategories, featureDefinitions as definitions, type RowAggregate, type RowCondition } from '../features/definitions.js';
 import { namesRead, renderCondition, renderExpression, type ExpressionSyntax } from '../features/expressions.js';
 import { featureWindow } from '../features/window.js';
 import { isoDateFromDay } from '../store/days.js';
 import { sqlDialect, type SqlDialectName } from './dialects.js';
+import { layer } from './layers.js';
 import { quotedIdentifier, stringLiteral, tableReference } from './names.js';
 
 export interface FeaturesSqlOptions {
@@ -107,7 +96,7 @@ export function featuresSql(options: FeaturesSqlOptions): FeaturesSql {
     }
   };
 
-  const constants: Record<(typeof formulaConstants)[number], number | null> = {
+  const constants: Record<(typeof definitions.formulaConstants)[number], number | null> = {
     as_of_day: window.asOfDay,
     window_start_day: window.startDay,
     window_months: window.windowMonths,
@@ -132,82 +121,85 @@ export function featuresSql(options: FeaturesSqlOptions): FeaturesSql {
 
   const once = dialect.computedOnce;
   const ctes: string[] = [];
-  ctes.push(`receipt_rows AS (
-  SELECT ${column('customer_id')} AS customer_id,
-         ${dialect.dayNumber(column('date'))} AS day,
-         CAST(ROUND(${column('amount')} * 100) AS BIGINT) AS cents,
-         COALESCE(CAST(${column('receipt_id')} AS TEXT), CAST(${column('date')} AS TEXT) || '|' || COALESCE(CAST(${column('store_id')} AS TEXT), '')) AS receipt_key,
-         ${column('category')} AS category
-    FROM ${tables.receipts}
-   WHERE ${column('date')} < ${nextDay} AND ${column('customer_id')} IS NOT NULL AND ${column('amount')} IS NOT NULL
-)`);
-  ctes.push(`receipt_totals AS (
-  SELECT customer_id,
-         ${receiptAggregates.map(aggregate).join(',\n         ')}
-    FROM receipt_rows
-   GROUP BY customer_id
-  HAVING COUNT(CASE WHEN day >= ${window.startDay} THEN 1 END) > 0
-)`);
-  ctes.push(`visit_totals AS (
-  SELECT customer_id,
-         ${visitAggregates.map(aggregate).join(',\n         ')}
-    FROM (SELECT ${column('customer_id')} AS customer_id, ${dialect.dayNumber(column('date'))} AS day
-            FROM ${tables.visits}
-           WHERE ${column('date')} < ${nextDay} AND ${column('customer_id')} IS NOT NULL) AS visit_rows
-   GROUP BY customer_id
-)`);
-  ctes.push(`join_days AS (
-  SELECT ${column('customer_id')} AS customer_id, MIN(${dialect.dayNumber(column('joined'))}) AS joined_day
-    FROM ${tables.customers}
-   WHERE ${column('joined')} IS NOT NULL
-   GROUP BY ${column('customer_id')}
-)`);
+  const dateBefore = (limit: string) => `${column('date')} < ${limit} AND ${column('customer_id')} IS NOT NULL`;
+  ctes.push(
+    layer(
+      'receipt_rows',
+      '',
+      [
+        `${column('customer_id')} AS customer_id`,
+        `${dialect.dayNumber(column('date'))} AS day`,
+        `CAST(ROUND(${column('amount')} * 100) AS BIGINT) AS cents`,
+        `COALESCE(CAST(${column('receipt_id')} AS TEXT), CAST(${column('date')} AS TEXT) || '|' || COALESCE(CAST(${column('store_id')} AS TEXT), '')) AS receipt_key`,
+        `${column('category')} AS category`,
+      ],
+      tables.receipts,
+      [`WHERE ${dateBefore(nextDay)} AND ${column('amount')} IS NOT NULL`],
+    ),
+  );
+  ctes.push(
+    layer('receipt_totals', '', ['customer_id', ...definitions.receiptAggregates.map(aggregate)], 'receipt_rows', [
+      'GROUP BY customer_id',
+      `HAVING COUNT(CASE WHEN day >= ${window.startDay} THEN 1 END) > 0`,
+    ]),
+  );
+  ctes.push(
+    layer(
+      'visit_totals',
+      '',
+      ['customer_id', ...definitions.visitAggregates.map(aggregate)],
+      `(SELECT ${column('customer_id')} AS customer_id, ${dialect.dayNumber(column('date'))} AS day FROM ${tables.visits} WHERE ${dateBefore(nextDay)}) AS visit_rows`,
+      ['GROUP BY customer_id'],
+    ),
+  );
+  ctes.push(
+    layer('join_days', '', [`${column('customer_id')} AS customer_id`, `MIN(${dialect.dayNumber(column('joined'))}) AS joined_day`], tables.customers, [
+      `WHERE ${column('joined')} IS NOT NULL`,
+      `GROUP BY ${column('customer_id')}`,
+    ]),
+  );
   // As in the app: visits count only when some visit falls in the window; the fresh share only
-  // when any receipt carries a department.
+  // when any receipt carries a department. (One row: a SELECT without FROM.)
   ctes.push(`presence AS (
   SELECT CASE WHEN EXISTS (SELECT 1 FROM ${tables.visits} WHERE ${column('date')} >= ${windowStart} AND ${column('date')} < ${nextDay}) THEN 1 ELSE 0 END AS has_visits,
          CASE WHEN EXISTS (SELECT 1 FROM ${tables.receipts} WHERE ${column('category')} IS NOT NULL) THEN 1 ELSE 0 END AS has_categories
 )`);
   const inputColumns = [
+    'r.customer_id AS customer_id',
     `${asDouble('p.has_visits')} AS has_visits`,
     'p.has_categories AS has_categories',
-    ...receiptAggregates.map((definition) => `${asDouble(`r.${definition.name}`)} AS ${definition.name}`),
-    ...visitAggregates.map((definition) => `${asDouble(`v.${definition.name}`)} AS ${definition.name}`),
-    ...customerInputs.map((name) => `${asDouble(`j.${name}`)} AS ${name}`),
+    ...definitions.receiptAggregates.map((definition) => `${asDouble(`r.${definition.name}`)} AS ${definition.name}`),
+    ...definitions.visitAggregates.map((definition) => `${asDouble(`v.${definition.name}`)} AS ${definition.name}`),
+    ...definitions.customerInputs.map((name) => `${asDouble(`j.${name}`)} AS ${name}`),
   ];
-  ctes.push(`formula_inputs AS ${once}(
-  SELECT r.customer_id AS customer_id,
-         ${inputColumns.join(',\n         ')}
-    FROM receipt_totals AS r
-   CROSS JOIN presence AS p
-    LEFT JOIN visit_totals AS v ON v.customer_id = r.customer_id
-    LEFT JOIN join_days AS j ON j.customer_id = r.customer_id
-)`);
+  ctes.push(
+    layer('formula_inputs', once, inputColumns, 'receipt_totals AS r', [
+      'CROSS JOIN presence AS p',
+      ' LEFT JOIN visit_totals AS v ON v.customer_id = r.customer_id',
+      ' LEFT JOIN join_days AS j ON j.customer_id = r.customer_id',
+    ]),
+  );
 
   // One layer per dependency level: a layer's columns read only the layers before it.
   let previous = 'formula_inputs';
   const level = new Map<string, number>();
-  const levels: { name: string; sql: string }[][] = [];
-  for (const derived of derivedValues) {
+  const levels: string[][] = [];
+  for (const derived of definitions.derivedValues) {
     const depth = 1 + Math.max(0, ...namesRead(derived.formula).map((name) => level.get(name) ?? 0));
     level.set(derived.name, depth);
-    (levels[depth - 1] ??= []).push({ name: derived.name, sql: renderExpression(derived.formula, syntax) });
+    (levels[depth - 1] ??= []).push(`${renderExpression(derived.formula, syntax)} AS ${derived.name}`);
   }
   levels.forEach((columns, index) => {
     const name = `derived_${index + 1}`;
-    ctes.push(`${name} AS ${once}(
-  SELECT *,
-         ${columns.map((derived) => `${derived.sql} AS ${derived.name}`).join(',\n         ')}
-    FROM ${previous}
-)`);
+    ctes.push(layer(name, once, ['*', ...columns], previous));
     previous = name;
   });
 
-  const outputs = featureFormulas.map((feature) => {
+  const outputs = definitions.featureFormulas.map((feature) => {
     const sql = renderExpression(feature.formula, syntax);
     return `${feature.needsCategories ? `CASE WHEN has_categories = 1 THEN ${sql} ELSE NULL END` : sql} AS ${feature.name}`;
   });
-  const columns = ['customer_id', ...featureFormulas.map((feature) => feature.name as string), 'too_new'];
+  const columns = ['customer_id', ...definitions.featureFormulas.map((feature) => feature.name as string), 'too_new'];
   const header = [
     `-- Spendmix customer features, ${dialect.name} dialect: the ${window.windowMonths} months ${isoDateFromDay(window.startDay)} to ${options.asOf}.`,
     `-- Reads ${tables.receipts} (customer_id, date, amount, receipt_id, store_id, category), ${tables.visits} (customer_id, date)`,
@@ -218,7 +210,7 @@ export function featuresSql(options: FeaturesSqlOptions): FeaturesSql {
 WITH ${ctes.join(',\n')}
 SELECT customer_id,
        ${outputs.join(',\n       ')},
-       CASE WHEN ${renderCondition(tooNewCondition, syntax)} THEN 1 ELSE 0 END AS too_new
+       CASE WHEN ${renderCondition(definitions.tooNewCondition, syntax)} THEN 1 ELSE 0 END AS too_new
   FROM ${previous}
 `;
   return {

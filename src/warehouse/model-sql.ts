@@ -17,6 +17,7 @@
  */
 import { modelFromJSON, type MixtureModel } from '../model/index.js';
 import { sqlDialect, type SqlDialect, type SqlDialectName } from './dialects.js';
+import { layer, sum } from './layers.js';
 import { quotedIdentifier, stringLiteral, tableReference } from './names.js';
 import { checkScoringModel, type ScoringModel } from './scoring-model.js';
 
@@ -82,11 +83,6 @@ function patternTerms(model: MixtureModel, observed: number[]): PatternTerms {
   return { observed, factors, logConstants };
 }
 
-/** Sum of terms left to right, as a loop adds them: ((a + b) + c). */
-function sum(terms: string[]): string {
-  return terms.reduce((total, term) => `(${total} + ${term})`);
-}
-
 function caseOf(selector: string, branches: [number, string][], otherwise: string | null): string {
   if (branches.length === 1 && otherwise === null) return `CASE WHEN ${selector} = ${branches[0][0]} THEN ${branches[0][1]} END`;
   return `CASE ${selector} ${branches.map(([when, then]) => `WHEN ${when} THEN ${then}`).join(' ')}${otherwise === null ? '' : ` ELSE ${otherwise}`} END`;
@@ -113,11 +109,13 @@ export function modelSql(scoring: ScoringModel, options: ModelSqlOptions): Model
   const patterns = masks.map((mask) => ({ mask, terms: patternTerms(model, Array.from({ length: d }, (_, a) => a).filter((a) => !(mask & (1 << a)))) }));
 
   const ctes: string[] = [];
-  ctes.push(`model_input AS (
-  SELECT ${quotedIdentifier('customer_id')} AS customer_id,
-         ${features.map((name, j) => `CAST(${quotedIdentifier(name)} AS ${dialect.doubleType}) AS x${j}`).join(',\n         ')}
-    FROM ${table}
-)`);
+  const push = (name: string, columns: string[], source: string, computedOnce = once) => ctes.push(layer(name, computedOnce, columns, source));
+  push(
+    'model_input',
+    [`${quotedIdentifier('customer_id')} AS customer_id`, ...features.map((name, j) => `CAST(${quotedIdentifier(name)} AS ${dialect.doubleType}) AS x${j}`)],
+    table,
+    '',
+  );
 
   // log1p(x) = ln(1 + x) · x / ((1 + x) − 1), accurate where 1 + x rounds (Goldberg 1991,
   // "What every computer scientist should know about floating-point arithmetic", Theorem 4);
@@ -134,13 +132,11 @@ export function modelSql(scoring: ScoringModel, options: ModelSqlOptions): Model
     ...(transform.log1p ? [`x${j} <= ${number(-1)}`] : []),
   ]);
   const pattern = sum(features.map((_, j) => `CASE WHEN x${j} IS NULL THEN ${2 ** j} ELSE 0 END`));
-  ctes.push(`logged AS ${once}(
-  SELECT customer_id,
-         ${logged.join(',\n         ')},
-         ${pattern} AS missing_pattern,
-         CASE WHEN ${badInput.map((test) => `(${test})`).join(' OR ')} THEN 1 ELSE 0 END AS bad_input
-    FROM model_input
-)`);
+  push(
+    'logged',
+    ['customer_id', ...logged, `${pattern} AS missing_pattern`, `CASE WHEN ${badInput.map((test) => `(${test})`).join(' OR ')} THEN 1 ELSE 0 END AS bad_input`],
+    'model_input',
+  );
 
   // Clipping as the app clamps: below the lower bound first, then above the upper one.
   const clipped = transforms.map((transform, j) => {
@@ -152,30 +148,20 @@ export function modelSql(scoring: ScoringModel, options: ModelSqlOptions): Model
     ];
     return `${branches.length ? `CASE ${branches.join(' ')} ELSE ${y} END` : y} AS c${j}`;
   });
+  push('clipped', ['customer_id', 'missing_pattern', ...clipped, 'bad_input'], 'logged');
   const unscorable = [
     'bad_input = 1',
     `missing_pattern = ${allMissing}`,
     ...(withEmptyValues ? [] : ['missing_pattern <> 0']),
     ...transforms.map((transform, j) => `ABS(c${j} - ${number(transform.fitted!.mean)}) > ${number(LARGEST_SCORED_Z * transform.fitted!.standardDeviation)}`),
   ];
-  ctes.push(`clipped AS ${once}(
-  SELECT customer_id,
-         missing_pattern,
-         ${clipped.join(',\n         ')},
-         bad_input
-    FROM logged
-)`);
   const zScored = transforms.map((transform, j) => {
     const { mean, standardDeviation } = transform.fitted!;
     // Without z-scoring the app's mean 0 and SD 1 leave the value unchanged: (c − 0) / 1 = c.
-    return transform.zScore ? `((c${j} - ${number(mean)}) / ${number(standardDeviation)})` : `c${j}`;
+    const z = transform.zScore ? `((c${j} - ${number(mean)}) / ${number(standardDeviation)})` : `c${j}`;
+    return `CASE WHEN ${unscorable.map((test) => `(${test})`).join(' OR ')} THEN NULL ELSE ${z} END AS z${j}`;
   });
-  ctes.push(`transformed AS ${once}(
-  SELECT customer_id,
-         missing_pattern,
-         ${zScored.map((z, j) => `CASE WHEN ${unscorable.map((test) => `(${test})`).join(' OR ')} THEN NULL ELSE ${z} END AS z${j}`).join(',\n         ')}
-    FROM clipped
-)`);
+  push('transformed', ['customer_id', 'missing_pattern', ...zScored], 'clipped');
 
   // Projections p_c,i = Σ_{j ≤ i} W_ij (z_j − μ_c,j) over the observed features of the row's pattern;
   // rows of a pattern with fewer features pad with 0, which leaves the sum of squares unchanged.
@@ -191,93 +177,38 @@ export function modelSql(scoring: ScoringModel, options: ModelSqlOptions): Model
     }
     return parts.length ? sum(parts) : number(0);
   };
-  const projections: string[] = [];
-  for (let c = 0; c < k; c++) {
-    for (let i = 0; i < d; i++) {
-      const expression =
-        patterns.length === 1
-          ? projection(patterns[0].terms, c, i)
-          : caseOf('missing_pattern', patterns.map(({ mask, terms }) => [mask, projection(terms, c, i)]), null);
-      projections.push(`${expression} AS p${c}_${i}`);
-    }
-  }
-  ctes.push(`projected AS ${once}(
-  SELECT customer_id,
-         missing_pattern,
-         ${projections.join(',\n         ')}
-    FROM transformed
-)`);
+  const byPattern = (term: (terms: PatternTerms) => string) =>
+    patterns.length === 1 ? term(patterns[0].terms) : caseOf('missing_pattern', patterns.map(({ mask, terms }) => [mask, term(terms)]), null);
+  const projections = Array.from({ length: k * d }, (_, index) => {
+    const [c, i] = [Math.floor(index / d), index % d];
+    return `${byPattern((terms) => projection(terms, c, i))} AS p${c}_${i}`;
+  });
+  push('projected', ['customer_id', 'missing_pattern', ...projections], 'transformed');
 
   const logDensities = Array.from({ length: k }, (_, c) => {
-    const constant =
-      patterns.length === 1 ? number(patterns[0].terms.logConstants[c]) : caseOf('missing_pattern', patterns.map(({ mask, terms }) => [mask, number(terms.logConstants[c])]), null);
     const squares = sum(Array.from({ length: d }, (_, i) => `(p${c}_${i} * p${c}_${i})`));
-    return `(${constant} - (${number(0.5)} * ${squares})) AS l${c}`;
+    return `(${byPattern((terms) => number(terms.logConstants[c]))} - (${number(0.5)} * ${squares})) AS l${c}`;
   });
-  ctes.push(`log_densities AS ${once}(
-  SELECT customer_id,
-         ${logDensities.join(',\n         ')}
-    FROM projected
-)`);
+  push('log_densities', ['customer_id', ...logDensities], 'projected');
   const ls = columnsOf('l', k);
-  ctes.push(`best AS ${once}(
-  SELECT customer_id,
-         ${ls.join(', ')},
-         ${dialect.greatest(ls)} AS top_log
-    FROM log_densities
-)`);
+  push('best', ['customer_id', ...ls, `${dialect.greatest(ls)} AS top_log`], 'log_densities');
   const scaled = ls.map((l, c) => `CASE WHEN (${l} - top_log) < ${number(SMALLEST_EXPONENT)} THEN ${number(0)} ELSE EXP(${l} - top_log) END AS e${c}`);
-  ctes.push(`scaled AS ${once}(
-  SELECT customer_id,
-         top_log,
-         ${scaled.join(',\n         ')}
-    FROM best
-)`);
+  push('scaled', ['customer_id', 'top_log', ...scaled], 'best');
   const es = columnsOf('e', k);
-  ctes.push(`totals AS ${once}(
-  SELECT customer_id,
-         top_log,
-         ${es.join(', ')},
-         ${sum(es)} AS total
-    FROM scaled
-)`);
+  push('totals', ['customer_id', 'top_log', ...es, `${sum(es)} AS total`], 'scaled');
   const segmentPosteriors = segments.names.map((_, s) => {
     const members = segments.ofComponent.flatMap((segment, c) => (segment === s ? [`(e${c} / total)`] : []));
     return `${sum(members)} AS s${s}`;
   });
-  ctes.push(`posteriors AS ${once}(
-  SELECT customer_id,
-         (top_log + LN(total)) AS log_density,
-         ${segmentPosteriors.join(',\n         ')}
-    FROM totals
-)`);
+  push('posteriors', ['customer_id', '(top_log + LN(total)) AS log_density', ...segmentPosteriors], 'totals');
   const ss = columnsOf('s', S);
-  ctes.push(`ranked AS ${once}(
-  SELECT customer_id,
-         log_density,
-         ${ss.join(', ')},
-         ${dialect.greatest(ss)} AS confidence
-    FROM posteriors
-)`);
+  push('ranked', ['customer_id', 'log_density', ...ss, `${dialect.greatest(ss)} AS confidence`], 'posteriors');
   // The first segment with the top posterior wins, as in the app; the second is the best of the rest.
-  ctes.push(`labelled AS ${once}(
-  SELECT customer_id,
-         log_density,
-         confidence,
-         ${S === 1 ? 'CASE WHEN confidence IS NOT NULL THEN 0 END' : `CASE ${ss.map((s, index) => `WHEN ${s} = confidence THEN ${index}`).join(' ')} END`} AS top_index${
-           S === 1 ? '' : `,\n         ${ss.join(', ')}`
-         }
-    FROM ranked
-)`);
+  const topIndex = S === 1 ? 'CASE WHEN confidence IS NOT NULL THEN 0 END' : `CASE ${ss.map((s, index) => `WHEN ${s} = confidence THEN ${index}`).join(' ')} END`;
+  push('labelled', ['customer_id', 'log_density', 'confidence', `${topIndex} AS top_index`, ...(S === 1 ? [] : ss)], 'ranked');
   const second = dialect.greatest(ss.map((s, index) => `CASE WHEN top_index = ${index} THEN ${number(-1)} ELSE ${s} END`));
-  ctes.push(`margins AS ${once}(
-  SELECT customer_id,
-         log_density,
-         confidence,
-         top_index,
-         ${S === 1 ? `CASE WHEN confidence IS NOT NULL THEN ${number(1)} END` : `(confidence - ${second})`} AS margin
-    FROM labelled
-)`);
+  const margin = S === 1 ? `CASE WHEN confidence IS NOT NULL THEN ${number(1)} END` : `(confidence - ${second})`;
+  push('margins', ['customer_id', 'log_density', 'confidence', 'top_index', `${margin} AS margin`], 'labelled');
 
   const names = caseOf('top_index', segments.names.map((name, index) => [index, stringLiteral(name)]), null);
   const cut = thresholds.atypicalLogDensityBelow;

@@ -2,20 +2,12 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { FeaturesSqlResult, ModelSqlResult } from '../../src/api/contract.js';
 import { callApiOutcome } from '../../src/api/handlers.js';
 import { ApiSession } from '../../src/api/session.js';
-import { runCli } from '../../src/cli/program.js';
-import type { CliIo } from '../../src/cli/run-command.js';
+import { cli } from '../support/cli-capture.js';
 import { runSegmentation } from '../../src/runs/run.js';
 import { demoDatabase, type DemoDatabase } from '../runs/demo-database.js';
 import { openDuckDb } from './support/engines.js';
 
 /** `features-sql` and `model-sql` (DESIGN.md §10) and the API methods behind them. */
-async function cli(...argv: string[]): Promise<{ code: number; stdout: string; stderr: string }> {
-  let stdout = '';
-  let stderr = '';
-  const io: CliIo = { stdout: (text) => void (stdout += text), stderr: (text) => void (stderr += text) };
-  const code = await runCli(argv, io);
-  return { code, stdout, stderr };
-}
 
 let demo: DemoDatabase;
 let runId: number;

@@ -46,8 +46,9 @@ export function appScores(scoring: ScoringModel, rows: FeatureRows): Scores {
     atypical: new Int8Array(n),
   };
   const segmentPosterior = new Float64Array(S);
+  const seen = new Uint8Array(S);
   for (let i = 0; i < n; i++) {
-    const seen = new Uint8Array(S);
+    seen.fill(0);
     for (let c = 0; c < k; c++) {
       const s = segments.ofComponent[c];
       const posterior = memberships.posteriors[i * k + c];
