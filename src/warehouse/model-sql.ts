@@ -177,8 +177,11 @@ export function modelSql(scoring: ScoringModel, options: ModelSqlOptions): Model
     }
     return parts.length ? sum(parts) : number(0);
   };
+  // Complete rows (pattern 0) are tested first and alone: one comparison for them, not one per pattern.
   const byPattern = (term: (terms: PatternTerms) => string) =>
-    patterns.length === 1 ? term(patterns[0].terms) : caseOf('missing_pattern', patterns.map(({ mask, terms }) => [mask, term(terms)]), null);
+    patterns.length === 1
+      ? term(patterns[0].terms)
+      : `CASE WHEN missing_pattern = 0 THEN ${term(patterns[0].terms)} ELSE ${caseOf('missing_pattern', patterns.slice(1).map(({ mask, terms }) => [mask, term(terms)]), null)} END`;
   const projections = Array.from({ length: k * d }, (_, index) => {
     const [c, i] = [Math.floor(index / d), index % d];
     return `${byPattern((terms) => projection(terms, c, i))} AS p${c}_${i}`;
