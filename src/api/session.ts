@@ -1,11 +1,12 @@
-import { dirname, resolve } from 'node:path';
+import { dirname } from 'node:path';
 import { openDatabase, type Database } from '../store/database.js';
 import { InputError } from '../errors.js';
 import type { LongTaskMethod, TaskResults } from './contract.js';
 import type { LongTaskRequest } from './long-task-request.js';
 import { runInWorker } from './run-in-worker.js';
 import { TaskManager, type ProgressReporter } from './tasks.js';
-import { DEFAULT_CUSTOMERS as DEFAULT_DEMO_CUSTOMERS } from '../../demo-data/generator/index.js';
+import { DEFAULT_DEMO_CUSTOMERS } from './contract.js';
+import { databaseFilePath } from './paths.js';
 
 /** Runs a long task's core work; the default puts it on a worker thread. */
 export type LongTaskRunner = <M extends LongTaskMethod>(
@@ -59,10 +60,7 @@ export class ApiSession {
 
   /** Opens (creating and migrating if needed) the database; the previous one is closed. */
   open(path: string): Database {
-    if (path.trim() === '' || path === ':memory:') {
-      throw new InputError('Give a database file: the app\'s worker threads open the same file, so an in-memory database cannot be used.');
-    }
-    const absolute = resolve(path);
+    const absolute = databaseFilePath(this, path);
     const next = openDatabase(absolute);
     this.database?.close();
     this.database = next;

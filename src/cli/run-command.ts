@@ -64,29 +64,5 @@ function ensureNewline(text: string): string {
   return text.endsWith('\n') ? text : `${text}\n`;
 }
 
-/** Shared option parsers: each throws InputError naming the option and the expected form. */
-export function parseInteger(name: string, min: number, max = Number.MAX_SAFE_INTEGER) {
-  return (raw: string): number => {
-    const value = Number(raw);
-    if (!/^-?\d+$/.test(raw.trim()) || !Number.isSafeInteger(value) || value < min || value > max) {
-      throw new InputError(
-        `${name} must be a whole number from ${min}${max === Number.MAX_SAFE_INTEGER ? ' up' : ` to ${max}`}; got "${raw}".`,
-      );
-    }
-    return value;
-  };
-}
-
-export function parseNumber(name: string, min = -Infinity, max = Infinity) {
-  return (raw: string): number => {
-    const value = Number(raw);
-    if (raw.trim() === '' || !Number.isFinite(value) || value < min || value > max) {
-      const range = Number.isFinite(min) || Number.isFinite(max) ? ` between ${min} and ${max}` : '';
-      throw new InputError(`${name} must be a number${range}; got "${raw}".`);
-    }
-    return value;
-  };
-}
-
 /** Every command module exports one of these; src/cli/program.ts registers them all. */
 export type RegisterCommand = (program: Command, io: CliIo, setExitCode: (code: number) => void) => void;

@@ -9,7 +9,7 @@
 import type { Database } from 'better-sqlite3';
 import { InputError, throwIfAborted } from '../errors.js';
 import { isoDateFromDay } from '../store/days.js';
-import { categorySpellings, defaultFreshCategories, featureDefinitions, type RowAggregate, type RowCondition } from './definitions.js';
+import { categorySpellings, featureDefinitions, type RowAggregate, type RowCondition } from './definitions.js';
 import { javaScriptSyntax, renderCondition, renderExpression } from './expressions.js';
 import { featureWindow, type FeatureWindow } from './window.js';
 
@@ -35,7 +35,8 @@ export interface ComputeFeaturesOptions {
   windowMonths: number;
   minPurchases: number;
   minTenureMonths: number;
-  freshCategories?: readonly string[];
+  /** Departments counted as fresh (the run's setting; its default is the contract's). */
+  freshCategories: readonly string[];
   signal?: AbortSignal;
 }
 
@@ -184,7 +185,7 @@ class DoubleColumn {
 /** Computes the features of DESIGN.md §4 (as defined in ./definitions.ts) from receipts and visits. */
 export function computeReceiptFeatures(db: Database, options: ComputeFeaturesOptions): FeatureTable {
   const window = featureWindow(options.asOf, options.windowMonths);
-  const fresh = categorySpellings(options.freshCategories ?? defaultFreshCategories);
+  const fresh = categorySpellings(options.freshCategories);
   const params = { start: window.startDay, last3: window.last3StartDay, prev3: window.prev3StartDay, asOf: window.asOfDay };
 
   const joined = new Map<string, number>();

@@ -110,9 +110,6 @@ export const featureDescriptions: Record<ComputedFeatureName, FeatureDescription
   },
 };
 
-/** Departments counted as fresh by default (common practice in grocery reporting). */
-export const defaultFreshCategories: readonly string[] = ['fresh', 'produce', 'fruit', 'vegetables', 'meat', 'fish', 'bakery', 'dairy', 'deli'];
-
 /** The spellings a till may use for a department name ("fresh", "Fresh", "FRESH"): a category matches one of these exactly. */
 export function categorySpellings(categories: readonly string[]): string[] {
   const spellings = new Set<string>();
@@ -275,3 +272,8 @@ export const featureDefinitions = {
   featureFormulas,
   tooNewCondition,
 } as const;
+
+/** Unit of any feature: a computed one's own, none for imported features (we do not know it). */
+export function featureUnit(name: string): string {
+  return isComputedFeature(name) ? featureDescriptions[name].unit : '';
+}

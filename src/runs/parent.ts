@@ -10,7 +10,7 @@ import { modelFromJSON } from '../model/serialize.js';
 import type { MixtureModel } from '../model/types.js';
 import { decodeFloat64 } from './blobs.js';
 import { segmentMoments, type SegmentMoments } from './movement.js';
-import type { ReviewAction } from './types.js';
+import type { ReviewAction } from '../api/contract.js';
 
 export interface ParentDecision {
   customerId: string;

@@ -15,7 +15,7 @@
 import { featureLabel } from '../features/definitions.js';
 import { choleskyLower } from '../model/linalg.js';
 import type { MixtureModel } from '../model/types.js';
-import type { BorderlineWhy, WhyTerm } from './types.js';
+import type { BorderlineWhy, WhyTerm } from '../api/contract.js';
 
 /** Terms smaller than this (in log-odds) are not worth a word unless nothing else pulls. */
 const NEGLIGIBLE_TERM = 0.05;

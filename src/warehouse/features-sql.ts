@@ -10,7 +10,7 @@
  * under the app's name, and `too_new` (1/0) — which `import --features` reads as it is.
  */
 import { InputError } from '../errors.js';
-import { categorySpellings, defaultFreshCategories, featureDefinitions as definitions, type RowAggregate, type RowCondition } from '../features/definitions.js';
+import { categorySpellings, featureDefinitions as definitions, type RowAggregate, type RowCondition } from '../features/definitions.js';
 import { namesRead, renderCondition, renderExpression, type ExpressionSyntax } from '../features/expressions.js';
 import { featureWindow } from '../features/window.js';
 import { isoDateFromDay } from '../store/days.js';
@@ -29,7 +29,7 @@ export interface FeaturesSqlOptions {
   minPurchases: number;
   minTenureMonths: number;
   /** Departments counted as fresh (default src/features/definitions.ts). */
-  freshCategories?: readonly string[];
+  freshCategories: readonly string[];
 }
 
 export interface FeaturesSql {
@@ -65,7 +65,7 @@ export function featuresSql(options: FeaturesSqlOptions): FeaturesSql {
   };
   const nextDay = dialect.dateLiteral(isoDateFromDay(window.asOfDay + 1));
   const windowStart = dialect.dateLiteral(isoDateFromDay(window.startDay));
-  const fresh = categorySpellings(options.freshCategories ?? defaultFreshCategories).map(stringLiteral);
+  const fresh = categorySpellings(options.freshCategories).map(stringLiteral);
 
   const rowCondition = (condition: RowCondition): string => {
     switch (condition) {

@@ -11,7 +11,7 @@
 import { mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { runSegmentation } from '../../src/runs/run.js';
+import { runMonth } from '../support/core-calls.js';
 import { readScoringModel } from '../../src/warehouse/index.js';
 import { demoDatabase } from '../runs/demo-database.js';
 import { agreementOn, syntheticRows, writeFeatureCsv } from '../warehouse/support/agreement.js';
@@ -23,7 +23,7 @@ const customers = benchFlag('customers', 1_000_000);
 const folder = mkdtempSync(join(tmpdir(), 'spendmix-warehouse-agreement-'));
 try {
   const demo = await demoDatabase('sample');
-  const run = await runSegmentation(demo.db, { asOf: '2026-11-30', windowMonths: 12, mode: 'refit', k: 'auto', covariance: 'auto', parentRunId: null });
+  const run = await runMonth(demo.db, { asOf: '2026-11-30', windowMonths: 12, mode: 'refit', k: 'auto', covariance: 'auto', parentRunId: null });
   const scoring = readScoringModel(demo.db, run.runId);
   demo.close();
   console.log(`model: ${scoring.model.covarianceType} covariance, k = ${scoring.model.components}, features ${scoring.features.join(', ')}`);

@@ -9,7 +9,7 @@
  *   npx tsx test/bench/warehouse-scoring.ts [--customers 10000000] [--repeat 3]
  */
 import { DuckDBInstance } from '@duckdb/node-api';
-import { runSegmentation } from '../../src/runs/run.js';
+import { runMonth } from '../support/core-calls.js';
 import { modelSql, readScoringModel } from '../../src/warehouse/index.js';
 import { demoDatabase } from '../runs/demo-database.js';
 import { syntheticRows } from '../warehouse/support/agreement.js';
@@ -23,7 +23,7 @@ const CHUNK = 1_000_000;
 const seconds = (since: number) => (performance.now() - since) / 1000;
 
 const demo = await demoDatabase('sample');
-const run = await runSegmentation(demo.db, { asOf: '2026-11-30', windowMonths: 12, mode: 'refit', k: 'auto', covariance: 'auto', parentRunId: null });
+const run = await runMonth(demo.db, { asOf: '2026-11-30', windowMonths: 12, mode: 'refit', k: 'auto', covariance: 'auto', parentRunId: null });
 const scoring = readScoringModel(demo.db, run.runId);
 demo.close();
 const d = scoring.features.length;

@@ -4,6 +4,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import type { Page } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { designScreens } from '../support/design-reference.js';
 import { collectPageErrors, openBrowser, screenshot, serve, type ServedApp } from './harness.js';
 
 /**
@@ -94,6 +95,16 @@ describe('Spendmix in Chromium through the browser host', () => {
 
   it('takes the session token out of the address bar', () => {
     expect(page.url()).not.toContain('token=');
+  });
+
+  it('shows the screens of DESIGN.md §9 in the side rail, in order, and each opens', async () => {
+    const rail = page.locator('[data-testid^="nav-"]');
+    expect((await rail.locator('.rail-title').allInnerTexts()).map((text) => text.trim())).toEqual([...designScreens]);
+    for (const title of designScreens) {
+      const item = rail.filter({ has: page.locator('.rail-title', { hasText: new RegExp(`^${title}$`) }) });
+      await item.click();
+      await expect.poll(() => item.getAttribute('aria-current')).toBe('page');
+    }
   });
 
   it('loads the demo chain into the fresh database', async () => {

@@ -82,13 +82,13 @@ describe('spendmix fit-matrix', () => {
     const empty = file('empty.csv', '');
     const cases: [string[], RegExp][] = [
       [['--input', empty, '--k', '2', '--covariance', 'full'], /is empty/],
-      [['--input', faithfulCsv, '--k', '0', '--covariance', 'full'], /--k must be at least 1/],
-      [['--input', faithfulCsv, '--k', 'two', '--covariance', 'full'], /--k must be a whole number ≥ 1 or "auto"/],
-      [['--input', faithfulCsv, '--k', '2', '--covariance', 'round'], /Unknown covariance structure "round"/],
-      [['--input', faithfulCsv, '--k', '2'], /needs --covariance/],
+      [['--input', faithfulCsv, '--k', '0', '--covariance', 'full'], /\(k, --k\) must be at least 1 \(got 0\)/],
+      [['--input', faithfulCsv, '--k', 'two', '--covariance', 'full'], /\(k, --k\) must be a number or "auto" \(got "two"\)/],
+      [['--input', faithfulCsv, '--k', '2', '--covariance', 'round'], /\(covariance, --covariance\) must be one of full, diag, spherical, tied \(got "round"\)/],
+      [['--input', faithfulCsv, '--k', '2'], /\(covariance, --covariance\) is required/],
       [['--input', join(folder, 'nowhere.csv'), '--k', '2', '--covariance', 'full'], /Cannot read --input/],
-      [['--input', faithfulCsv, '--k', '2', '--covariance', 'full', '--init', 'best'], /Unknown --init "best"/],
-      [['--input', faithfulCsv, '--k', '2', '--covariance', 'full', '--k-max', '4'], /--k-max applies only with --k auto/],
+      [['--input', faithfulCsv, '--k', '2', '--covariance', 'full', '--init', 'best'], /\(init, --init\) must be one of kmeans, kmeans\+\+, random \(got "best"\)/],
+      [['--input', faithfulCsv, '--k', '2', '--covariance', 'full', '--k-max', '4'], /\(kMax, --k-max\) applies only with k auto \(--k auto\)/],
       [['--input', faithfulCsv, '--k', '200', '--covariance', 'full'], /too few/],
     ];
     for (const [argv, message] of cases) {

@@ -1,5 +1,5 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { cli } from '../support/cli-capture.js';
+import { cli } from '../support/run-cli.js';
 import { demoDatabase, type DemoDatabase } from './demo-database.js';
 
 /** refresh, runs and review on the committed 500-customer demo sample, in-process through runCli. */

@@ -4,11 +4,10 @@ import { dirname, join, relative, resolve, sep } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import ts from 'typescript';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { sqlDialects } from '../../src/api/contract.js';
+import { defaultFreshCategories, sqlDialects } from '../../src/api/contract.js';
 import { isInputError } from '../../src/errors.js';
 import { importFile } from '../../src/ingest/import-file.js';
-import { renameSegment } from '../../src/runs/repository.js';
-import { runSegmentation } from '../../src/runs/run.js';
+import { rename, runMonth } from '../support/core-calls.js';
 import { featuresSql, modelSql, readScoringModel, sqlDialectNames, type ScoringModel } from '../../src/warehouse/index.js';
 import { demoDatabase, type DemoDatabase } from '../runs/demo-database.js';
 import { agreementOn, engineScores, syntheticRows, writeFeatureCsv } from './support/agreement.js';
@@ -34,7 +33,7 @@ function refusal(action: () => unknown): string {
 }
 
 const tables = { receiptsTable: 'receipts', visitsTable: 'visits', customersTable: 'customers' };
-const featureOptions = { asOf: '2026-11-30', windowMonths: 12, dialect: 'duckdb', ...tables, minPurchases: 2, minTenureMonths: 2 };
+const featureOptions = { asOf: '2026-11-30', windowMonths: 12, dialect: 'duckdb', ...tables, minPurchases: 2, minTenureMonths: 2, freshCategories: defaultFreshCategories };
 
 describe('table names and dialects', () => {
   it.each([hostile, 'receipts; DELETE FROM receipts', 'two words', '1receipts', 'a.b.c.d', '', '"quoted"', 'tab\tname', 'schema..table', 'ümlaut'])(
@@ -85,8 +84,8 @@ describe('runs and their names', () => {
     writeFileSync(join(folder, 'features.csv'), `${lines.join('\n')}\n`);
     const imported = await importFile(demo.db, { path: join(folder, 'features.csv'), kind: 'features', options: { reportDir: folder } });
     expect(imported.rowsRejected).toBe(0);
-    runId = (await runSegmentation(demo.db, { asOf: '2026-11-30', windowMonths: 12, mode: 'refit', k: 3, covariance: 'full', source: 'imported', parentRunId: null })).runId;
-    renameSegment(demo.db, runId, 0, "Tier'); DROP TABLE sentinel; --");
+    runId = (await runMonth(demo.db, { asOf: '2026-11-30', windowMonths: 12, mode: 'refit', k: 3, covariance: 'full', source: 'imported', parentRunId: null })).runId;
+    rename(demo.db, { runId, segment: 0, name: "Tier'); DROP TABLE sentinel; --" });
     scoring = readScoringModel(demo.db, runId);
     expect(scoring.features).toEqual([hostile, hostileQuote, 'plain'].sort());
     engines.push(await openDuckDb(), await openSqlite());

@@ -2,8 +2,8 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { FeaturesSqlResult, ModelSqlResult } from '../../src/api/contract.js';
 import { callApiOutcome } from '../../src/api/handlers.js';
 import { ApiSession } from '../../src/api/session.js';
-import { cli } from '../support/cli-capture.js';
-import { runSegmentation } from '../../src/runs/run.js';
+import { cli } from '../support/run-cli.js';
+import { runMonth } from '../support/core-calls.js';
 import { demoDatabase, type DemoDatabase } from '../runs/demo-database.js';
 import { openDuckDb } from './support/engines.js';
 
@@ -14,7 +14,7 @@ let runId: number;
 
 beforeAll(async () => {
   demo = await demoDatabase('sample');
-  runId = (await runSegmentation(demo.db, { asOf: '2026-11-30', windowMonths: 12, mode: 'refit', k: 3, covariance: 'diag', parentRunId: null })).runId;
+  runId = (await runMonth(demo.db, { asOf: '2026-11-30', windowMonths: 12, mode: 'refit', k: 3, covariance: 'diag', parentRunId: null })).runId;
 }, 300_000);
 
 afterAll(() => demo?.close());

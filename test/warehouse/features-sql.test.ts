@@ -2,6 +2,7 @@ import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { defaultFreshCategories } from '../../src/api/contract.js';
 import { computedFeatureNames, featureFormulas } from '../../src/features/definitions.js';
 import { computeReceiptFeatures, loadImportedFeatures, type FeatureTable } from '../../src/features/compute.js';
 import { importFile } from '../../src/ingest/import-file.js';
@@ -194,10 +195,11 @@ describe.each(engineNames)('features-sql in %s agrees with the app after import 
       customersTable: `${data}_customers`,
       minPurchases,
       minTenureMonths,
+      freshCategories: defaultFreshCategories,
     });
     expect(query.columns).toEqual(['customer_id', ...computedFeatureNames, 'too_new']);
     const imported = await throughImport(engine, query.sql, query.columns);
-    const app = computeReceiptFeatures(appDatabases.get(data)!, { asOf, windowMonths, minPurchases, minTenureMonths });
+    const app = computeReceiptFeatures(appDatabases.get(data)!, { asOf, windowMonths, minPurchases, minTenureMonths, freshCategories: defaultFreshCategories });
     const comparison = compareTables(app, imported);
     expect(comparison.customers).toBeGreaterThan(0);
     expect(comparison.tooNewMismatches).toBe(0);
@@ -224,6 +226,7 @@ describe('features-sql output', () => {
       customersTable: 'demo_customers',
       minPurchases: 2,
       minTenureMonths: 2,
+      freshCategories: defaultFreshCategories,
     });
     const rows = await engine.query(query.sql);
     expect(rows.length).toBeGreaterThan(400);
@@ -235,7 +238,7 @@ describe('features-sql output', () => {
 
   it('is one statement the engines accept as it is, starting with comments and WITH', () => {
     for (const dialect of ['duckdb', 'postgres', 'sqlite'] as const) {
-      const { sql } = featuresSql({ asOf: '2026-11-30', windowMonths: 12, dialect, receiptsTable: 'r', visitsTable: 'v', customersTable: 'c', minPurchases: 2, minTenureMonths: 2 });
+      const { sql } = featuresSql({ asOf: '2026-11-30', windowMonths: 12, dialect, receiptsTable: 'r', visitsTable: 'v', customersTable: 'c', minPurchases: 2, minTenureMonths: 2, freshCategories: defaultFreshCategories });
       const code = sql.split('\n').filter((line) => !line.startsWith('--'));
       expect(code[0]).toMatch(/^WITH /);
       expect(code.join('\n')).not.toContain(';');

@@ -5,9 +5,8 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { computeReceiptFeatures } from '../../src/features/compute.js';
 import { fitTransform, transformValue, type FeatureTransform } from '../../src/features/transforms.js';
 import { covarianceTypes, fitMixture, type CovarianceType } from '../../src/model/index.js';
-import { renameSegment } from '../../src/runs/repository.js';
-import { runSegmentation } from '../../src/runs/run.js';
-import type { RunSettings } from '../../src/runs/types.js';
+import { defaultFreshCategories, type StartRunInput } from '../../src/api/contract.js';
+import { rename, runMonth } from '../support/core-calls.js';
 import {
   componentsAsSegments,
   featuresSql,
@@ -45,24 +44,23 @@ let clippedRun: number;
 const engines = new Map<SqlDialectName, Engine>();
 let tableCounter = 0;
 
-const defaultSettings: RunSettings = { asOf: '2026-11-30', windowMonths: 12, mode: 'refit', k: 'auto', covariance: 'auto', parentRunId: null };
+const defaultSettings: StartRunInput & { asOf: string; windowMonths: number } = { asOf: '2026-11-30', windowMonths: 12, mode: 'refit', k: 'auto', covariance: 'auto', parentRunId: null };
 /** Four features, clipping on both sides of two of them, one without log1p, diagonal covariance. */
-const clippedSettings: RunSettings = {
+const clippedSettings: typeof defaultSettings = {
   ...defaultSettings,
   k: 4,
   covariance: 'diag',
-  features: ['spend_per_month', 'visits_per_month', 'average_basket', 'days_since_last_visit'],
-  transforms: {
-    spend_per_month: { log1p: true, clipLowerPercentile: 2, clipUpperPercentile: 98, zScore: true },
-    visits_per_month: { log1p: true, clipLowerPercentile: null, clipUpperPercentile: 95, zScore: true },
-    average_basket: { log1p: true, clipLowerPercentile: 5, clipUpperPercentile: null, zScore: true },
-    days_since_last_visit: { log1p: false, clipLowerPercentile: null, clipUpperPercentile: null, zScore: true },
-  },
+  features: [
+    { feature: 'spend_per_month', log1p: true, clipLowerPercentile: 2, clipUpperPercentile: 98, zScore: true },
+    { feature: 'visits_per_month', log1p: true, clipLowerPercentile: null, clipUpperPercentile: 95, zScore: true },
+    { feature: 'average_basket', log1p: true, clipLowerPercentile: 5, clipUpperPercentile: null, zScore: true },
+    { feature: 'days_since_last_visit', log1p: false, clipLowerPercentile: null, clipUpperPercentile: null, zScore: true },
+  ],
 };
 
 /** The run's placed customers with its model features, in original units, as the app computed them. */
-function runRows(scoring: ScoringModel, settings: RunSettings): FeatureRows {
-  const table = computeReceiptFeatures(demo.db, { asOf: settings.asOf, windowMonths: settings.windowMonths, minPurchases: 2, minTenureMonths: 2 });
+function runRows(scoring: ScoringModel, settings: typeof defaultSettings): FeatureRows {
+  const table = computeReceiptFeatures(demo.db, { asOf: settings.asOf, windowMonths: settings.windowMonths, minPurchases: 2, minTenureMonths: 2, freshCategories: defaultFreshCategories });
   const placed = table.customerIds.flatMap((_, i) => (table.tooNew[i] ? [] : [i]));
   return {
     customerIds: placed.map((i) => table.customerIds[i]),
@@ -91,8 +89,8 @@ function expectAgreement(agreement: TimedAgreement | ReturnType<typeof compareSc
 beforeAll(async () => {
   folder = mkdtempSync(join(tmpdir(), 'spendmix-model-sql-'));
   demo = await demoDatabase('sample');
-  defaultRun = (await runSegmentation(demo.db, defaultSettings)).runId;
-  clippedRun = (await runSegmentation(demo.db, clippedSettings)).runId;
+  defaultRun = (await runMonth(demo.db, defaultSettings)).runId;
+  clippedRun = (await runMonth(demo.db, clippedSettings)).runId;
   for (const dialect of dialects) engines.set(dialect, dialect === 'duckdb' ? await openDuckDb() : dialect === 'sqlite' ? await openSqlite() : await openPostgres());
 }, 300_000);
 
@@ -198,7 +196,9 @@ describe('the whole chain in DuckDB: features-sql on the chain tables, then mode
       await engine.loadCsv(`chain_${kind}`, chainFileColumns(join(sampleDir, `${kind}.csv`)), join(sampleDir, `${kind}.csv`));
     }
     const features = featuresSql({
-      ...defaultSettings,
+      asOf: defaultSettings.asOf,
+      windowMonths: defaultSettings.windowMonths,
+      freshCategories: defaultFreshCategories,
       dialect: 'duckdb',
       receiptsTable: 'chain_receipts',
       visitsTable: 'chain_visits',
@@ -210,7 +210,7 @@ describe('the whole chain in DuckDB: features-sql on the chain tables, then mode
     await engine.run('CREATE VIEW chain_placed AS SELECT * FROM chain_features WHERE too_new = 0');
     // A renamed segment keeps its new name in the query, quotes and all.
     const scoringBefore = readScoringModel(demo.db, defaultRun);
-    renameSegment(demo.db, defaultRun, 0, "Premium 'A' baskets");
+    rename(demo.db, { runId: defaultRun, segment: 0, name: "Premium 'A' baskets" });
     const scoring = readScoringModel(demo.db, defaultRun);
     expect(scoring.segments.names[0]).toBe("Premium 'A' baskets");
     expect(scoringBefore.segments.names[0]).not.toBe(scoring.segments.names[0]);
@@ -346,7 +346,7 @@ describe('a run fitted on imported features with empty values', () => {
       INSERT INTO customer_features (customer_id, feature, value)
         SELECT customer_id, 'store_count', 1 + (rowid * 31) % 5 FROM customers;`);
     try {
-      const run = await runSegmentation(db, { ...defaultSettings, source: 'imported', k: 3, covariance: 'full' });
+      const run = await runMonth(db, { ...defaultSettings, source: 'imported', k: 3, covariance: 'full' });
       const scoring = readScoringModel(db, run.runId);
       const partialCount = db.prepare('SELECT count(*) FROM run_memberships WHERE run_id = ? AND partial = 1').pluck().get(run.runId) as number;
       expect(partialCount).toBeGreaterThan(20);

@@ -223,7 +223,7 @@ export function messyReadme(files: MessyFile[]): string {
   return [
     '# Deliberately messy import files (invented data)',
     '',
-    'Made by `npm run -s demo:messy` (demo-data/generator/messy.ts, seeded); do not edit by hand.',
+    'Made by `npm run -s demo:messy` (src/demo/messy.ts, seeded); do not edit by hand.',
     'Customer ids are those of the committed sample; receipt ids start with M so they never clash',
     'with it. Line numbers count the header as line 1.',
     '',

@@ -1,13 +1,16 @@
 import type { Database } from 'better-sqlite3';
-import { InputError } from '../errors.js';
-import { quantileOfSorted, sortedFinite } from '../features/quantiles.js';
-import { isBorderline, type FlagThresholds } from '../runs/flags.js';
-import { getRunDetail } from '../runs/repository.js';
+import type { CertaintyQuery, CertaintySummary } from '../../api/contract.js';
+import { InputError } from '../../errors.js';
+import { quantileOfSorted, sortedFinite } from '../../features/quantiles.js';
+import { isBorderline, type FlagThresholds } from '../flags.js';
+import { derivedFromRun, holdsDerived, storedRun } from './stored-run.js';
 
 /**
- * A compact per-run summary of the placed customers' certainty columns, built in one pass and
- * kept per database connection, so that the Certainty screen's sliders are answered in
- * milliseconds at any run size. The counts are exactly those of the runs core's flag rule
+ * The Certainty screen's numbers, all from one source: a compact per-run summary of the placed
+ * customers' certainty columns, built in one pass and kept with the run per database connection
+ * (./stored-run.ts), so that the sliders are answered in milliseconds at any run size. The
+ * histogram, the borderline and atypical counts, and the borderline table's total
+ * (./borderline.ts) all come from it. The counts are exactly those of the runs core's flag rule
  * (`computeFlags` in src/runs/flags.ts) for any thresholds:
  *
  * - borderline: a grid over (confidence, margin) whose bin edges are j / 100, so every value the
@@ -28,8 +31,6 @@ const GRID_STEPS = 100;
 const EDGES = Float64Array.from({ length: GRID_STEPS + 1 }, (_, j) => j / GRID_STEPS);
 /** Bins per axis: below 0, the GRID_STEPS bins of [0, 1), and at or above 1. */
 const BINS = GRID_STEPS + 2;
-/** Summaries kept per connection (each holds three float columns of the run: 24 MB at 1 M). */
-const MAX_CACHED_RUNS = 3;
 
 /** Bin of a value = the number of edges at or below it (0 for values below 0, or NaN). */
 function binOf(value: number): number {
@@ -68,7 +69,7 @@ export interface CertaintyColumns {
 }
 
 export function readCertaintyColumns(db: Database, runId: number): CertaintyColumns {
-  const hint = (db.prepare('SELECT customers FROM runs WHERE run_id = ?').pluck().get(runId) as number | undefined) ?? 0;
+  const hint = storedRun(db, runId).customers;
   let capacity = Math.max(16, hint);
   let confidence: Float64Array = new Float64Array(capacity);
   let margin: Float64Array = new Float64Array(capacity);
@@ -228,48 +229,31 @@ export function confidenceHistogram(summary: RunCertaintySummary, bins: number):
 }
 
 // ---------------------------------------------------------------------------------------------
-// The cache: per connection, per run id
+// The summary kept with the run, and the screen's answer
 
-interface CachedSummary {
-  fingerprint: string;
-  summary: RunCertaintySummary;
-}
-
-const summariesByConnection = new WeakMap<Database, Map<number, CachedSummary>>();
-
-/** What identifies one stored run beyond its id (an id freed by a deleted run can be reused). */
-function runFingerprint(db: Database, runId: number): string {
-  const row = db.prepare('SELECT created_at, customers, k, log_likelihood FROM runs WHERE run_id = ?').raw().get(runId) as unknown[] | undefined;
-  if (!row) {
-    getRunDetail(db, runId); // throws the runs core's own "no such run" error
-    throw new InputError(`Run ${runId} does not exist.`);
-  }
-  return JSON.stringify(row);
-}
+const SUMMARY = 'certainty summary';
 
 /** The run's summary, built on first use and kept for the run's later calls on this connection. */
 export function runCertaintySummary(db: Database, runId: number): RunCertaintySummary {
-  const fingerprint = runFingerprint(db, runId);
-  let cache = summariesByConnection.get(db);
-  if (!cache) {
-    cache = new Map();
-    summariesByConnection.set(db, cache);
-  }
-  const cached = cache.get(runId);
-  if (cached && cached.fingerprint === fingerprint) {
-    // Map order is insertion order: re-inserting marks the run as most recently used.
-    cache.delete(runId);
-    cache.set(runId, cached);
-    return cached.summary;
-  }
-  const summary = buildCertaintySummary(readCertaintyColumns(db, runId));
-  cache.delete(runId);
-  cache.set(runId, { fingerprint, summary });
-  while (cache.size > MAX_CACHED_RUNS) cache.delete(cache.keys().next().value!);
-  return summary;
+  return derivedFromRun(db, runId, SUMMARY, () => buildCertaintySummary(readCertaintyColumns(db, runId)));
 }
 
 /** Whether a summary of the run is held for this connection (for tests of the cache). */
 export function hasCachedCertaintySummary(db: Database, runId: number): boolean {
-  return summariesByConnection.get(db)?.has(runId) ?? false;
+  return holdsDerived(db, runId, SUMMARY);
+}
+
+/** Histogram and counts under the sliders' thresholds, answered from the run's summary. */
+export function certaintySummary(db: Database, query: CertaintyQuery): CertaintySummary {
+  const summary = runCertaintySummary(db, query.runId);
+  const { atypical, cut } = atypicalCount(summary, query.atypicalPercentile);
+  const histogram = confidenceHistogram(summary, query.bins);
+  return {
+    runId: query.runId,
+    customers: summary.customers,
+    confidenceHistogram: histogram.map((customers, b) => ({ from: b / query.bins, to: (b + 1) / query.bins, customers })),
+    borderline: borderlineCount(summary, query),
+    atypical,
+    atypicalLogDensityBelow: cut,
+  };
 }

@@ -1,6 +1,6 @@
 import { accessSync, closeSync, constants, mkdirSync, openSync, readdirSync, renameSync, rmSync, statSync } from 'node:fs';
 import { join, resolve } from 'node:path';
-import { InputError } from '../../src/errors.js';
+import { InputError } from '../errors.js';
 import { AsciiSink } from './ascii-sink.js';
 
 /** Every file the generator writes into its output folder. */

@@ -1,7 +1,5 @@
 /** The demo chain generator's public surface: the CLI's `demo` command and tests use this. */
 export {
-  DEFAULT_CUSTOMERS,
-  DEFAULT_SEED,
   GENERATOR_VERSION,
   MAX_CUSTOMERS,
   generateDemoChain,

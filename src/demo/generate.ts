@@ -1,4 +1,4 @@
-import { InputError, throwIfAborted } from '../../src/errors.js';
+import { InputError, throwIfAborted } from '../errors.js';
 import { EVENT_NO_RECEIPT, MonthEvents, drawCustomerMonth, type CustomerState } from './activity.js';
 import { CATEGORIES, CHAIN_NAME, STORES } from './chain.js';
 import { AsciiSink, fixedWidthBytes } from './ascii-sink.js';
@@ -6,17 +6,16 @@ import { FIRST_DATE, LAST_DATE, LAST_DAY, MINUTES_PER_DAY, MONTHS, isoDateOf } f
 import { chooseAtypical, drawCustomer } from './customers.js';
 import { DEMO_FILES, DemoFileSet, prepareOutputFolder, type DemoFileKind } from './output-folder.js';
 
-export const DEFAULT_CUSTOMERS = 6000;
-export const DEFAULT_SEED = 2026;
-/** A demo, not a load test: 200,000 customers is about 2 GB of CSV (the app's API caps it there too). */
+/** A demo, not a load test: 200,000 customers is about 2 GB of CSV (the contract's limit too). */
 export const MAX_CUSTOMERS = 200_000;
 /** Bump when the generator's output changes for the same seed (the committed sample with it). */
 export const GENERATOR_VERSION = 1;
 
 export interface DemoChainOptions {
   outDir: string;
-  customers?: number;
-  seed?: number;
+  /** Size and seed (their defaults are the contract's demo settings, src/api/contract/export.ts). */
+  customers: number;
+  seed: number;
   /** Called after each month of history is written. */
   onProgress?: (progress: DemoProgress) => void;
   signal?: AbortSignal;
@@ -51,8 +50,7 @@ const VISITS_HEADER = 'customer_id,date,store_id,channel\n';
  * written as they are made, so memory does not grow with the history.
  */
 export async function generateDemoChain(options: DemoChainOptions): Promise<DemoChainResult> {
-  const customers = options.customers ?? DEFAULT_CUSTOMERS;
-  const seed = options.seed ?? DEFAULT_SEED;
+  const { customers, seed } = options;
   if (!Number.isSafeInteger(customers) || customers < 1 || customers > MAX_CUSTOMERS) {
     throw new InputError(`The number of customers must be a whole number from 1 to ${MAX_CUSTOMERS}; got ${customers}.`);
   }
