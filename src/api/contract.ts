@@ -5,7 +5,7 @@
  * - settings.ts: every setting of a run and of the fit-matrix tool — the only source of their
  *   limits and defaults;
  * - sources, runs, segments, certainty, review, movement, export: each screen's inputs and outputs;
- *   host.ts: the browser host's own settings (`serve`);
+ *   host.ts: the browser host's own settings (`serve`); warehouse.ts: SQL for the chain's engine;
  * - tasks.ts: long tasks and their events; methods.ts: the method table; shell.ts: transports.
  *
  * Every UI action is one method: a zod schema validates its input at the boundary (IPC, HTTP,
@@ -24,6 +24,7 @@ export * from './contract/review.js';
 export * from './contract/movement.js';
 export * from './contract/export.js';
 export * from './contract/host.js';
+export * from './contract/warehouse.js';
 export * from './contract/tasks.js';
 export * from './contract/methods.js';
 export * from './contract/shell.js';

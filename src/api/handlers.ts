@@ -3,6 +3,7 @@ import { cautions } from '../export/cautions.js';
 import { computedFeatureNames, featureDescriptions } from '../features/definitions.js';
 import { dataRange } from '../features/compute.js';
 import { importHistory, importReportPage, savedMapping } from '../ingest/import-history.js';
+import { featuresSql, modelSql, readScoringModel } from '../warehouse/index.js';
 import { previewFile } from '../ingest/preview.js';
 import { toCoreMapping, toScreenMapping } from '../ingest/screen-mapping.js';
 import { borderlinePage } from '../runs/read/borderline.js';
@@ -128,6 +129,22 @@ export const handlers = {
   startRun: (session, input) => session.startTask('startRun', input),
   exportRun: (session, input) => session.startTask('exportRun', { ...input, out: session.files.exportTarget(input.out) }),
   loadDemo: (session, input) => session.startTask('loadDemo', { ...input, customers: input.customers ?? session.demoCustomers }),
+  featuresSql: (_session, input) => {
+    const query = featuresSql(input);
+    return {
+      sql: query.sql,
+      dialect: query.dialect,
+      asOf: input.asOf,
+      windowMonths: input.windowMonths,
+      windowStart: query.windowStart,
+      tables: { receipts: input.receiptsTable, visits: input.visitsTable, customers: input.customersTable },
+      columns: query.columns,
+    };
+  },
+  modelSql: (session, input) => {
+    const query = modelSql(readScoringModel(session.db(), input.runId), { dialect: input.dialect, featuresTable: input.featuresTable });
+    return { ...query, runId: input.runId, featuresTable: input.featuresTable };
+  },
   cancelTask: (session, input) => session.tasks.cancel(input.taskId),
   taskStatus: (session, input) => session.tasks.status(input.taskId),
 } satisfies HandlerMap;

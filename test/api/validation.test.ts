@@ -42,6 +42,8 @@ const malformed: Record<ApiMethod, { input: unknown; field: string }> = {
   movement: { input: { runId: 1.5 }, field: 'runId' },
   exportRun: { input: { runId: 1, out: 'x.xlsx', minConfidence: 2 }, field: 'minConfidence' },
   loadDemo: { input: { customers: 0 }, field: 'customers' },
+  featuresSql: { input: { asOf: '2026-11-30', windowMonths: 61 }, field: 'windowMonths' },
+  modelSql: { input: { runId: 1, dialect: 'oracle' }, field: 'dialect' },
   cancelTask: { input: { taskId: '' }, field: 'taskId' },
   taskStatus: { input: {}, field: 'taskId' },
 };

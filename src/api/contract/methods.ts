@@ -29,6 +29,7 @@ import {
   type SavedMapping,
 } from './sources.js';
 import { taskInput, type CancelResult, type TaskStarted, type TaskStatus } from './tasks.js';
+import { featuresSqlInput, modelSqlInput, type FeaturesSqlResult, type ModelSqlResult } from './warehouse.js';
 
 /** The method table: name → input schema. Output types are in `ApiOutputs`. */
 export const apiSchemas = {
@@ -57,6 +58,8 @@ export const apiSchemas = {
   movement: runInput,
   exportRun: exportRunInput,
   loadDemo: loadDemoInput,
+  featuresSql: featuresSqlInput,
+  modelSql: modelSqlInput,
   cancelTask: taskInput,
   taskStatus: taskInput,
 } as const;
@@ -99,6 +102,8 @@ export interface ApiOutputs {
   movement: MovementResult;
   exportRun: TaskStarted<'exportRun'>;
   loadDemo: TaskStarted<'loadDemo'>;
+  featuresSql: FeaturesSqlResult;
+  modelSql: ModelSqlResult;
   cancelTask: CancelResult;
   taskStatus: TaskStatus;
 }
