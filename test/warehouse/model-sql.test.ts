@@ -17,6 +17,7 @@ import {
   type SqlDialectName,
 } from '../../src/warehouse/index.js';
 import { demoDatabase, sampleDir, type DemoDatabase } from '../runs/demo-database.js';
+import { fitSettings } from '../model/support.js';
 import { agreementOn, engineScores, seededRandom, syntheticRows, writeFeatureCsv, type TimedAgreement } from './support/agreement.js';
 import { appScores, compareScores, type EngineScore, type FeatureRows, type Scores } from './support/app-scores.js';
 import { chainFileColumns, openDuckDb, openPostgres, openSqlite, postgresBinaries, type ColumnSpec, type Engine } from './support/engines.js';
@@ -255,7 +256,7 @@ function fittedScoring(covariance: CovarianceType, d: number, seed: number): Sco
   const transforms = specs.map((spec, j) => fitTransform(features[j], spec, original[j]));
   const values = new Float64Array(n * d);
   for (let i = 0; i < n; i++) for (let j = 0; j < d; j++) values[i * d + j] = transformValue(features[j], transforms[j], original[j][i]);
-  const fit = fitMixture({ values, rows: n, cols: d, columnNames: features }, { components: 3, covarianceType: covariance, seed, restarts: 2 });
+  const fit = fitMixture({ values, rows: n, cols: d, columnNames: features }, { ...fitSettings, components: 3, covarianceType: covariance, seed, restarts: 2 });
   return {
     runId: null,
     features,
