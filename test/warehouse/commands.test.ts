@@ -43,16 +43,16 @@ describe('features-sql', () => {
   it('takes the window limit from the run schema and names bad options, with exit code 2', async () => {
     const tooLong = await cli('features-sql', '--as-of', '2026-11-30', '--window-months', '61');
     expect(tooLong.code).toBe(2);
-    expect(tooLong.stderr).toMatch(/windowMonths: .*60/);
+    expect(tooLong.stderr).toContain('the window in months (windowMonths, --window-months) must be at most 60 (got 61)');
     const dialect = await cli('features-sql', '--as-of', '2026-11-30', '--dialect', 'oracle');
     expect(dialect.code).toBe(2);
-    expect(dialect.stderr).toContain('dialect: must be one of duckdb, postgres, sqlite');
+    expect(dialect.stderr).toContain('(dialect, --dialect) must be one of duckdb, postgres, sqlite (got "oracle")');
     const table = await cli('features-sql', '--as-of', '2026-11-30', '--visits-table', 'visits; DROP TABLE receipts');
     expect(table.code).toBe(2);
     expect(table.stderr).toContain('is not a plain table name');
     const noDate = await cli('features-sql');
     expect(noDate.code).toBe(2);
-    expect(noDate.stderr).toContain('needs --as-of');
+    expect(noDate.stderr).toContain('the last day of the window (asOf, --as-of) is required');
   });
 });
 
@@ -113,7 +113,7 @@ describe('the API methods', () => {
     try {
       const features = await callApiOutcome(session, 'featuresSql', { asOf: '2026-11-30' });
       expect(features.ok && (features.value as FeaturesSqlResult).windowMonths).toBe(12);
-      const withoutDatabase = await callApiOutcome(session, 'modelSql', { runId: 'latest' });
+      const withoutDatabase = await callApiOutcome(session, 'modelSql', { runId: 1 });
       expect(withoutDatabase.ok === false && withoutDatabase.error).toMatchObject({ kind: 'input', message: expect.stringMatching(/No database is open/) });
       session.open(demo.path);
       const model = await callApiOutcome(session, 'modelSql', { runId, dialect: 'sqlite', featuresTable: 'scores_in' });
