@@ -9,6 +9,7 @@ import {
 } from '../../api/contract.js';
 import { onGroupRun, runGroup, type CliApi } from '../api-client.js';
 import type { CliIo } from '../run-command.js';
+import { describeQueueCounts, segmentationWords } from '../segment-words.js';
 import type { RegisterCommand } from '../run-command.js';
 import { addSchemaOptions, componentGroups, inputFromFlags, numberOrText, schemaOptions } from '../schema-options.js';
 
@@ -27,9 +28,8 @@ function describeSegment(segment: SegmentProfile): string {
 }
 
 function describeTree(value: RunSegmentation): string {
-  const methodWords = { auto: 'the entropy change point', level: 'a chosen number of segments', hand: 'merged and split by hand' };
   return [
-    `Run ${value.runId}: ${value.components} ${value.covariance} components combined into ${value.segmentCount} segments (${methodWords[value.method]}); ` +
+    `Run ${value.runId}: ${value.components} ${value.covariance} components combined into ${value.segmentCount} segments (${segmentationWords[value.method]}); ` +
       `auto chooses ${value.autoSegmentCount} (${value.autoSegmentCountByMergedRows} on the normalised curve)`,
     ...value.segments.map((segment) => `  ${segment.segment}  ${segment.key}  ${segment.name}: components ${segment.components.join(', ')}; ${segment.customers} customers`),
     'combining levels (segments, entropy, customers moved by the merge, groups of components):',
@@ -44,8 +44,8 @@ function describeTree(value: RunSegmentation): string {
 function describeRegroup(value: RegroupResult): string {
   const { summary } = value;
   return [
-    `Run ${summary.runId}: ${value.change}; now ${summary.segmentCount} segments, ${summary.borderline} borderline, ` +
-      `${summary.review.queued} queued of ${summary.review.flagged} flagged`,
+    `Run ${summary.runId}: ${value.change}; now ${summary.segmentCount} segment${summary.segmentCount === 1 ? '' : 's'}, ${summary.borderline} borderline, ` +
+      `review ${describeQueueCounts(summary.review)}`,
     ...summary.segments.map(
       (segment) => `  ${segment.key}  ${segment.name}: ${segment.customers} customers (${percent(segment.share)}), components ${segment.components.join(', ')}`,
     ),
