@@ -51,11 +51,31 @@ export type ReviewAction = (typeof reviewActions)[number];
 const columnMapping = z.record(z.string(), z.string());
 export type ColumnMapping = Record<string, string>;
 
-/** How dates and amounts in a file are written; `iso` and `.` unless the analyst says otherwise. */
+/**
+ * Dates an import accepts unless told otherwise: from 1990-01-01 (before any loyalty-card history
+ * an analyst loads; our choice) to a year after the day of the import (a till clock set wrong by
+ * months still imports; a year like 9999 does not). Dates outside are rejected rows in the report.
+ */
+export const PLAUSIBLE_DATES_FROM = '1990-01-01';
+export const PLAUSIBLE_DAYS_AHEAD = 366;
+export function defaultPlausibleDates(today: Date = new Date()): { from: string; to: string } {
+  return { from: PLAUSIBLE_DATES_FROM, to: new Date(today.getTime() + PLAUSIBLE_DAYS_AHEAD * 86_400_000).toISOString().slice(0, 10) };
+}
+
+export const importEncodings = ['utf-8', 'windows-1252'] as const;
+
+/** How dates, amounts and text in a file are written; `iso`, `.` and UTF-8 unless the analyst says otherwise. */
 const readOptions = {
   sheet: z.string().min(1).optional(),
   dateOrder: z.enum(['iso', 'day-first', 'month-first']).default('iso'),
   decimalSeparator: z.enum(['.', ',']).default('.'),
+  /** CSV text encoding: UTF-8 (a UTF-16 byte-order mark is honoured); a file that is not UTF-8 is refused, naming this choice. */
+  encoding: z.enum(importEncodings).default('utf-8'),
+  /** Dates outside this range are rejected rows, listed in the import report. */
+  plausibleDates: z
+    .strictObject({ from: isoDate, to: isoDate })
+    .refine((range) => range.from <= range.to, 'from must not be after to')
+    .default(() => defaultPlausibleDates()),
 };
 
 /** Returned at once by every long task; its events carry the same id. */
@@ -613,6 +633,9 @@ export interface MovementResult {
 // ---------------------------------------------------------------------------------------------
 // Export and demo
 
+export const csvDialects = ['comma', 'semicolon'] as const;
+export type CsvDialect = (typeof csvDialects)[number];
+
 export const exportRunInput = z.strictObject({
   runId,
   out: nonEmpty('out'),
@@ -621,6 +644,14 @@ export const exportRunInput = z.strictObject({
   segments: z.array(nonEmpty('segment name')).optional(),
   minConfidence: probability.default(0),
   includeReviewed: z.boolean().default(true),
+  /** CSV only: `comma` (comma-separated, decimal point) or `semicolon` (semicolon-separated, decimal comma: locales that write 1.234,56). */
+  csvDialect: z.enum(csvDialects).default('comma'),
+  /**
+   * CSV only: write ids and other text exactly as stored, without the apostrophe put before text
+   * beginning with = + - @ (or a tab, CR, LF). For lists another system reads by id. Risk: a
+   * spreadsheet program that opens such a file may run that text as a formula.
+   */
+  csvRawIds: z.boolean().default(false),
 });
 /** Exactly the `export --json` object of DESIGN.md §10. */
 export interface ExportResult {

@@ -47,6 +47,8 @@ async function importOne(db: Database, input: ApiParsedInput<'importFile'>, cont
       decimalComma: input.decimalSeparator === ',',
       maxRejectedShare: input.rejectionThreshold,
       sheet: input.sheet,
+      encoding: input.encoding,
+      plausibleDates: input.plausibleDates,
     },
     signal: context.signal,
     onProgress: (progress) =>

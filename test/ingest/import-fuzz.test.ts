@@ -114,7 +114,12 @@ describe('importer fuzzing (fast-check)', () => {
           result = await importFile(db, {
             path,
             kind: sample.kind,
-            options: { maxRejectedShare: sample.maxRejectedShare, dateFormat: sample.dateFormat, decimalComma: sample.decimalComma },
+            options: {
+              maxRejectedShare: sample.maxRejectedShare,
+              dateFormat: sample.dateFormat,
+              decimalComma: sample.decimalComma,
+              encoding: sample.encoding === 'win1252' ? 'windows-1252' : 'utf-8',
+            },
           });
         } catch (error) {
           // Only a clear bad-input refusal is allowed, and it leaves everything as it was.

@@ -1,5 +1,6 @@
 import { existsSync } from 'node:fs';
 import { InputError } from '../../errors.js';
+import { csvDialects, type CsvDialect } from '../../export/csv-writer.js';
 import { exportFormats, exportRun, type ExportFormat, type ExportResult } from '../../export/export-run.js';
 import { openDatabase } from '../../store/database.js';
 import { parseNumber, runCommand, type RegisterCommand } from '../run-command.js';
@@ -12,6 +13,8 @@ interface ExportCliOptions {
   segments?: string;
   minConfidence: number;
   includeReviewed: boolean;
+  csvDialect?: string;
+  csvRawIds?: boolean;
   json?: boolean;
 }
 
@@ -62,6 +65,11 @@ export const registerExport: RegisterCommand = (program, io, setExitCode) => {
     .option('--min-confidence <x>', 'list only customers the model places with at least this confidence (0 to 1)', parseNumber('--min-confidence', 0, 1), 0)
     .option('--include-reviewed', 'list customers with a keep or move review decision', true)
     .option('--no-include-reviewed', 'leave out every customer with a review decision')
+    .option('--csv-dialect <comma|semicolon>', 'CSV: comma-separated with a decimal point (default), or semicolon-separated with a decimal comma (for spreadsheets set to a locale that writes 1.234,56)')
+    .option(
+      '--csv-raw-ids',
+      'CSV: write ids and other text exactly as stored, without the apostrophe put before text beginning with = + - @. For lists another system reads by id. RISK: a spreadsheet program that opens the file may run such text as a formula; do not open it in one',
+    )
     .option('--json', 'print one JSON object {out, sheets, customersExported, suppressedNoConsent}')
     .addHelpText(
       'after',
@@ -78,6 +86,9 @@ export const registerExport: RegisterCommand = (program, io, setExitCode) => {
           if (!options.out) throw new InputError('export needs --out FILE.xlsx (workbook) or --out FILE.csv (campaign list).');
           const format = parseFormatOption(options.format);
           const segments = parseSegmentsOption(options.segments);
+          if (options.csvDialect !== undefined && !(csvDialects as readonly string[]).includes(options.csvDialect)) {
+            throw new InputError(`--csv-dialect must be ${csvDialects.join(' or ')}; got "${options.csvDialect}".`);
+          }
           if (!existsSync(options.db)) throw new InputError(`Database ${options.db} does not exist.`);
           const db = openDatabase(options.db);
           try {
@@ -89,6 +100,8 @@ export const registerExport: RegisterCommand = (program, io, setExitCode) => {
               segments,
               minConfidence: options.minConfidence,
               includeReviewed: options.includeReviewed,
+              csvDialect: options.csvDialect as CsvDialect | undefined,
+              csvRawIds: Boolean(options.csvRawIds),
               onProgress: showProgress
                 ? (progress) => io.stderr(`\r${progress.message}   ${progress.phase === 'finishing' ? '\n' : ''}`)
                 : undefined,

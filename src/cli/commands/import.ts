@@ -1,4 +1,6 @@
+import { defaultPlausibleDates, importEncodings } from '../../api/contract.js';
 import { InputError } from '../../errors.js';
+import type { EncodingChoice } from '../../ingest/file-probe.js';
 import { importFile, DEFAULT_MAX_REJECTED_SHARE, type ImportResult } from '../../ingest/import-file.js';
 import { parseMapOptions } from '../../ingest/mapping.js';
 import { DATE_FORMATS, type DateFormat } from '../../ingest/values.js';
@@ -18,6 +20,8 @@ interface ImportCliOptions {
   decimalComma?: boolean;
   maxRejectedShare: number;
   delimiter?: string;
+  encoding: string;
+  plausibleDates: string;
   json?: boolean;
 }
 
@@ -70,6 +74,12 @@ export const registerImport: RegisterCommand = (program, io, setExitCode) => {
       DEFAULT_MAX_REJECTED_SHARE,
     )
     .option('--delimiter <d>', 'CSV: comma, semicolon, tab or pipe instead of detecting it')
+    .option('--encoding <name>', `CSV: ${importEncodings.join(' or ')} (a file that is not UTF-8 is refused, naming this option)`, 'utf-8')
+    .option(
+      '--plausible-dates <from..to>',
+      'reject rows dated outside this range, listing them in the report (default 1990-01-01 to a year after today)',
+      `${defaultPlausibleDates().from}..${defaultPlausibleDates().to}`,
+    )
     .option('--json', 'print one JSON object {file, kind, rowsRead, rowsImported, rowsRejected, duplicatesSkipped, alreadyImported, amountTotal, report}')
     .addHelpText(
       'after',
@@ -90,6 +100,11 @@ export const registerImport: RegisterCommand = (program, io, setExitCode) => {
             delimiter = DELIMITER_NAMES[options.delimiter];
             if (delimiter === undefined) throw new InputError(`--delimiter must be comma, semicolon, tab or pipe; got "${options.delimiter}".`);
           }
+          if (!(importEncodings as readonly string[]).includes(options.encoding)) {
+            throw new InputError(`--encoding must be ${importEncodings.join(' or ')}; got "${options.encoding}".`);
+          }
+          const range = /^(\d{4}-\d{2}-\d{2})\.\.(\d{4}-\d{2}-\d{2})$/.exec(options.plausibleDates.trim());
+          if (!range) throw new InputError(`--plausible-dates must be FROM..TO, two dates YYYY-MM-DD; got "${options.plausibleDates}".`);
           const mapping = parseMapOptions(options.map);
           const db = openDatabase(options.db);
           try {
@@ -104,6 +119,8 @@ export const registerImport: RegisterCommand = (program, io, setExitCode) => {
                 decimalComma: Boolean(options.decimalComma),
                 maxRejectedShare: options.maxRejectedShare,
                 delimiter,
+                encoding: options.encoding as EncodingChoice,
+                plausibleDates: { from: range[1], to: range[2] },
               },
               onProgress: showProgress
                 ? ({ phase, rows, bytes, totalBytes }) =>
