@@ -32,14 +32,26 @@ const kindStyles = new Map<ValueKind | 'none', Partial<ExcelJS.Style>>(
 const titleStyle: Partial<ExcelJS.Style> = { font: { bold: true, size: 14 } };
 const sectionStyle: Partial<ExcelJS.Style> = { font: { bold: true, size: 12 } };
 const wrapStyle: Partial<ExcelJS.Style> = { alignment: { wrapText: true, vertical: 'top' } };
+/** A sub-line's label is indented by the cell style, not by leading spaces (LibreOffice drops those). */
+const indentStyle: Partial<ExcelJS.Style> = { alignment: { indent: 2 } };
 
-/** Adds one overview line; cell kinds give number formats, formula-shaped text is quote-prefixed like every cell. */
-function addLine(sheet: ExcelJS.Worksheet, values: CellValue[], kinds: (ValueKind | undefined)[] = [], style?: Partial<ExcelJS.Style>): void {
+/**
+ * Adds one overview line; cell kinds give number formats, formula-shaped text is quote-prefixed
+ * like every cell. `labelStyle` styles the first cell only (an indented sub-line).
+ */
+function addLine(
+  sheet: ExcelJS.Worksheet,
+  values: CellValue[],
+  kinds: (ValueKind | undefined)[] = [],
+  style?: Partial<ExcelJS.Style>,
+  labelStyle?: Partial<ExcelJS.Style>,
+): void {
   const cells = values.map(cellValue);
   const row = sheet.addRow(cells);
   cells.forEach((value, index) => {
     const cell = row.getCell(index + 1);
-    cell.style = cellStyle(value, style ?? kindStyles.get(kinds[index] ?? 'text') ?? {});
+    const base = index === 0 && labelStyle ? labelStyle : (style ?? kindStyles.get(kinds[index] ?? 'text') ?? {});
+    cell.style = cellStyle(value, base);
   });
   row.commit();
 }
@@ -88,7 +100,7 @@ function writeOverview(workbook: ExcelJS.stream.xlsx.WorkbookWriter, job: Workbo
   addLine(sheet, ['All segments', sum((s) => s.customers), sum((s) => s.share), sum((s) => s.revenue), sum((s) => s.revenueShare)], segmentKinds);
 
   addSection(sheet, 'Customers in the run');
-  const count = (label: string, value: number) => addLine(sheet, [label, value], [undefined, 'count']);
+  const count = (label: string, value: number, labelStyle?: Partial<ExcelJS.Style>) => addLine(sheet, [label, value], [undefined, 'count'], undefined, labelStyle);
   count('Placed in a segment', header.counts.placed);
   count('Too new to place', header.counts.tooNew);
   count('Borderline', header.counts.borderline);
@@ -98,8 +110,8 @@ function writeOverview(workbook: ExcelJS.stream.xlsx.WorkbookWriter, job: Workbo
   for (const line of describeFilter(filter)) addLine(sheet, [line.label, line.value]);
   count('Customers listed', plan.tally.listed);
   count('Suppressed: no marketing consent (refused or unknown)', suppressedCount(plan.tally));
-  count('   of which refused', plan.tally.noConsent);
-  count('   of which unknown', plan.tally.unknownConsent);
+  count('of which refused', plan.tally.noConsent, indentStyle);
+  count('of which unknown', plan.tally.unknownConsent, indentStyle);
   count('Left out: excluded by review', plan.tally.excludedByReview);
   count('Left out: not in the chosen segments', plan.tally.otherSegment);
   count('Left out: below the minimum confidence', plan.tally.belowConfidence);

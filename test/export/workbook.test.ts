@@ -124,7 +124,7 @@ describe('workbook read back by openpyxl', () => {
     expect(result.suppressedNoConsent).toBe(wouldBeListed.length);
     const entries = overviewEntries(sheet(book, 'Overview'));
     expect(entries.get('Suppressed: no marketing consent (refused or unknown)')?.v).toBe(wouldBeListed.length);
-    expect(entries.get('   of which refused')?.v).toBe(wouldBeListed.filter((row) => row.marketingConsent === 0).length);
+    expect(entries.get('of which refused')?.v).toBe(wouldBeListed.filter((row) => row.marketingConsent === 0).length);
     expect(entries.get('Review queue: suppressed (no or unknown consent)')?.v).toBe(1);
   });
 
