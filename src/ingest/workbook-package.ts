@@ -190,13 +190,6 @@ export class WorkbookPackage {
     }
   }
 
-  /** A small part's whole text. */
-  async readText(partName: string, maxBytes: number): Promise<string> {
-    let text = '';
-    for await (const piece of this.textChunks(partName, maxBytes)) text += piece;
-    return text;
-  }
-
   close(): void {
     this.zip.close();
   }

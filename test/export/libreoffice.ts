@@ -9,10 +9,11 @@
  * thousand and twenty-five, as a user's LibreOffice in Germany does.
  */
 import { spawnSync } from 'node:child_process';
-import { copyFileSync, existsSync, mkdirSync, mkdtempSync, writeFileSync } from 'node:fs';
+import { parse } from 'csv-parse/sync';
+import { copyFileSync, existsSync, mkdirSync, mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { basename, extname, join } from 'node:path';
-import { readWorkbook, type ReadWorkbook } from './independent-readers.js';
+import { readWorkbook, sheet, type ReadCell, type ReadSheet, type ReadWorkbook } from './independent-readers.js';
 
 export type OfficeLocale = 'en-US' | 'de-DE';
 
@@ -59,4 +60,62 @@ export function readWithLibreOffice(file: string, locale: OfficeLocale, csvSepar
     throw new Error(`LibreOffice could not convert ${file} (${result.status}): ${result.stderr} ${result.stdout}`);
   }
   return readWorkbook(converted);
+}
+
+/** Equal as LibreOffice keeps numbers: to 15 significant digits. */
+export function sameNumber(ours: number, theirs: number): boolean {
+  return ours === theirs || Math.abs(ours - theirs) <= 1e-14 * Math.abs(ours);
+}
+
+export interface Comparison {
+  numbers: number;
+  texts: number;
+  mismatches: string[];
+}
+
+/** Every cell of our sheets against LibreOffice's reading of them. */
+export function compareWorkbooks(ours: ReadWorkbook, theirs: ReadWorkbook): Comparison {
+  const result: Comparison = { numbers: 0, texts: 0, mismatches: [] };
+  for (const mine of ours.sheets) {
+    const other = sheet(theirs, mine.name);
+    (mine.rows ?? []).forEach((row, r) =>
+      row.forEach((cell, c) => {
+        const seen: ReadCell = other.rows?.[r]?.[c] ?? { v: null, t: 'n', f: 'General' };
+        const where = `${mine.name}!R${r + 1}C${c + 1}`;
+        if (typeof cell.v === 'number') {
+          result.numbers += 1;
+          if (typeof seen.v !== 'number' || !sameNumber(cell.v, seen.v)) result.mismatches.push(`${where}: ${cell.v} read as ${JSON.stringify(seen.v)}`);
+        } else if (cell.t === 'd') {
+          if (seen.t !== 'd' || String(seen.v).slice(0, 19) !== String(cell.v).slice(0, 19)) result.mismatches.push(`${where}: date ${cell.v} read as ${JSON.stringify(seen.v)}`);
+        } else if (cell.v !== null) {
+          result.texts += 1;
+          if (seen.t !== 's' || seen.v !== cell.v) result.mismatches.push(`${where}: text ${JSON.stringify(cell.v)} read as ${JSON.stringify(seen.v)} (${seen.t})`);
+        }
+      }),
+    );
+  }
+  return result;
+}
+
+/** Every field of a CSV list against LibreOffice's reading of it: numbers as numbers, exactly. */
+export function compareCsv(path: string, separator: ',' | ';', theirs: ReadSheet): Comparison {
+  const records = parse(readFileSync(path, 'utf8'), { bom: true, delimiter: separator }) as string[][];
+  const number = separator === ';' ? /^-?\d+(,\d+)?$/ : /^-?\d+(\.\d+)?$/;
+  const result: Comparison = { numbers: 0, texts: 0, mismatches: [] };
+  records.forEach((record, r) =>
+    record.forEach((field, c) => {
+      const seen = theirs.rows?.[r]?.[c] ?? { v: null, t: 'n', f: 'General' };
+      const where = `R${r + 1}C${c + 1}`;
+      if (field === '') {
+        if (seen.v !== null) result.mismatches.push(`${where}: empty read as ${JSON.stringify(seen.v)}`);
+      } else if (number.test(field)) {
+        result.numbers += 1;
+        if (seen.v !== Number(field.replace(',', '.'))) result.mismatches.push(`${where}: ${field} read as ${JSON.stringify(seen.v)}`);
+      } else {
+        result.texts += 1;
+        if (seen.t !== 's' || seen.v !== field) result.mismatches.push(`${where}: text ${JSON.stringify(field)} read as ${JSON.stringify(seen.v)} (${seen.t})`);
+      }
+    }),
+  );
+  return result;
 }
