@@ -5,8 +5,9 @@
  * Before, an XLSX export hid the reason behind "This database connection is busy executing a
  * query" (exit 1).
  *
- * In process with a stream that fails like a full disk; then for real through the CLI: onto a
- * tmpfs of 16 KiB, and as the user "nobody" into a folder only root may write.
+ * In process with a stream that fails like a full disk (runs anywhere); then for real (needs
+ * root): in process onto a tmpfs of 64 KiB with a live cursor, and through the CLI onto a tmpfs
+ * of 16 KiB and as the user "nobody" into a folder only root may write.
  */
 import BetterSqlite3 from 'better-sqlite3';
 import { spawnSync } from 'node:child_process';
@@ -82,6 +83,7 @@ describe.skipIf(!isRoot)('real failures through the CLI (needs root: mounts a tm
   const folder = mkdtempSync(join(tmpdir(), 'spendmix-export-fail-'));
   const dbPath = join(folder, 'larkmoor.db');
   const full = join(folder, 'full');
+  const fullForCursor = join(folder, 'full-64k');
   let mounted = false;
 
   beforeAll(async () => {
@@ -90,14 +92,15 @@ describe.skipIf(!isRoot)('real failures through the CLI (needs root: mounts a tm
     await runSegmentation(db, { asOf: '2026-11-30', windowMonths: 12, mode: 'refit', k: 3, covariance: 'diag', restarts: 1, seed: 3 });
     db.close();
     mkdirSync(full);
+    mkdirSync(fullForCursor);
     const mount = spawnSync('mount', ['-t', 'tmpfs', '-o', 'size=16k', 'tmpfs', full], { encoding: 'utf8' });
-    mounted = mount.status === 0;
+    mounted = mount.status === 0 && spawnSync('mount', ['-t', 'tmpfs', '-o', 'size=64k', 'tmpfs', fullForCursor]).status === 0;
     // A container without the right to mount: the full-disk cases are skipped, saying why.
     if (!mounted) console.warn(`Full-disk cases skipped: mounting a 16 KiB tmpfs failed: ${mount.stderr.trim()}`);
   });
 
   afterAll(() => {
-    if (mounted) spawnSync('umount', [full]);
+    for (const mountPoint of [full, fullForCursor]) spawnSync('umount', [mountPoint]);
     rmSync(folder, { recursive: true, force: true });
   });
 
@@ -106,6 +109,17 @@ describe.skipIf(!isRoot)('real failures through the CLI (needs root: mounts a tm
     const [program, ...rest] = asNobody ? ['setpriv', '--reuid=65534', '--regid=65534', '--clear-groups', ...command] : command;
     return spawnSync(program, rest, { cwd: projectRoot, encoding: 'utf8', timeout: 120_000, env: { ...process.env, HOME: tmpdir() } });
   };
+
+  it('XLSX onto a real full disk while a cursor is open (in process): the disk is full, and the connection closes', async (context) => {
+    if (!mounted) context.skip();
+    const db = new BetterSqlite3(':memory:');
+    const out = join(fullForCursor, 'list.xlsx');
+    const failure = await exportSource(cursorSource(db), { out }).catch((error: unknown) => error);
+    expect((failure as Error).message).toBe(`${out} cannot be written: the disk is full.`);
+    // Before, the writer still held the cursor here: "This database connection is busy executing a query".
+    expect(() => db.close()).not.toThrow();
+    expect(readdirSync(fullForCursor)).toEqual([]);
+  });
 
   for (const format of ['xlsx', 'csv'] as const) {
     it(`${format.toUpperCase()} onto a full disk: exit 2, "the disk is full", nothing left on the disk`, (context) => {
