@@ -6,27 +6,14 @@ import { fileURLToPath } from 'node:url';
 import type { Command } from 'commander';
 import { afterEach, describe, expect, it } from 'vitest';
 import { commandModules } from '../src/cli/commands/index.js';
-import { buildProgram, runCli } from '../src/cli/program.js';
-import { runCommand, type CliIo, type RegisterCommand } from '../src/cli/run-command.js';
+import { buildProgram } from '../src/cli/program.js';
+import { runCommand, type RegisterCommand } from '../src/cli/run-command.js';
 import { InputError } from '../src/errors.js';
+import { cli } from './support/run-cli.js';
 
 const projectRoot = fileURLToPath(new URL('..', import.meta.url));
 const freshFolder = () => mkdtempSync(join(tmpdir(), 'spendmix-cli-'));
 
-interface Captured {
-  code: number;
-  stdout: string;
-  stderr: string;
-}
-
-/** Runs the CLI in-process, as `npm run -s spendmix -- …argv` would, capturing its output. */
-async function cli(...argv: string[]): Promise<Captured> {
-  let stdout = '';
-  let stderr = '';
-  const io: CliIo = { stdout: (text) => void (stdout += text), stderr: (text) => void (stderr += text) };
-  const code = await runCli(argv, io);
-  return { code, stdout, stderr };
-}
 
 /** The one JSON object a --json run prints: exactly one line on stdout, nothing else. */
 function onlyJson(stdout: string): Record<string, unknown> {
@@ -76,11 +63,11 @@ describe('CLI conventions (DESIGN.md §10): demo --out', () => {
   });
 
   it.each([
-    [['--customers', '0'], /--customers must be a whole number from 1 to 200000; got "0"/],
-    [['--customers', '200001'], /--customers must be a whole number from 1 to 200000; got "200001"/],
-    [['--customers', 'many'], /--customers must be a whole number/],
-    [['--customers', '1.5'], /--customers must be a whole number/],
-    [['--seed', '-3'], /--seed must be a whole number from 0/],
+    [['--customers', '0'], /customers in the demo chain \(customers, --customers\) must be at least 1 \(got 0\)/],
+    [['--customers', '200001'], /customers in the demo chain \(customers, --customers\) must be at most 200000 \(got 200001\)/],
+    [['--customers', 'many'], /\(customers, --customers\) must be a number \(got "many"\)/],
+    [['--customers', '1.5'], /\(customers, --customers\) must be a whole number \(got 1.5\)/],
+    [['--seed', '-3'], /the generator's seed \(seed, --seed\) must be at least 0 \(got -3\)/],
     [[], /demo needs --out DIR/],
   ])('exits 2 with a message on stderr for bad input: demo %j', async (args, message) => {
     const out = args.length === 0 ? [] : ['--out', freshFolder()];
@@ -206,7 +193,7 @@ describe('CLI as a process (the real exit codes)', () => {
     const bad = spawnCli(['demo', '--out', out, '--customers', '-4', '--json']);
     expect(bad.status).toBe(2);
     expect(bad.stdout).toBe('');
-    expect(bad.stderr).toMatch(/--customers must be a whole number/);
+    expect(bad.stderr).toMatch(/\(customers, --customers\) must be at least 1 \(got -4\)/);
   });
 
   it('exits 1 on an internal failure', () => {

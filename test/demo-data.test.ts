@@ -7,17 +7,17 @@ import { beforeAll, describe, expect, it } from 'vitest';
 import {
   CATEGORIES,
   CHAIN_NAME,
-  DEFAULT_SEED,
   DEMO_FILES,
   STORES,
   atypicalCount,
   generateDemoChain,
   type DemoChainResult,
-} from '../demo-data/generator/index.js';
-import { AsciiSink } from '../demo-data/generator/ascii-sink.js';
-import { STORE_PLACES } from '../demo-data/generator/chain.js';
-import { formatCents } from '../demo-data/generator/generate.js';
-import { buildMessyFiles, messyReadme } from '../demo-data/generator/messy.js';
+} from '../src/demo/index.js';
+import { DEFAULT_DEMO_CUSTOMERS, DEFAULT_DEMO_SEED } from '../src/api/contract.js';
+import { AsciiSink } from '../src/demo/ascii-sink.js';
+import { STORE_PLACES } from '../src/demo/chain.js';
+import { formatCents } from '../src/demo/generate.js';
+import { buildMessyFiles, messyReadme } from '../src/demo/messy.js';
 import { CancelledError, InputError } from '../src/errors.js';
 
 const projectRoot = fileURLToPath(new URL('..', import.meta.url));
@@ -100,7 +100,7 @@ describe('demo chain generator: the default chain (6,000 customers, seed 2026)',
   const progressMonths: string[] = [];
 
   beforeAll(async () => {
-    result = await generateDemoChain({ outDir: freshFolder(), onProgress: (p) => progressMonths.push(p.month) });
+    result = await generateDemoChain({ outDir: freshFolder(), customers: DEFAULT_DEMO_CUSTOMERS, seed: DEFAULT_DEMO_SEED, onProgress: (p) => progressMonths.push(p.month) });
     receipts = rowsOf(result.files.receipts);
     receiptSummaries = summariseReceipts(receipts);
     visits = rowsOf(result.files.visits);
@@ -131,7 +131,7 @@ describe('demo chain generator: the default chain (6,000 customers, seed 2026)',
     expect(receipts).toHaveLength(result.receiptRows);
     expect(visits).toHaveLength(result.visits);
     const manifest = JSON.parse(readFileSync(result.files.manifest, 'utf8'));
-    expect(manifest).toMatchObject({ seed: DEFAULT_SEED, customers: 6000, receipts: result.receipts, visits: result.visits });
+    expect(manifest).toMatchObject({ seed: DEFAULT_DEMO_SEED, customers: 6000, receipts: result.receipts, visits: result.visits });
   });
 
   it('writes well-formed rows: ISO date-times in the history, EUR with 2 decimals, known stores and departments', () => {
@@ -371,18 +371,18 @@ describe('demo chain generator: names and the output folder', () => {
   });
 
   it('refuses bad counts and seeds, files and folders holding other files, with InputError', async () => {
-    await expect(generateDemoChain({ outDir: freshFolder(), customers: 0 })).rejects.toThrow(InputError);
-    await expect(generateDemoChain({ outDir: freshFolder(), customers: 2.5 })).rejects.toThrow(/whole number/);
-    await expect(generateDemoChain({ outDir: freshFolder(), seed: -1 })).rejects.toThrow(InputError);
+    await expect(generateDemoChain({ outDir: freshFolder(), customers: 0, seed: 1 })).rejects.toThrow(InputError);
+    await expect(generateDemoChain({ outDir: freshFolder(), customers: 2.5, seed: 1 })).rejects.toThrow(/whole number/);
+    await expect(generateDemoChain({ outDir: freshFolder(), customers: 5, seed: -1 })).rejects.toThrow(InputError);
     const busy = freshFolder();
     writeFileSync(join(busy, 'notes.txt'), 'keep me');
-    await expect(generateDemoChain({ outDir: busy, customers: 5 })).rejects.toThrow(/already holds other files \(notes\.txt\)/);
+    await expect(generateDemoChain({ outDir: busy, customers: 5, seed: 1 })).rejects.toThrow(/already holds other files \(notes\.txt\)/);
     expect(readdirSync(busy)).toEqual(['notes.txt']);
     const file = join(freshFolder(), 'a-file');
     writeFileSync(file, '');
-    await expect(generateDemoChain({ outDir: file, customers: 5 })).rejects.toThrow(/is a file, not a folder/);
-    await expect(generateDemoChain({ outDir: join(file, 'below'), customers: 5 })).rejects.toThrow(InputError);
-    await expect(generateDemoChain({ outDir: '' })).rejects.toThrow(/output folder is missing/);
+    await expect(generateDemoChain({ outDir: file, customers: 5, seed: 1 })).rejects.toThrow(/is a file, not a folder/);
+    await expect(generateDemoChain({ outDir: join(file, 'below'), customers: 5, seed: 1 })).rejects.toThrow(InputError);
+    await expect(generateDemoChain({ outDir: '', customers: 5, seed: 1 })).rejects.toThrow(/output folder is missing/);
   });
 
   it('creates a missing folder, replaces an earlier demo, and leaves it intact when cancelled', async () => {
@@ -399,6 +399,6 @@ describe('demo chain generator: names and the output folder', () => {
     expect(sha256(second.files.receipts)).not.toBe(before);
     expect(existsSync(join(folder, 'receipts.csv.partial'))).toBe(false);
     mkdirSync(join(folder, 'extra'));
-    await expect(generateDemoChain({ outDir: folder, customers: 20 })).rejects.toThrow(/already holds other files \(extra\)/);
+    await expect(generateDemoChain({ outDir: folder, customers: 20, seed: 1 })).rejects.toThrow(/already holds other files \(extra\)/);
   });
 });

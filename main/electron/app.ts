@@ -11,7 +11,7 @@ import { registerIpc, type IpcWiring } from './ipc.js';
 import { buildMenuTemplate } from './menu.js';
 import { serveAppRequest } from './protocol.js';
 import { RecentDatabases } from './recent.js';
-import { lockDownContents, lockDownSession, secureWebPreferences } from './security.js';
+import { insecurePreferences, lockDownContents, lockDownSession, secureWebPreferences } from './security.js';
 
 const { app, BrowserWindow, Menu, dialog, ipcMain, protocol, session: electronSession } = electron;
 
@@ -119,6 +119,9 @@ export async function startElectronApp(
   ipc = registerIpc({ ipcMain, session: apiSession, windows: () => windows, dialog });
   refreshMenu();
 
+  const webPreferences = secureWebPreferences(paths.preloadPath);
+  const insecure = insecurePreferences(webPreferences);
+  if (insecure.length > 0) throw new Error(`Refusing to open a window with unsafe settings: ${insecure.join('; ')}.`);
   const window = new BrowserWindow({
     width: 1360,
     height: 880,
@@ -127,7 +130,7 @@ export async function startElectronApp(
     title: `Spendmix — ${apiSession.dbPath}`,
     show: false,
     backgroundColor: '#f6f5f1',
-    webPreferences: secureWebPreferences(paths.preloadPath),
+    webPreferences,
   });
   windows.push(window);
   window.once('ready-to-show', () => window.show());

@@ -3,6 +3,24 @@ import { contentSecurityPolicy } from '../../src/api/content-security-policy.js'
 import { appOrigin } from './channels.js';
 
 /**
+ * The settings every window must have (files dropped on a window go to the Sources screen's drop
+ * zone and never replace the page: navigateOnDragDrop), checked again before a window opens, so
+ * an option changed on the way cannot open every screen to Node.
+ */
+const requiredPreferences = {
+  contextIsolation: true,
+  sandbox: true,
+  nodeIntegration: false,
+  nodeIntegrationInWorker: false,
+  nodeIntegrationInSubFrames: false,
+  webSecurity: true,
+  allowRunningInsecureContent: false,
+  webviewTag: false,
+  experimentalFeatures: false,
+  navigateOnDragDrop: false,
+} as const satisfies WebPreferences;
+
+/**
  * The Electron security settings of DESIGN.md §12 (Electron's own security checklist): every
  * screen runs isolated and sandboxed without Node, loads only our own scheme, and can neither
  * navigate, open windows, nor get permissions.
@@ -10,19 +28,16 @@ import { appOrigin } from './channels.js';
 export function secureWebPreferences(preloadPath: string): WebPreferences {
   return {
     preload: preloadPath,
-    contextIsolation: true,
-    sandbox: true,
-    nodeIntegration: false,
-    nodeIntegrationInWorker: false,
-    nodeIntegrationInSubFrames: false,
-    webSecurity: true,
-    allowRunningInsecureContent: false,
-    webviewTag: false,
-    experimentalFeatures: false,
-    // Files dropped on the window go to the Sources screen's drop zone, never replace the page.
-    navigateOnDragDrop: false,
+    ...requiredPreferences,
     spellcheck: false,
   };
+}
+
+/** The security settings a window's preferences get wrong (empty when they are all as required). */
+export function insecurePreferences(preferences: WebPreferences): string[] {
+  return Object.entries(requiredPreferences)
+    .filter(([key, required]) => preferences[key as keyof WebPreferences] !== required)
+    .map(([key, required]) => `${key} must be ${String(required)}`);
 }
 
 /** The content security policy sent with every page of ours (the same as the browser host's). */

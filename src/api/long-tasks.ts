@@ -1,44 +1,47 @@
 import { mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { DEFAULT_CUSTOMERS, generateDemoChain } from '../../demo-data/generator/index.js';
+import { generateDemoChain } from '../demo/index.js';
 import { exportRun } from '../export/export-run.js';
 import { importFile } from '../ingest/import-file.js';
 import { demoDatabaseSummary, loadDemoFiles } from '../ingest/load-demo.js';
+import { featureData } from '../runs/feature-data.js';
 import { runSegmentation } from '../runs/run.js';
-import type { RunSettings as CoreRunSettings } from '../runs/types.js';
-import { listImports } from '../store/imports-repo.js';
+import type { RunProgress } from '../runs/types.js';
 import { openDatabase, type Database } from '../store/database.js';
 import { throwIfAborted } from '../errors.js';
-import type { ApiParsedInput, ImportResult, LongTaskMethod, TaskResults } from './contract.js';
+import {
+  DEFAULT_DEMO_CUSTOMERS,
+  delimiterNames,
+  explicitRunSettings,
+  type ApiParsedInput,
+  type ExplicitRunSettings,
+  type LongTaskMethod,
+  type RunSettings,
+  type TaskResults,
+} from './contract.js';
 import type { LongTaskRequest } from './long-task-request.js';
 import type { ProgressReporter } from './tasks.js';
+
+/**
+ * The long tasks' work: import, segmentation run, export and demo load, each on its own database
+ * connection. The app runs them on a worker thread (task-worker.ts); the CLI runs the same
+ * function on its own thread (src/cli/session.ts), so both do exactly the same work.
+ */
 
 export interface LongTaskContext {
   signal: AbortSignal;
   onProgress: ProgressReporter;
 }
 
-/** The contract's run settings in the runs core's terms. */
-export function toCoreRunSettings(input: ApiParsedInput<'startRun'>): CoreRunSettings {
-  const { features, ...rest } = input;
-  return {
-    ...rest,
-    ...(features
-      ? {
-          features: features.map((spec) => spec.feature),
-          transforms: Object.fromEntries(
-            features.map(({ feature, ...transform }) => [feature, transform]),
-          ),
-        }
-      : {}),
-  };
+/** A run's settings with the data-dependent defaults made explicit for this database. */
+export function runSettingsFor(db: Database, settings: RunSettings): ExplicitRunSettings {
+  return explicitRunSettings(settings, featureData(db));
 }
 
 /** Imports one file; `input.mapping` is already in the importer's column → field form (see handlers). */
-async function importOne(db: Database, input: ApiParsedInput<'importFile'>, context: LongTaskContext): Promise<ImportResult> {
-  const before = listImports(db).at(-1)?.importId ?? 0;
-  const result = await importFile(db, {
+function importOne(db: Database, input: ApiParsedInput<'importFile'>, context: LongTaskContext): Promise<TaskResults['importFile']> {
+  return importFile(db, {
     path: input.path,
     kind: input.kind,
     mapping: input.mapping,
@@ -47,6 +50,7 @@ async function importOne(db: Database, input: ApiParsedInput<'importFile'>, cont
       decimalComma: input.decimalSeparator === ',',
       maxRejectedShare: input.rejectionThreshold,
       sheet: input.sheet,
+      delimiter: input.delimiter === undefined ? undefined : (delimiterNames[input.delimiter as keyof typeof delimiterNames] ?? input.delimiter),
       encoding: input.encoding,
       plausibleDates: input.plausibleDates,
     },
@@ -59,9 +63,12 @@ async function importOne(db: Database, input: ApiParsedInput<'importFile'>, cont
         message: `${progress.rows.toLocaleString('en-GB')} rows read`,
       }),
   });
-  // Long tasks run one at a time, so a new import row after `before` is this one.
-  const added = listImports(db).filter((record) => record.importId > before && record.kind === input.kind).at(-1);
-  return { importId: result.alreadyImported ? null : (added?.importId ?? null), ...result };
+}
+
+/** A run's progress in words, the fit's own report included (k, structure, restart). */
+function runProgressMessage(progress: RunProgress): string {
+  const { fit } = progress;
+  return fit ? `${progress.message} (k=${fit.k} ${fit.covarianceType}, restart ${fit.restart + 1})` : progress.message;
 }
 
 /** Generates the invented demo chain into a scratch folder and loads it through the importer. */
@@ -70,7 +77,7 @@ async function loadDemo(db: Database, dbPath: string, input: ApiParsedInput<'loa
   try {
     const chain = await generateDemoChain({
       outDir: scratch,
-      customers: input.customers ?? DEFAULT_CUSTOMERS,
+      customers: input.customers ?? DEFAULT_DEMO_CUSTOMERS,
       seed: input.seed,
       signal: context.signal,
       onProgress: (progress) =>
@@ -94,8 +101,7 @@ async function loadDemo(db: Database, dbPath: string, input: ApiParsedInput<'loa
         }),
       context.signal,
     );
-    const { db: path, customers, receipts, visits } = demoDatabaseSummary(db, dbPath);
-    return { db: path, customers, receipts, visits };
+    return demoDatabaseSummary(db, dbPath);
   } finally {
     rmSync(scratch, { recursive: true, force: true });
   }
@@ -103,7 +109,8 @@ async function loadDemo(db: Database, dbPath: string, input: ApiParsedInput<'loa
 
 /**
  * Runs one long task's core work on its own database connection: import, segmentation run,
- * export or demo. Called on a worker thread (task-worker.ts) by the app, and directly by tests.
+ * export or demo. Called on a worker thread (task-worker.ts) by the app, on the calling thread
+ * by the CLI, and directly by tests.
  */
 export async function runLongTask<M extends LongTaskMethod>(request: LongTaskRequest<M>, context: LongTaskContext): Promise<TaskResults[M]> {
   const db = openDatabase(request.dbPath);
@@ -119,10 +126,10 @@ async function runOn(db: Database, request: LongTaskRequest, context: LongTaskCo
     case 'importFile':
       return importOne(db, request.input, context);
     case 'startRun':
-      return runSegmentation(db, toCoreRunSettings(request.input), {
+      return runSegmentation(db, runSettingsFor(db, request.input), {
         signal: context.signal,
         onProgress: (progress) =>
-          context.onProgress({ phase: progress.phase, done: progress.done, total: progress.total || null, message: progress.message }),
+          context.onProgress({ phase: progress.phase, done: progress.done, total: progress.total || null, message: runProgressMessage(progress) }),
       });
     case 'exportRun': {
       const { runId, ...options } = request.input;

@@ -1,11 +1,12 @@
-import { dirname, resolve } from 'node:path';
+import { dirname } from 'node:path';
 import { openDatabase, type Database } from '../store/database.js';
 import { InputError } from '../errors.js';
 import type { LongTaskMethod, TaskResults } from './contract.js';
 import type { LongTaskRequest } from './long-task-request.js';
 import { runInWorker } from './run-in-worker.js';
 import { TaskManager, type ProgressReporter } from './tasks.js';
-import { DEFAULT_CUSTOMERS as DEFAULT_DEMO_CUSTOMERS } from '../../demo-data/generator/index.js';
+import { databaseFile, SessionFolder, userPaths, type FilePolicy } from './file-policy.js';
+import { DEFAULT_DEMO_CUSTOMERS } from './contract.js';
 
 /** Runs a long task's core work; the default puts it on a worker thread. */
 export type LongTaskRunner = <M extends LongTaskMethod>(
@@ -24,6 +25,11 @@ export interface SessionOptions {
   runLongTask?: LongTaskRunner;
   /** Customers in the demo chain when a load asks for no size (default 6,000, DESIGN.md §10). */
   demoCustomers?: number;
+  /**
+   * Which files the API may touch (see file-policy.ts). Default: the user's own paths, or for the
+   * browser shell its database and a private session folder.
+   */
+  files?: FilePolicy;
 }
 
 /**
@@ -37,6 +43,7 @@ export class ApiSession {
   readonly shell: SessionOptions['shell'];
   readonly runLongTask: LongTaskRunner;
   readonly demoCustomers: number;
+  readonly files: FilePolicy;
   private readonly options: SessionOptions;
   private database: Database | null = null;
   private path: string | null = null;
@@ -46,7 +53,13 @@ export class ApiSession {
     this.shell = options.shell;
     this.runLongTask = options.runLongTask ?? runInWorker;
     this.demoCustomers = options.demoCustomers ?? DEFAULT_DEMO_CUSTOMERS;
-    if (options.dbPath) this.open(options.dbPath);
+    this.files = options.files ?? (options.shell === 'browser' ? new SessionFolder({ databasePath: options.dbPath ?? null }) : userPaths);
+    try {
+      if (options.dbPath) this.open(options.dbPath);
+    } catch (error) {
+      this.files.close();
+      throw error;
+    }
   }
 
   get dbPath(): string | null {
@@ -59,10 +72,7 @@ export class ApiSession {
 
   /** Opens (creating and migrating if needed) the database; the previous one is closed. */
   open(path: string): Database {
-    if (path.trim() === '' || path === ':memory:') {
-      throw new InputError('Give a database file: the app\'s worker threads open the same file, so an in-memory database cannot be used.');
-    }
-    const absolute = resolve(path);
+    const absolute = databaseFile(path);
     const next = openDatabase(absolute);
     this.database?.close();
     this.database = next;
@@ -97,5 +107,6 @@ export class ApiSession {
     await this.tasks.shutdown();
     this.database?.close();
     this.database = null;
+    this.files.close();
   }
 }

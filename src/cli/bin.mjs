@@ -1,6 +1,5 @@
 #!/usr/bin/env node
 // Package bin: runs the TypeScript CLI through tsx's loader, so a checkout needs no build step.
-import { register } from 'tsx/esm/api';
+import './register-tsx.mjs';
 
-register();
 await import('./main.ts');

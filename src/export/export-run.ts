@@ -4,9 +4,10 @@
  * cancel, and the file appearing only once it is complete.
  */
 import type { Database } from 'better-sqlite3';
+import type { ExportFormat, ExportResult } from '../api/contract.js';
 import { extname, resolve } from 'node:path';
 import { InputError, throwIfAborted } from '../errors.js';
-import { resolveRunId } from '../runs/repository.js';
+import { resolveRunId } from '../runs/read/stored-run.js';
 import { writeFileAtomically, type FileOperations } from './atomic-file.js';
 import { csvDialects, csvFormat, writeCsvList, type CsvDialect } from './csv-writer.js';
 import { planExport, type ExportProgress } from './passes.js';
@@ -15,7 +16,7 @@ import { resolveCampaignFilter, suppressedCount } from './selection.js';
 import type { ExportSource } from './source.js';
 import { writeWorkbook } from './xlsx-workbook.js';
 
-export type ExportFormat = 'xlsx' | 'csv';
+export type { ExportFormat, ExportResult };
 export const exportFormats: readonly ExportFormat[] = ['xlsx', 'csv'];
 
 export interface ExportOptions {
@@ -41,15 +42,6 @@ export interface ExportOptions {
 
 export interface ExportRunOptions extends ExportOptions {
   run: number | 'latest';
-}
-
-/** Exactly the `export --json` object of DESIGN.md §10. */
-export interface ExportResult {
-  out: string;
-  /** Sheet names in tab order; empty for a CSV. */
-  sheets: string[];
-  customersExported: number;
-  suppressedNoConsent: number;
 }
 
 /** The format to write, checked against the file name so a list is never saved under the wrong extension. */

@@ -1,6 +1,6 @@
 /**
  * An ExportSource over a stored run: the run's header, segment profiles, movement and review
- * queue from the runs repository, and its customers through the repository's one-statement
+ * queue from the runs core's reads (src/runs/read), and its customers through one prepared
  * cursor (`iterateRunCustomers`), so a million customers stream without being held in memory.
  */
 import type { Database } from 'better-sqlite3';
@@ -8,28 +8,29 @@ import { basename } from 'node:path';
 import { featureLabel } from '../features/definitions.js';
 import { describeTransform } from '../features/transforms.js';
 import { featureWindow } from '../features/window.js';
-import { getReviewQueue, getRunDetail, iterateRunCustomers, getMovement, listSegments } from '../runs/repository.js';
-import type { ReviewItem, RunDetail } from '../runs/types.js';
+import type { ReviewItem, RunDetail } from '../api/contract.js';
+import { iterateRunCustomers } from '../runs/read/export-customers.js';
+import { movementOf } from '../runs/read/movement.js';
+import { everyReviewItem } from '../runs/read/review-queue.js';
+import { getRunDetail } from '../runs/read/run-detail.js';
+import { listSegments } from '../runs/read/segments.js';
 import { isoDateFromDay } from '../store/days.js';
 import { getCustomer } from '../store/customers-repo.js';
 import { featureColumn } from './columns.js';
 import type { ExportReviewRow, ExportRunHeader, ExportSource, OverviewEntry } from './source.js';
 
-/** Review queue rows fetched per page (the repository's page limit). */
-const reviewPageSize = 10_000;
-
 function modelEntries(detail: RunDetail): OverviewEntry[] {
-  const { settings, summary } = detail;
+  const { settings } = detail;
   const threshold = (value: number | null) => (value === null ? 'off' : value);
   return [
     { label: 'Mode', value: settings.mode },
     { label: 'Feature source', value: settings.source },
-    { label: 'Segments (k)', value: summary.k, kind: 'count' },
+    { label: 'Segments (k)', value: detail.k, kind: 'count' },
     { label: 'k searched', value: settings.k === 'auto' ? `${settings.kMin} to ${settings.kMax}` : `fixed at ${settings.k}` },
-    { label: 'Covariance structure', value: summary.covariance },
+    { label: 'Covariance structure', value: detail.covariance },
     { label: 'Covariance searched', value: settings.covariance },
     { label: 'Selection criterion', value: detail.criterion.toUpperCase() },
-    { label: 'BIC (lower is better)', value: summary.bic, kind: 'decimal' },
+    { label: 'BIC (lower is better)', value: detail.bic, kind: 'decimal' },
     { label: 'ICL (lower is better)', value: detail.icl, kind: 'decimal' },
     { label: 'Log-likelihood', value: detail.logLikelihood, kind: 'decimal' },
     { label: 'Restarts', value: settings.restarts, kind: 'count' },
@@ -43,24 +44,24 @@ function modelEntries(detail: RunDetail): OverviewEntry[] {
     { label: 'Borderline: margin below', value: settings.borderlineMargin, kind: 'probability' },
     { label: 'Atypical: log density below percentile', value: settings.atypicalPercentile, kind: 'decimal' },
     { label: 'Review movers with confidence below', value: threshold(settings.reviewMoversBelowConfidence), kind: 'probability' },
-    { label: 'Stability against the parent (adjusted Rand index)', value: summary.stability ?? 'first run', kind: 'probability' },
+    { label: 'Stability against the parent (adjusted Rand index)', value: detail.stability ?? 'first run', kind: 'probability' },
   ];
 }
 
 function runHeader(db: Database, detail: RunDetail): ExportRunHeader {
-  const { settings, summary } = detail;
+  const { settings } = detail;
   return {
     chain: null,
     database: db.memory ? null : basename(db.name),
-    runId: summary.runId,
-    parentRunId: summary.parentRunId,
+    runId: detail.runId,
+    parentRunId: detail.parentRunId,
     createdAt: detail.createdAt,
     asOf: settings.asOf,
     windowMonths: settings.windowMonths,
     windowStart: isoDateFromDay(featureWindow(settings.asOf, settings.windowMonths).startDay),
-    features: detail.features.map((name) => ({ name, label: featureLabel(name), transform: describeTransform(detail.transforms[name]) })),
+    features: detail.features.map((spec) => ({ name: spec.feature, label: featureLabel(spec.feature), transform: describeTransform(spec) })),
     model: modelEntries(detail),
-    counts: { placed: summary.customers, tooNew: summary.tooNew, borderline: summary.borderline, atypical: summary.atypical },
+    counts: { placed: detail.customers, tooNew: detail.tooNew, borderline: detail.borderline, atypical: detail.atypical },
     warnings: detail.warnings,
   };
 }
@@ -84,24 +85,20 @@ function reviewRow(item: ReviewItem, consent: 0 | 1 | null): ExportReviewRow {
 }
 
 function* reviewRows(db: Database, runId: number): Generator<ExportReviewRow> {
-  for (let offset = 0; ; offset += reviewPageSize) {
-    const page = getReviewQueue(db, runId, { offset, limit: reviewPageSize, status: 'all' });
-    for (const item of page.items) yield reviewRow(item, getCustomer(db, item.customerId)?.marketingConsent ?? null);
-    if (page.items.length < reviewPageSize || offset + page.items.length >= page.total) return;
-  }
+  for (const item of everyReviewItem(db, runId)) yield reviewRow(item, getCustomer(db, item.customerId)?.marketingConsent ?? null);
 }
 
 /** Model features first, then spend, visit rate and basket when stored: the customer sheets' features. */
 function keyFeatures(detail: RunDetail): string[] {
-  const wanted = [...detail.features, 'spend_per_month', 'visits_per_month', 'average_basket'];
+  const wanted = [...detail.features.map((spec) => spec.feature), 'spend_per_month', 'visits_per_month', 'average_basket'];
   return [...new Set(wanted)].filter((name) => detail.storedFeatures.includes(name));
 }
 
 /** The export source of a stored run (the run id must exist: resolve it with resolveRunId first). */
 export function runExportSource(db: Database, runId: number): ExportSource {
   const detail = getRunDetail(db, runId);
-  const profiles = listSegments(db, runId);
-  const movement = getMovement(db, runId);
+  const profiles = listSegments(db, runId).segments;
+  const movement = movementOf(db, runId);
   const features = keyFeatures(detail).map(featureColumn);
   return {
     header: runHeader(db, detail),
@@ -111,24 +108,24 @@ export function runExportSource(db: Database, runId: number): ExportSource {
       share: profile.share,
       revenue: profile.revenue,
       revenueShare: profile.revenueShare,
-      medians: Object.fromEntries(features.map((column) => [column.key, profile.features[column.key]?.median ?? null])),
+      medians: Object.fromEntries(features.map((column) => [column.key, profile.profile.find((quartiles) => quartiles.feature === column.key)?.median ?? null])),
     })),
     medianColumns: features,
     customerFeatureColumns: features,
     customers: () => iterateRunCustomers(db, runId),
     reviewRows: () => reviewRows(db, runId),
     movement:
-      movement === null
+      movement.parentRunId === null
         ? null
         : {
             parentRunId: movement.parentRunId,
             parentSegments: movement.parentSegments.map((segment) => segment.name),
             currentSegments: movement.currentSegments.map((segment) => segment.name),
-            counts: movement.counts,
+            counts: movement.matrix,
             entered: movement.entered,
             left: movement.left,
             common: movement.common,
-            adjustedRandIndex: movement.adjustedRandIndex,
+            adjustedRandIndex: movement.stability,
           },
   };
 }

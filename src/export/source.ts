@@ -3,7 +3,8 @@
  * `ExportSource`, so they can be tested on in-memory sources and fed from a stored run by
  * src/export/run-source.ts. Money is in euros, shares and probabilities in [0, 1], dates ISO.
  */
-import type { ExportCustomerRow, ReviewAction } from '../runs/types.js';
+import type { ReviewAction } from '../api/contract.js';
+import type { ExportCustomerRow } from '../runs/types.js';
 
 export type { ExportCustomerRow } from '../runs/types.js';
 

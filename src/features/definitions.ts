@@ -1,8 +1,32 @@
 /**
- * The per-customer features Spendmix computes from receipts and visits (DESIGN.md §4), with the
- * words the screens and the borderline "why" use for them. Values are in original units: euros,
- * visits, days, months, shares in [0, 1].
+ * The per-customer features Spendmix computes from receipts and visits (DESIGN.md §4): the words
+ * the screens and the borderline "why" use for them, and the definitions themselves as data — the
+ * per-customer aggregates of receipt and visit rows, then formulas over them (./expressions.ts).
+ * The app's SQLite computation (./compute.ts) and the SQL generated for a chain's own engine
+ * (src/warehouse/features-sql.ts) both read these, so the two cannot drift apart. Values are in
+ * original units: euros, visits, days, months, shares in [0, 1].
  */
+import {
+  above,
+  allOf,
+  anyOf,
+  below,
+  choose,
+  constant,
+  dividedBy,
+  larger,
+  minus,
+  missing,
+  negated,
+  orElse,
+  plus,
+  smaller,
+  times,
+  value,
+  type Condition,
+  type Expression,
+} from './expressions.js';
+import { DAYS_PER_MONTH } from './window.js';
 
 export const computedFeatureNames = [
   'spend_per_month',
@@ -86,8 +110,148 @@ export const featureDescriptions: Record<ComputedFeatureName, FeatureDescription
   },
 };
 
-/** Departments counted as fresh by default (common practice in grocery reporting). */
-export const defaultFreshCategories: readonly string[] = ['fresh', 'produce', 'fruit', 'vegetables', 'meat', 'fish', 'bakery', 'dairy', 'deli'];
+/** The spellings a till may use for a department name ("fresh", "Fresh", "FRESH"): a category matches one of these exactly. */
+export function categorySpellings(categories: readonly string[]): string[] {
+  const spellings = new Set<string>();
+  for (const category of categories) {
+    const lower = category.toLowerCase();
+    spellings.add(category);
+    spellings.add(lower);
+    spellings.add(lower.toUpperCase());
+    spellings.add(lower.charAt(0).toUpperCase() + lower.slice(1));
+  }
+  return [...spellings];
+}
+
+// ---------------------------------------------------------------------------------------------
+// The definitions as data
+
+/**
+ * Which rows of a customer an aggregate reads: `window` = days in (as-of − window, as-of];
+ * `history` = every day up to the as-of date. Conditions narrow the rows further (all must hold):
+ * `positive` amount above zero (a purchase, not a refund); `fresh` a fresh department (see
+ * categorySpellings); `last3Months` / `last6Months` days from the start of the last 3 / 6 months.
+ */
+export type RowCondition = 'positive' | 'fresh' | 'last3Months' | 'last6Months';
+
+/**
+ * One per-customer aggregate over receipt or visit rows. `sum` adds amounts in cents (0 when no row
+ * matches); `countDistinct` counts distinct receipts (the receipt id, or date-time and store
+ * without one); `count` counts rows; `min`/`max` take the day number (missing when no row matches).
+ */
+export interface RowAggregate {
+  name: string;
+  table: 'receipts' | 'visits';
+  operation: 'sum' | 'count' | 'countDistinct' | 'min' | 'max';
+  scope: 'window' | 'history';
+  when: readonly RowCondition[];
+}
+
+/**
+ * Receipt aggregates, in the column order of the app's window query. A customer belongs to the
+ * window's population when they have at least one receipt row in the window (customers with none
+ * there have lapsed). Refunds and the 3 months before the last 3 are derived from these
+ * (net − bought; last 6 − last 3), which keeps the per-row work small.
+ */
+export const receiptAggregates: readonly RowAggregate[] = [
+  { name: 'net_cents', table: 'receipts', operation: 'sum', scope: 'window', when: [] },
+  { name: 'bought_cents', table: 'receipts', operation: 'sum', scope: 'window', when: ['positive'] },
+  { name: 'fresh_cents', table: 'receipts', operation: 'sum', scope: 'window', when: ['positive', 'fresh'] },
+  { name: 'last3_cents', table: 'receipts', operation: 'sum', scope: 'window', when: ['last3Months'] },
+  { name: 'last6_cents', table: 'receipts', operation: 'sum', scope: 'window', when: ['last6Months'] },
+  { name: 'purchases', table: 'receipts', operation: 'countDistinct', scope: 'window', when: ['positive'] },
+  { name: 'last_receipt_day', table: 'receipts', operation: 'max', scope: 'window', when: [] },
+  { name: 'first_receipt_day', table: 'receipts', operation: 'min', scope: 'history', when: [] },
+];
+
+/** Visit aggregates; read only when the visits hold at least one visit in the window (else all missing). */
+export const visitAggregates: readonly RowAggregate[] = [
+  { name: 'window_visits', table: 'visits', operation: 'count', scope: 'window', when: [] },
+  { name: 'first_visit_day', table: 'visits', operation: 'min', scope: 'history', when: [] },
+  { name: 'last_visit_day', table: 'visits', operation: 'max', scope: 'history', when: [] },
+];
+
+/**
+ * Inputs that are not row aggregates: the window as day numbers (src/features/window.ts), the
+ * too-new settings, whether any visit falls in the window (1/0), and the customer's join day
+ * (missing when unknown).
+ */
+export const formulaConstants = ['as_of_day', 'window_start_day', 'window_months', 'window_days', 'min_purchases', 'min_tenure_months', 'has_visits'] as const;
+export const customerInputs = ['joined_day'] as const;
+
+const v = value;
+const asOf = v('as_of_day');
+/** A visit aggregate, counted only when the visits hold at least one visit in the window. */
+const visit = (name: string) => choose(above(v('has_visits'), constant(0)), v(name), missing);
+
+/** Intermediate values, each reading only inputs and the values above it. */
+export const derivedValues: readonly { name: string; formula: Expression }[] = [
+  // First day the customer was seen: joining, first receipt or first visit, whichever is earliest;
+  // a join date after the as-of date falls back to the first receipt.
+  {
+    name: 'earliest_day',
+    formula: smaller(
+      smaller(v('first_receipt_day'), orElse(v('joined_day'), v('first_receipt_day'))),
+      orElse(visit('first_visit_day'), v('first_receipt_day')),
+    ),
+  },
+  { name: 'first_day', formula: choose(above(v('earliest_day'), asOf), v('first_receipt_day'), v('earliest_day')) },
+  { name: 'last_day', formula: larger(v('last_receipt_day'), orElse(visit('last_visit_day'), v('last_receipt_day'))) },
+  // Months the customer could be seen in the window: the whole window, or from their first day.
+  { name: 'observed_days', formula: plus(minus(asOf, larger(v('window_start_day'), v('first_day'))), constant(1)) },
+  {
+    name: 'observed_months',
+    formula: larger(constant(1), dividedBy(times(v('window_months'), v('observed_days')), v('window_days'))),
+  },
+  { name: 'tenure', formula: dividedBy(plus(minus(asOf, v('first_day')), constant(1)), constant(DAYS_PER_MONTH)) },
+  // Spend is net of refunds but never below zero (a refund-only window means no spend).
+  { name: 'net_spend', formula: dividedBy(larger(constant(0), v('net_cents')), constant(100)) },
+  // Visits from the visits file (never fewer than the purchases), or the purchases without one.
+  {
+    name: 'visit_count',
+    formula: choose(above(v('has_visits'), constant(0)), larger(orElse(v('window_visits'), constant(0)), v('purchases')), v('purchases')),
+  },
+  { name: 'refund_cents', formula: minus(v('net_cents'), v('bought_cents')) },
+  { name: 'prev3_cents', formula: minus(v('last6_cents'), v('last3_cents')) },
+  { name: 'trend_base', formula: plus(v('last3_cents'), v('prev3_cents')) },
+];
+
+export interface FeatureFormula {
+  name: ComputedFeatureName;
+  formula: Expression;
+  /** Only meaningful when the receipts carry departments; the app leaves the feature out otherwise. */
+  needsCategories?: true;
+}
+
+/** The features, in the order of computedFeatureNames (a test checks it). */
+export const featureFormulas: readonly FeatureFormula[] = [
+  { name: 'spend_per_month', formula: dividedBy(v('net_spend'), v('observed_months')) },
+  { name: 'visits_per_month', formula: dividedBy(v('visit_count'), v('observed_months')) },
+  { name: 'average_basket', formula: choose(above(v('purchases'), constant(0)), dividedBy(v('net_spend'), v('purchases')), missing) },
+  { name: 'days_since_last_visit', formula: minus(asOf, v('last_day')) },
+  { name: 'tenure_months', formula: v('tenure') },
+  {
+    name: 'fresh_share',
+    formula: choose(above(v('bought_cents'), constant(0)), dividedBy(v('fresh_cents'), v('bought_cents')), missing),
+    needsCategories: true,
+  },
+  {
+    name: 'spend_trend',
+    formula: choose(above(v('trend_base'), constant(0)), dividedBy(minus(v('last3_cents'), v('prev3_cents')), v('trend_base')), constant(0)),
+  },
+  {
+    name: 'refund_share',
+    formula: choose(
+      allOf(above(v('bought_cents'), constant(0)), below(v('refund_cents'), constant(0))),
+      dividedBy(negated(v('refund_cents')), v('bought_cents')),
+      constant(0),
+    ),
+  },
+  { name: 'purchases', formula: v('purchases') },
+];
+
+/** "Too new to place": too few purchases or too short a tenure (thresholds are run settings). */
+export const tooNewCondition: Condition = anyOf(below(v('purchases'), v('min_purchases')), below(v('tenure'), v('min_tenure_months')));
 
 /** Label for any feature name, including imported ones (which are shown as they are named). */
 export function featureLabel(name: string): string {
@@ -96,4 +260,20 @@ export function featureLabel(name: string): string {
 
 export function isComputedFeature(name: string): name is ComputedFeatureName {
   return (computedFeatureNames as readonly string[]).includes(name);
+}
+
+/** Everything a renderer of the definitions reads: the app's computation and the generated SQL. */
+export const featureDefinitions = {
+  receiptAggregates,
+  visitAggregates,
+  formulaConstants,
+  customerInputs,
+  derivedValues,
+  featureFormulas,
+  tooNewCondition,
+} as const;
+
+/** Unit of any feature: a computed one's own, none for imported features (we do not know it). */
+export function featureUnit(name: string): string {
+  return isComputedFeature(name) ? featureDescriptions[name].unit : '';
 }

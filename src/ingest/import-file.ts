@@ -1,5 +1,6 @@
 import { basename, dirname, join, resolve } from 'node:path';
 import type { Database } from 'better-sqlite3';
+import type { ImportResult } from '../api/contract.js';
 import { CancelledError, InputError, throwIfAborted } from '../errors.js';
 import { asDatabaseInputError } from '../store/database.js';
 import {
@@ -77,20 +78,8 @@ export interface ImportRequest {
   onProgress?: (progress: ImportProgress) => void;
 }
 
-/** Exactly the JSON of `import` in DESIGN.md §10. */
-export interface ImportResult {
-  file: string;
-  kind: ImportKind;
-  rowsRead: number;
-  rowsImported: number;
-  rowsRejected: number;
-  duplicatesSkipped: number;
-  alreadyImported: boolean;
-  /** Sum of the imported receipt amounts in currency units; null for other kinds. */
-  amountTotal: number | null;
-  /** Path of the import report (rejected rows), or null when no row was rejected. */
-  report: string | null;
-}
+/** The result is the contract's (the `import --json` object plus the import's id). */
+export type { ImportResult };
 
 export const DEFAULT_MAX_REJECTED_SHARE = 0.05;
 
@@ -180,6 +169,7 @@ export async function importFile(db: Database, request: ImportRequest): Promise<
   totalBytes = probe.bytes;
   const earlier = findImportByHash(db, kind, probe.contentHash);
   const alreadyImported = (): ImportResult => ({
+    importId: null,
     file,
     kind,
     rowsRead: 0,
@@ -332,6 +322,7 @@ export async function importFile(db: Database, request: ImportRequest): Promise<
         kind !== 'receipts' ? null : writer.rowsWritten === writer.rowsAdded ? addedAmountCents : receiptAmountAfter(db, rowIdBefore);
       const reportPath = report.finish();
       const result: ImportResult = {
+        importId,
         file,
         kind,
         rowsRead,

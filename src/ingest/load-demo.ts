@@ -2,10 +2,11 @@ import { readFileSync } from 'node:fs';
 import type { Database } from 'better-sqlite3';
 import { saveStoreNames } from '../store/stores-repo.js';
 import { tokenizeCsv } from './csv-tokenizer.js';
-import { importFile, type ImportProgress, type ImportResult } from './import-file.js';
+import type { DemoResult, ImportResult } from '../api/contract.js';
+import { importFile, type ImportProgress } from './import-file.js';
 import type { ImportKind } from '../store/imports-repo.js';
 
-/** Paths of the demo generator's files for the kinds we load (demo-data/generator/output-folder.ts). */
+/** Paths of the demo generator's files for the kinds we load (src/demo/output-folder.ts). */
 export interface DemoFiles {
   receipts: string;
   visits: string;
@@ -44,15 +45,8 @@ export async function loadDemoFiles(
   return { imports, stores };
 }
 
-/** What `demo --db` prints (DESIGN.md §10): receipts counts distinct receipts, as `demo --out` does. */
-export interface DemoDatabaseJson {
-  db: string;
-  customers: number;
-  receipts: number;
-  visits: number;
-}
-
-export function demoDatabaseSummary(db: Database, path: string): DemoDatabaseJson & { receiptRows: number } {
+/** What a loaded demo database holds: receipts counts distinct receipts, as `demo --out` does. */
+export function demoDatabaseSummary(db: Database, path: string): DemoResult {
   const count = (sql: string) => db.prepare(sql).pluck().get() as number;
   return {
     db: path,

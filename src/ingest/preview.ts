@@ -1,4 +1,5 @@
 import type { Database } from 'better-sqlite3';
+import type { FilePreview as ContractFilePreview } from '../api/contract.js';
 import { InputError } from '../errors.js';
 import { isoDateFromDay } from '../store/days.js';
 import { savedMapping, type ImportKind } from '../store/imports-repo.js';
@@ -22,25 +23,8 @@ export interface PreviewRequest {
   plausibleDates?: DateRange;
 }
 
-/** The first rows of a file as the importer would read them (the Sources screen's preview). */
-export interface FilePreview {
-  path: string;
-  kind: ImportKind;
-  columns: string[];
-  sheets: string[];
-  delimiter: string | null;
-  encoding: string;
-  fields: Array<{ field: string; required: boolean; description: string }>;
-  mapping: ColumnMapping;
-  mappingSource: 'given' | 'saved' | 'automatic';
-  missingFields: string[];
-  rows: Array<{
-    line: number;
-    cells: Record<string, string>;
-    parsed: Record<string, string | number | null> | null;
-    problem: string | null;
-  }>;
-}
+/** The first rows of a file as the importer would read them (the Sources screen's preview), its mapping column → field. */
+export type FilePreview = Omit<ContractFilePreview, 'mapping'> & { mapping: ColumnMapping };
 
 const PREVIEW_BYTES = 1 << 20;
 

@@ -1,19 +1,14 @@
+import { covarianceEstimators } from './gaussian.js';
 import type { CovarianceType } from './types.js';
 
 /**
  * Free parameters of a k-component mixture in d dimensions, counted exactly as scikit-learn's
  * GaussianMixture._n_parameters does (from memory of sklearn/mixture/_gaussian_mixture.py):
- * covariance parameters (full k·d(d+1)/2, diag k·d, tied d(d+1)/2, spherical k) + k·d means +
- * (k − 1) weights.
+ * the structure's covariance parameters (full k·d(d+1)/2, diag k·d, tied d(d+1)/2, spherical k)
+ * + k·d means + (k − 1) weights.
  */
 export function parameterCount(k: number, d: number, covarianceType: CovarianceType): number {
-  const triangle = (d * (d + 1)) / 2;
-  const covarianceParameters =
-    covarianceType === 'full' ? k * triangle
-    : covarianceType === 'diag' ? k * d
-    : covarianceType === 'tied' ? triangle
-    : k;
-  return covarianceParameters + k * d + (k - 1);
+  return covarianceEstimators[covarianceType].parameters(k, d) + k * d + (k - 1);
 }
 
 /** BIC = −2 log L + p ln n (Schwarz 1978; lower is better). */

@@ -1,12 +1,15 @@
 import { throwIfAborted } from '../errors.js';
 import { akaikeInformationCriterion, bayesianInformationCriterion, integratedCompletedLikelihood, parameterCount } from './criteria.js';
 import { emptyStatistics, expectationStep, expectationTerms, type ExpectationSummary, type SufficientStatistics } from './estep.js';
-import { initialLabels, statisticsFromLabels } from './init.js';
+import { agglomerate, AGGLOMERATION_SAMPLE, sampleRows, type AgglomerationTree } from './agglomeration.js';
+import { covarianceEstimators, factorWithRidge, rowCovariance } from './gaussian.js';
+import { initialLabels, startMethodOf, statisticsFromLabels } from './init.js';
 import { groupByMissingPattern, meanFilled, patternExpectationStep, type MissingPattern } from './missing.js';
-import { factorWithRegularisation, maximizationStep, type MaximizationOutcome } from './mstep.js';
+import { maximizationStep, type MaximizationOutcome } from './mstep.js';
 import { restartStream, type RandomStream } from './random.js';
 import { resolveFitOptions, validateFitInput, type ResolvedFitOptions } from './validate.js';
-import type { DataMatrix, FitOptions, FitProgress, FitResult, MixtureModel } from './types.js';
+import { dataScaleOf, refusalOf } from './validity.js';
+import type { DataMatrix, FitOptions, FitProgress, FitResult, MixtureModel, StartMethod, SweepRow } from './types.js';
 
 /** What one restart produced; restarts are independent, so any thread can run any of them. */
 export interface RestartOutcome {
@@ -17,6 +20,9 @@ export interface RestartOutcome {
   converged: boolean;
   iterations: number;
   warnings: string[];
+  start: StartMethod;
+  /** Why the restart's fit may not compete (validity.ts), or null. */
+  refused: string | null;
 }
 
 /** Data prepared once per fit and shared by its restarts. */
@@ -33,17 +39,40 @@ export interface FitContext {
    * so a sweep computes each k-means start once per thread, not once per structure.
    */
   initialLabels: Map<string, Int32Array>;
+  /** Agglomeration trees by sample ('all' when every row takes part), built on first use. */
+  trees: Map<string, AgglomerationTree>;
+  /** Covariance of all rows (d × d) and W = L⁻¹ of it, for re-seeding and the validity test; built on first use. */
+  covariance: Float64Array | null;
+  dataScale: Float64Array | null;
 }
 
 /** Cached initial labels kept per context, at most this many bytes (oldest dropped first). */
 const LABEL_CACHE_BYTES = 64 * 1024 * 1024;
 
-function startingLabels(context: FitContext, options: ResolvedFitOptions, restart: number): Int32Array {
-  const key = `${options.components}/${options.init}/${options.seed}/${restart}`;
+/**
+ * The agglomeration tree a hierarchical start of restart r cuts: of all rows when there are at
+ * most AGGLOMERATION_SAMPLE (the same tree for every seed), else of a sample of that many drawn
+ * with the restart's stream.
+ */
+function agglomerationTree(context: FitContext, seed: number, restart: number): AgglomerationTree {
+  const sampled = context.rows > AGGLOMERATION_SAMPLE;
+  const key = sampled ? `${seed}/${restart}` : 'all';
+  let tree = context.trees.get(key);
+  if (!tree) {
+    const sample = sampleRows(context.rows, AGGLOMERATION_SAMPLE, restartStream(seed, 2 * restart)).sort();
+    context.trees.set(key, (tree = agglomerate(context.filledValues, context.cols, sample)));
+  }
+  return tree;
+}
+
+function startingLabels(context: FitContext, options: ResolvedFitOptions, restart: number, start: StartMethod): Int32Array {
+  const key = `${options.components}/${start}/${options.seed}/${restart}`;
   const cached = context.initialLabels.get(key);
   if (cached) return cached;
   const random = restartStream(options.seed, 2 * restart);
-  const labels = initialLabels(context.filledValues, context.rows, context.cols, options.components, options.init, random);
+  const labels = initialLabels(context.filledValues, context.rows, context.cols, options.components, start, random, () =>
+    agglomerationTree(context, options.seed, restart),
+  );
   let bytes = labels.byteLength;
   for (const entry of context.initialLabels.values()) bytes += entry.byteLength;
   for (const [oldest, entry] of context.initialLabels) {
@@ -64,7 +93,20 @@ export function prepareFitContext(data: DataMatrix, anyMissing: boolean): FitCon
     patterns: anyMissing ? groupByMissingPattern(values, rows, cols) : null,
     filledValues: anyMissing ? meanFilled(values, rows, cols) : values,
     initialLabels: new Map(),
+    trees: new Map(),
+    covariance: null,
+    dataScale: null,
   };
+}
+
+function dataCovariance(context: FitContext): Float64Array {
+  context.covariance ??= rowCovariance(context.filledValues, context.rows, context.cols);
+  return context.covariance;
+}
+
+function dataScale(context: FitContext): Float64Array {
+  context.dataScale ??= dataScaleOf(dataCovariance(context), context.cols);
+  return context.dataScale;
 }
 
 /** Collects warnings, counting repeats of the same kind instead of listing each. */
@@ -123,7 +165,7 @@ function reseedEmptied(
   reseeds: Int32Array,
 ): boolean {
   const { components: k, dimensions: d, covarianceType } = model;
-  const overall = overallCovariance(context.filledValues, context.rows, d);
+  const overall = dataCovariance(context);
   let reseeded = false;
   emptied.forEach((component, position) => {
     if (reseeds[component] >= MAX_RESEEDS) {
@@ -160,22 +202,8 @@ function reseedEmptied(
   let total = 0;
   for (let c = 0; c < k; c++) total += model.weights[c];
   for (let c = 0; c < k; c++) model.weights[c] /= total;
-  model.precisionCholesky = factorWithRegularisation(model.covariances, k, d, covarianceType, model.regularization).precisionCholesky;
+  model.precisionCholesky = factorWithRidge(model.covariances, k, d, covarianceEstimators[covarianceType].shared, model.regularization).precisionCholesky;
   return true;
-}
-
-function overallCovariance(values: Float64Array, n: number, d: number): Float64Array {
-  const mean = new Float64Array(d);
-  for (let row = 0; row < n; row++) for (let a = 0; a < d; a++) mean[a] += values[row * d + a] / n;
-  const covariance = new Float64Array(d * d);
-  for (let row = 0; row < n; row++) {
-    for (let a = 0; a < d; a++) {
-      const differenceA = values[row * d + a] - mean[a];
-      for (let b = 0; b <= a; b++) covariance[a * d + b] += (differenceA * (values[row * d + b] - mean[b])) / n;
-    }
-  }
-  for (let a = 0; a < d; a++) for (let b = a + 1; b < d; b++) covariance[a * d + b] = covariance[b * d + a];
-  return covariance;
 }
 
 /** An E-step the EM loop asks for: on `model`, adding into `statistics` (null: log-likelihood only). */
@@ -201,14 +229,15 @@ export function* restartSteps(
 ): Generator<ExpectationRequest, RestartOutcome, ExpectationSummary> {
   const { rows: n, cols: d } = context;
   const { components: k, covarianceType, tol, maxIterations, regularization } = options;
-  const diagonalOnly = context.patterns === null && (covarianceType === 'diag' || covarianceType === 'spherical');
+  const diagonalOnly = context.patterns === null && covarianceEstimators[covarianceType].moments === 'diagonal';
   const random = restartStream(options.seed, 2 * restart + 1); // for re-seeding; stream 2r starts the restart
   const warnings = new WarningLog();
   const report = (iteration: number, logLikelihood: number) => onProgress?.({ k, covarianceType, restart, iteration, logLikelihood });
 
   throwIfAborted(signal);
   report(0, NaN);
-  const labels = startingLabels(context, options, restart);
+  const start = startMethodOf(options.init, restart);
+  const labels = startingLabels(context, options, restart, start);
   let outcome = maximizationStep(statisticsFromLabels(context.filledValues, n, d, labels, k, diagonalOnly), covarianceType, regularization);
   noteMaximization(outcome, 0, warnings);
   let model = outcome.model;
@@ -248,6 +277,8 @@ export function* restartSteps(
     converged,
     iterations,
     warnings: warnings.list(),
+    start,
+    refused: refusalOf(model, n, dataScale(context), outcome.regularised),
   };
 }
 
@@ -265,11 +296,16 @@ export function fitRestart(
   return step.value;
 }
 
-/** Best restart (highest log-likelihood, the earliest on ties) turned into a FitResult. */
+/**
+ * The best restart turned into a FitResult: the highest log-likelihood among the valid restarts
+ * (the earliest on ties), or among all of them when none is valid (the result is then refused).
+ */
 export function summarizeRestarts(outcomes: RestartOutcome[], options: ResolvedFitOptions, rows: number, cols: number): FitResult {
   const ordered = [...outcomes].sort((a, b) => a.restart - b.restart);
-  let best = ordered[0];
-  for (const outcome of ordered) if (outcome.logLikelihood > best.logLikelihood) best = outcome;
+  const valid = ordered.filter((outcome) => outcome.refused === null);
+  const candidates = valid.length > 0 ? valid : ordered;
+  let best = candidates[0];
+  for (const outcome of candidates) if (outcome.logLikelihood > best.logLikelihood) best = outcome;
   const parameters = parameterCount(options.components, cols, options.covarianceType);
   const bic = bayesianInformationCriterion(best.logLikelihood, parameters, rows);
   return {
@@ -280,11 +316,31 @@ export function summarizeRestarts(outcomes: RestartOutcome[], options: ResolvedF
     aic: akaikeInformationCriterion(best.logLikelihood, parameters),
     icl: integratedCompletedLikelihood(bic, best.sumLogMaxPosterior),
     parameterCount: parameters,
+    refused: best.refused,
     converged: best.converged,
     iterations: best.iterations,
     warnings: best.warnings,
     restartLogLikelihoods: ordered.map((outcome) => outcome.logLikelihood),
+    restartStarts: ordered.map((outcome) => outcome.start),
+    restartRefusals: ordered.map((outcome) => outcome.refused),
     bestRestart: best.restart,
+  };
+}
+
+/** The sweep-table row of a fit. */
+export function sweepRowOf(fit: FitResult): SweepRow {
+  return {
+    k: fit.model.components,
+    covariance: fit.model.covarianceType,
+    logLikelihood: fit.logLikelihood,
+    bic: fit.bic,
+    aic: fit.aic,
+    icl: fit.icl,
+    converged: fit.converged,
+    iterations: fit.iterations,
+    parameterCount: fit.parameterCount,
+    warnings: fit.warnings,
+    refused: fit.refused,
   };
 }
 

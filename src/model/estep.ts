@@ -1,8 +1,6 @@
+import { covarianceEstimators, logDensityConstant } from './gaussian.js';
 import { expectationKernel, type StatisticsMode } from './kernel.js';
-import { logDiagonalSum } from './linalg.js';
 import type { MixtureModel } from './types.js';
-
-const LOG_2PI = Math.log(2 * Math.PI);
 
 /**
  * What the E-step needs from a model, laid out for the row loop.
@@ -52,12 +50,12 @@ export interface ExpectationSummary {
 
 export function expectationTerms(model: MixtureModel): ExpectationTerms {
   const { components: k, dimensions: d } = model;
-  const triangular = model.covarianceType === 'full' || model.covarianceType === 'tied';
+  const { triangular } = covarianceEstimators[model.covarianceType];
   const logConstants = new Float64Array(k);
   const factors = new Float64Array(triangular ? k * d * d : k * d);
   for (let c = 0; c < k; c++) {
     const offset = c * d * d;
-    logConstants[c] = Math.log(model.weights[c]) + logDiagonalSum(model.precisionCholesky, offset, d) - 0.5 * d * LOG_2PI;
+    logConstants[c] = logDensityConstant(Math.log(model.weights[c]), model.precisionCholesky, offset, d);
     if (triangular) factors.set(model.precisionCholesky.subarray(offset, offset + d * d), offset);
     else for (let j = 0; j < d; j++) factors[c * d + j] = model.precisionCholesky[offset + j * d + j];
   }

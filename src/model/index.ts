@@ -1,12 +1,34 @@
 /**
- * The mixture engine's public surface. Import from here (`src/model/index.js`), not from the
- * individual modules, so the engine can be reorganised without touching callers.
+ * The mixture engine's public surface and the only entry for code outside src/model (the
+ * layering test enforces it): import from here, not from the individual modules, so the engine
+ * can be reorganised without touching callers.
+ *
+ * Module map: types (public shapes) · gaussian (the Gaussian numerics and one covariance
+ * estimator per structure) · kernel + estep (the E-step) · mstep · missing (E-step with missing
+ * values) · init + agglomeration (starts) · em + parallel (EM, restarts, sweeps) · validity
+ * (which fits may compete) · criteria · combining (components into segments) · score ·
+ * matching · agreement · serialize · matrix-csv · random · validate.
  */
 export * from './types.js';
 export { parameterCount, bayesianInformationCriterion, akaikeInformationCriterion, integratedCompletedLikelihood } from './criteria.js';
 export { modelToJSON, modelFromJSON } from './serialize.js';
-export { fitMixture } from './em.js';
+export { fitMixture, sweepRowOf } from './em.js';
 export { scoreRows, imputeMissing } from './score.js';
+export { componentLogDensity, marginalLogDensity } from './gaussian.js';
+export { RELATIVE_VARIANCE_FLOOR } from './validity.js';
+export { AGGLOMERATION_SAMPLE } from './agglomeration.js';
+export { RANDOM_PARTITION_ROWS_PER_COMPONENT, startMethodOf } from './init.js';
+export {
+  combineComponents,
+  segmentPosteriors,
+  classify,
+  segmentationAtLevel,
+  mergeSegments,
+  splitSegment,
+  type Segmentation,
+  type CombiningLevel,
+  type CombiningHierarchy,
+} from './combining.js';
 export {
   bhattacharyyaDistance,
   bhattacharyyaCostMatrix,
@@ -25,3 +47,4 @@ export {
 export { contingencyTable, adjustedRandIndex, adjustedRandIndexFromTable, type ContingencyTable } from './agreement.js';
 export { fitMixtureParallel, sweepMixtures } from './parallel.js';
 export { parseNumericCsv, membershipsHeader, membershipsLines, type NumericCsv } from './matrix-csv.js';
+export { restartStream, type RandomStream } from './random.js';

@@ -1,7 +1,8 @@
+import { cutTree, sampleRows, type AgglomerationTree } from './agglomeration.js';
 import { emptyStatistics, type SufficientStatistics } from './estep.js';
 import { compiledKernel, range } from './kernel.js';
 import type { RandomStream } from './random.js';
-import type { InitMethod } from './types.js';
+import type { InitMethod, StartMethod } from './types.js';
 
 /** k-means stops after this many Lloyd iterations (scikit-learn's KMeans default, from memory). */
 const KMEANS_MAX_ITERATIONS = 300;
@@ -9,14 +10,42 @@ const KMEANS_MAX_ITERATIONS = 300;
 const KMEANS_RELATIVE_TOL = 1e-4;
 
 /**
- * Starting hard assignment of the n × d complete rows in `values` to k components:
+ * The start of restart r (0-based) under `init`: the method itself, or for 'mixed' restart 0
+ * hierarchical agglomeration (the start mclust uses), then k-means and random partitions in
+ * turn, so the restarts differ in kind and not only in their random numbers.
+ */
+export function startMethodOf(init: InitMethod, restart: number): StartMethod {
+  if (init !== 'mixed') return init;
+  if (restart === 0) return 'hierarchical';
+  return restart % 2 === 1 ? 'kmeans' : 'random-partition';
+}
+
+/** Rows per component in the random sample a random partition labels (the rest start unlabelled). */
+export const RANDOM_PARTITION_ROWS_PER_COMPONENT = 10;
+
+/**
+ * Starting hard assignment of the n × d complete rows in `values` to k components (labels n,
+ * 0-based; −1 for a row left out of the start, whose parameters then come from the other rows):
  * - 'kmeans': k-means++ seeding then Lloyd's k-means to convergence;
  * - 'kmeans++': k-means++ seeding, each row to its nearest seed;
- * - 'random': k distinct random rows as seeds, each row to its nearest seed.
- * Returns labels (n, 0-based) of which every component holds at least one row when the data
- * has at least k distinct rows.
+ * - 'random': k distinct random rows as seeds, each row to its nearest seed;
+ * - 'random-partition': a random sample of RANDOM_PARTITION_ROWS_PER_COMPONENT · k rows split
+ *   at random into k groups of (nearly) equal size — a partition of a subsample, so the start
+ *   means differ (a partition of all rows would start every component at the overall mean);
+ * - 'hierarchical': the agglomeration tree (given; its sample's rows) cut at k groups.
+ * Every component holds at least one row when the data have at least k distinct rows.
  */
-export function initialLabels(values: Float64Array, n: number, d: number, k: number, method: InitMethod, random: RandomStream): Int32Array {
+export function initialLabels(
+  values: Float64Array,
+  n: number,
+  d: number,
+  k: number,
+  method: StartMethod,
+  random: RandomStream,
+  tree: () => AgglomerationTree,
+): Int32Array {
+  if (method === 'hierarchical') return hierarchicalLabels(tree(), n, k);
+  if (method === 'random-partition') return randomPartition(n, k, random);
   const centers = method === 'random' ? randomRows(values, n, d, k, random) : kMeansPlusPlus(values, n, d, k, random);
   const state: KMeansState = {
     values,
@@ -32,6 +61,20 @@ export function initialLabels(values: Float64Array, n: number, d: number, k: num
   assignNearest(state);
   if (method === 'kmeans') lloyd(state);
   return state.labels;
+}
+
+function hierarchicalLabels(tree: AgglomerationTree, n: number, k: number): Int32Array {
+  const labels = new Int32Array(n).fill(-1);
+  const cut = cutTree(tree, k);
+  tree.sample.forEach((row, index) => (labels[row] = cut[index]));
+  return labels;
+}
+
+function randomPartition(n: number, k: number, random: RandomStream): Int32Array {
+  const labels = new Int32Array(n).fill(-1);
+  // The sample comes in random order, so dealing it out in turn is a random split.
+  sampleRows(n, Math.min(n, RANDOM_PARTITION_ROWS_PER_COMPONENT * k), random).forEach((row, index) => (labels[row] = index % k));
+  return labels;
 }
 
 function squaredDistance(values: Float64Array, row: number, centers: Float64Array, center: number, d: number): number {
@@ -251,14 +294,15 @@ function meanFeatureVariance(values: Float64Array, n: number, d: number): number
 }
 
 /**
- * Sufficient statistics of a hard assignment (τ_ic = 1 for the row's label), shifted by the
- * label means; two passes, so the moments are exact.
+ * Sufficient statistics of a hard assignment (τ_ic = 1 for the row's label; rows labelled −1
+ * left out), shifted by the label means; two passes, so the moments are exact.
  */
 export function statisticsFromLabels(values: Float64Array, n: number, d: number, labels: Int32Array, k: number, diagonalOnly: boolean): SufficientStatistics {
   const centers = new Float64Array(k * d);
   const counts = new Float64Array(k);
   for (let row = 0; row < n; row++) {
     const label = labels[row];
+    if (label < 0) continue;
     counts[label]++;
     for (let a = 0; a < d; a++) centers[label * d + a] += values[row * d + a];
   }
@@ -267,6 +311,7 @@ export function statisticsFromLabels(values: Float64Array, n: number, d: number,
   const dd = d * d;
   for (let row = 0; row < n; row++) {
     const label = labels[row];
+    if (label < 0) continue;
     statistics.weightSums[label]++;
     for (let a = 0; a < d; a++) {
       const differenceA = values[row * d + a] - centers[label * d + a];

@@ -6,8 +6,8 @@
  * segments are paired with last month's so that the total Bhattacharyya distance is smallest;
  * segments left without a partner are new (child side) or retired (parent side).
  */
-import { CholeskyDecomposition, Matrix } from 'ml-matrix';
 import { InputError } from '../errors.js';
+import { choleskyLower, logDiagonalSum, solveLowerInPlace } from './gaussian.js';
 
 /** One Gaussian: mean (d) and covariance (d × d, row-major, symmetric positive definite). */
 export interface GaussianComponent {
@@ -78,20 +78,6 @@ interface PreparedComponent {
   logDeterminant: number;
 }
 
-function toMatrix(values: Float64Array, d: number): Matrix {
-  const matrix = new Matrix(d, d);
-  for (let i = 0; i < d; i++) for (let j = 0; j < d; j++) matrix.set(i, j, values[i * d + j]);
-  return matrix;
-}
-
-/** log det from a Cholesky factor: 2 Σ log L_ii (stable where the determinant itself underflows). */
-function choleskyLogDeterminant(cholesky: CholeskyDecomposition, d: number): number {
-  const lower = cholesky.lowerTriangularMatrix;
-  let sum = 0;
-  for (let i = 0; i < d; i++) sum += Math.log(lower.get(i, i));
-  return 2 * sum;
-}
-
 function prepareComponent(component: GaussianComponent, label: string): PreparedComponent {
   if (!(component?.mean instanceof Float64Array) || !(component?.covariance instanceof Float64Array)) {
     throw new InputError(`${label}: mean and covariance must be Float64Arrays.`);
@@ -118,17 +104,16 @@ function prepareComponent(component: GaussianComponent, label: string): Prepared
       if (Math.abs(lower - upper) > symmetryTolerance * scale) {
         throw new InputError(`${label}: the covariance is not symmetric at (${i}, ${j}): ${lower} vs ${upper}.`);
       }
-      // Exactly symmetric from here on: ml-matrix's Cholesky demands it, and rounding leaves tiny gaps.
+      // Exactly symmetric from here on, so the distance is symmetric in its two arguments.
       const average = (lower + upper) / 2;
       covariance[i * d + j] = average;
       covariance[j * d + i] = average;
     }
   }
-  const cholesky = new CholeskyDecomposition(toMatrix(covariance, d));
-  if (!cholesky.isPositiveDefinite()) {
-    throw new InputError(`${label}: the covariance is not positive definite.`);
-  }
-  return { mean: component.mean, covariance, logDeterminant: choleskyLogDeterminant(cholesky, d) };
+  const lower = choleskyLower(covariance, 0, d);
+  if (!lower) throw new InputError(`${label}: the covariance is not positive definite.`);
+  // log det from the factor, 2 Σ log L_ii (stable where the determinant itself underflows).
+  return { mean: component.mean, covariance, logDeterminant: 2 * logDiagonalSum(lower, 0, d) };
 }
 
 /**
@@ -142,17 +127,18 @@ function preparedDistance(a: PreparedComponent, b: PreparedComponent, label: str
   }
   const average = new Float64Array(d * d);
   for (let i = 0; i < d * d; i++) average[i] = (a.covariance[i] + b.covariance[i]) / 2;
-  const cholesky = new CholeskyDecomposition(toMatrix(average, d));
-  if (!cholesky.isPositiveDefinite()) {
+  const lower = choleskyLower(average, 0, d);
+  if (!lower) {
     // Unreachable for two positive definite inputs except through rounding at the edge.
     throw new InputError(`${label}: the averaged covariance is not positive definite.`);
   }
-  const difference = new Matrix(d, 1);
-  for (let i = 0; i < d; i++) difference.set(i, 0, a.mean[i] - b.mean[i]);
-  const solved = cholesky.solve(difference);
+  // (μ₁−μ₂)ᵀ Σ⁻¹ (μ₁−μ₂) = ‖L⁻¹ (μ₁−μ₂)‖².
+  const whitened = new Float64Array(d);
+  for (let i = 0; i < d; i++) whitened[i] = a.mean[i] - b.mean[i];
+  solveLowerInPlace(lower, 0, whitened, d);
   let mahalanobisSquared = 0;
-  for (let i = 0; i < d; i++) mahalanobisSquared += difference.get(i, 0) * solved.get(i, 0);
-  const logDeterminant = choleskyLogDeterminant(cholesky, d);
+  for (let i = 0; i < d; i++) mahalanobisSquared += whitened[i] * whitened[i];
+  const logDeterminant = 2 * logDiagonalSum(lower, 0, d);
   const distance = mahalanobisSquared / 8 + (logDeterminant - (a.logDeterminant + b.logDeterminant) / 2) / 2;
   // The log-determinant term is ≥ 0 in exact arithmetic; rounding can leave −1e-16.
   return Math.max(distance, 0);

@@ -1,8 +1,6 @@
-import { choleskyLower, invertLowerTriangular, logDiagonalSum } from './linalg.js';
+import { logDensityConstant, marginalPrecisionFactor, normalizeLogWeights, whitenedSquaredNorm } from './gaussian.js';
 import type { ExpectationSummary, SufficientStatistics } from './estep.js';
 import type { MixtureModel } from './types.js';
-
-const LOG_2PI = Math.log(2 * Math.PI);
 
 /** Rows sharing one pattern of observed (o) and missing (m) features, as 0-based column indices. */
 export interface MissingPattern {
@@ -54,11 +52,8 @@ function patternComponents(model: MixtureModel, pattern: MissingPattern): Patter
   const result: PatternComponent[] = [];
   for (let c = 0; c < k; c++) {
     const base = c * d * d;
-    const observedBlock = new Float64Array(o * o);
-    for (let i = 0; i < o; i++) for (let j = 0; j < o; j++) observedBlock[i * o + j] = covariances[base + observed[i] * d + observed[j]];
-    const lower = choleskyLower(observedBlock, 0, o);
-    if (!lower) throw new Error(`Covariance of component ${c + 1} is not positive definite on the observed features.`);
-    const factor = invertLowerTriangular(lower, o);
+    const factor = marginalPrecisionFactor(covariances, base, d, observed);
+    if (!factor) throw new Error(`Covariance of component ${c + 1} is not positive definite on the observed features.`);
     // Σ_oo⁻¹ = Wᵀ W.
     const precision = new Float64Array(o * o);
     for (let i = 0; i < o; i++) {
@@ -85,7 +80,7 @@ function patternComponents(model: MixtureModel, pattern: MissingPattern): Patter
       }
     }
     result.push({
-      logConstant: Math.log(weights[c]) + logDiagonalSum(factor, 0, o) - 0.5 * o * LOG_2PI,
+      logConstant: logDensityConstant(Math.log(weights[c]), factor, 0, o),
       factor,
       regression,
       conditionalCovariance,
@@ -120,7 +115,7 @@ export function patternExpectationStep(
   const { statistics, posteriors, rowLogDensities, imputed } = outputs;
   const logDensities = new Float64Array(k);
   const expected = new Float64Array(k * d); // x̂ − μ_c per component
-  const projected = new Float64Array(d);
+  const deviation = new Float64Array(d); // x_o − μ_o of one component
   let logLikelihood = 0;
   let sumLogMaxPosterior = 0;
   let worstRow = -1;
@@ -137,31 +132,19 @@ export function patternExpectationStep(
       for (let c = 0; c < k; c++) {
         const { factor, regression, logConstant } = terms[c];
         const offset = c * d;
-        for (let i = 0; i < o; i++) expected[offset + observed[i]] = values[base + observed[i]] - means[offset + observed[i]];
-        let squared = 0;
-        for (let i = 0; i < o; i++) {
-          let sum = 0;
-          for (let j = 0; j <= i; j++) sum += factor[i * o + j] * expected[offset + observed[j]];
-          projected[i] = sum;
-          squared += sum * sum;
-        }
+        for (let i = 0; i < o; i++) deviation[i] = values[base + observed[i]] - means[offset + observed[i]];
+        for (let i = 0; i < o; i++) expected[offset + observed[i]] = deviation[i];
         for (let i = 0; i < m; i++) {
           let sum = 0;
-          for (let j = 0; j < o; j++) sum += regression[i * o + j] * expected[offset + observed[j]];
+          for (let j = 0; j < o; j++) sum += regression[i * o + j] * deviation[j];
           expected[offset + missing[i]] = sum;
         }
-        logDensities[c] = logConstant - 0.5 * squared;
+        logDensities[c] = logConstant - 0.5 * whitenedSquaredNorm(factor, 0, deviation, o);
         if (logDensities[c] > best) best = logDensities[c];
       }
-      let total = 0;
-      for (let c = 0; c < k; c++) {
-        logDensities[c] = Math.exp(logDensities[c] - best);
-        total += logDensities[c];
-      }
-      const logTotal = Math.log(total);
-      const rowLogDensity = best + logTotal;
+      const rowLogDensity = normalizeLogWeights(logDensities, 0, k); // logDensities now hold the posteriors
       logLikelihood += rowLogDensity;
-      sumLogMaxPosterior -= logTotal;
+      sumLogMaxPosterior += best - rowLogDensity;
       if (rowLogDensity < worstLogDensity) {
         worstLogDensity = rowLogDensity;
         worstRow = row;
@@ -172,7 +155,7 @@ export function patternExpectationStep(
         for (let i = 0; i < m; i++) imputed[base + missing[i]] = 0;
       }
       for (let c = 0; c < k; c++) {
-        const responsibility = logDensities[c] / total;
+        const responsibility = logDensities[c];
         if (posteriors) posteriors[row * k + c] = responsibility;
         const offset = c * d;
         if (imputed) for (let i = 0; i < m; i++) imputed[base + missing[i]] += responsibility * (means[offset + missing[i]] + expected[offset + missing[i]]);

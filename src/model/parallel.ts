@@ -2,11 +2,11 @@ import { availableParallelism } from 'node:os';
 import type { Worker } from 'node:worker_threads';
 import { CancelledError, InputError, throwIfAborted } from '../errors.js';
 import { chunkCount, combineChunks, expectationChunks, expectationTerms, statisticsModeOf, type ChunkPartials, type ExpectationSummary } from './estep.js';
-import { fitRestart, prepareFit, prepareFitContext, restartSteps, summarizeRestarts, type FitContext, type RestartOutcome } from './em.js';
+import { fitRestart, prepareFit, prepareFitContext, restartSteps, summarizeRestarts, sweepRowOf, type FitContext, type RestartOutcome } from './em.js';
 import { resolveFitOptions, checkCells, checkEnoughRows, checkFeatureVariance, checkShape, type ResolvedFitOptions } from './validate.js';
 import { startModuleWorker } from './worker-host.js';
 import type { WorkerData, WorkerReply, WorkerRequest } from './worker-protocol.js';
-import type { DataMatrix, FitOptions, FitProgress, FitResult, SweepOptions, SweepResult, SweepRow } from './types.js';
+import type { DataMatrix, FitOptions, FitProgress, FitResult, SweepOptions, SweepResult } from './types.js';
 
 type RequestBody = WorkerRequest extends infer R ? (R extends WorkerRequest ? Omit<R, 'id'> : never) : never;
 
@@ -247,9 +247,24 @@ export async function fitMixtureParallel(data: DataMatrix, options: FitOptions &
 }
 
 /**
+ * The error when no fit of a sweep may compete: what was wrong with the simplest one, and what
+ * to change.
+ */
+function everyFitRefused(table: SweepResult['table']): InputError {
+  const first = table[0];
+  return new InputError(
+    `Every fit was refused: each has a component too small to estimate its covariance ` +
+      `(for example k = ${first.k} ${first.covariance}: ${first.refused}). ` +
+      'Try fewer components, other features, or a larger regularisation.',
+    { refused: table.map((row) => ({ k: row.k, covariance: row.covariance, reason: row.refused })) },
+  );
+}
+
+/**
  * Fits every (structure, k) of the grid — each restart a task on the worker threads, the
  * larger k first so the threads finish together — and returns the table and the winner by the
- * criterion (lowest; the first in table order on ties). Each cell equals fitMixture's result.
+ * criterion among the fits not refused (lowest; the first in table order on ties); InputError
+ * when every fit is refused. Each cell equals fitMixture's result.
  */
 export async function sweepMixtures(data: DataMatrix, options: SweepOptions): Promise<SweepResult> {
   const [minK, maxK] = options.componentRange ?? [];
@@ -258,7 +273,7 @@ export async function sweepMixtures(data: DataMatrix, options: SweepOptions): Pr
   }
   const structures = [...new Set(options.covarianceTypes)];
   if (structures.length === 0) throw new InputError('Choose at least one covariance structure for the sweep.');
-  const criterion = options.criterion ?? 'bic';
+  const { criterion } = options;
   if (criterion !== 'bic' && criterion !== 'icl') throw new InputError(`Unknown criterion "${String(criterion)}"; use bic or icl.`);
   const cells: ResolvedFitOptions[] = [];
   for (const covarianceType of structures) {
@@ -293,22 +308,12 @@ export async function sweepMixtures(data: DataMatrix, options: SweepOptions): Pr
       }),
     );
     const fits = cells.map((cell, index) => summarizeRestarts(outcomes[index], cell, data.rows, data.cols));
-    const table: SweepRow[] = fits.map((fit, index) => ({
-      k: cells[index].components,
-      covarianceType: cells[index].covarianceType,
-      logLikelihood: fit.logLikelihood,
-      bic: fit.bic,
-      aic: fit.aic,
-      icl: fit.icl,
-      converged: fit.converged,
-      iterations: fit.iterations,
-      parameterCount: fit.parameterCount,
-      warnings: fit.warnings,
-    }));
-    let bestIndex = 0;
+    const table = fits.map(sweepRowOf);
+    let bestIndex = -1;
     table.forEach((row, index) => {
-      if (row[criterion] < table[bestIndex][criterion]) bestIndex = index;
+      if (row.refused === null && (bestIndex < 0 || row[criterion] < table[bestIndex][criterion])) bestIndex = index;
     });
+    if (bestIndex < 0) throw everyFitRefused(table);
     return { table, best: fits[bestIndex], bestRow: table[bestIndex], criterion };
   });
 }

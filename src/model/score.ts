@@ -1,30 +1,15 @@
 import { InputError } from '../errors.js';
 import { groupByMissingPattern, patternExpectationStep } from './missing.js';
-import { checkShape } from './validate.js';
+import { checkCells, checkShape } from './validate.js';
 import type { DataMatrix, Memberships, MixtureModel } from './types.js';
 
+/** Rows a model can score: its width, and any row with at least one finite value (NaN = missing). */
 function checkScorable(model: MixtureModel, data: DataMatrix): void {
   checkShape(data);
   if (data.cols !== model.dimensions) {
     throw new InputError(`The model has ${model.dimensions} feature(s) but the data has ${data.cols} column(s).`);
   }
-  const { values, rows, cols } = data;
-  const infinite: number[] = [];
-  const empty: number[] = [];
-  for (let row = 0; row < rows; row++) {
-    let observed = 0;
-    for (let col = 0; col < cols; col++) {
-      const value = values[row * cols + col];
-      if (value === Infinity || value === -Infinity) {
-        infinite.push(row + 1);
-        break;
-      }
-      if (value === value) observed++;
-    }
-    if (observed === 0 && infinite[infinite.length - 1] !== row + 1) empty.push(row + 1);
-  }
-  if (infinite.length > 0) throw new InputError(`Cannot score rows with infinite values: row ${infinite.slice(0, 10).join(', ')}${infinite.length > 10 ? ' …' : ''}.`);
-  if (empty.length > 0) throw new InputError(`Cannot score rows with no observed value: row ${empty.slice(0, 10).join(', ')}${empty.length > 10 ? ' …' : ''}.`);
+  checkCells(data, 'em');
 }
 
 /**

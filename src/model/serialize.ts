@@ -1,5 +1,5 @@
 import { InputError } from '../errors.js';
-import { precisionCholeskyOf } from './linalg.js';
+import { precisionCholeskyOf } from './gaussian.js';
 import { covarianceTypes, type MixtureModel, type MixtureModelJSON } from './types.js';
 
 /**

@@ -1,3 +1,4 @@
+import type { SweepRow as ContractSweepRow } from '../api/contract.js';
 /**
  * Public shapes of the mixture engine. Other layers (runs, api, cli) code against these; keep them
  * stable. All matrices are row-major Float64Arrays with their shape written beside them.
@@ -8,10 +9,20 @@ export type CovarianceType = 'full' | 'diag' | 'spherical' | 'tied';
 
 export const covarianceTypes: readonly CovarianceType[] = ['full', 'diag', 'spherical', 'tied'];
 
-/** How the starting responsibilities of a restart are chosen. */
-export type InitMethod = 'kmeans' | 'kmeans++' | 'random';
+/**
+ * How a restart starts (init.ts):
+ * - 'kmeans': k-means++ seeding then Lloyd's k-means; 'kmeans++': the seeding alone;
+ * - 'random': k distinct random rows as seeds, each row to its nearest seed;
+ * - 'random-partition': a random partition of a small random sample of rows;
+ * - 'hierarchical': model-based hierarchical agglomeration (Fraley 1998) on SVD-scaled data;
+ * - 'mixed': restart 1 hierarchical, then k-means and random partitions in turn.
+ */
+export type InitMethod = 'mixed' | 'hierarchical' | 'kmeans' | 'kmeans++' | 'random' | 'random-partition';
 
-export const initMethods: readonly InitMethod[] = ['kmeans', 'kmeans++', 'random'];
+export const initMethods: readonly InitMethod[] = ['mixed', 'hierarchical', 'kmeans', 'kmeans++', 'random', 'random-partition'];
+
+/** The start one restart actually used ('mixed' resolved). */
+export type StartMethod = Exclude<InitMethod, 'mixed'>;
 
 /** 'reject': NaN/Infinity anywhere is bad input. 'em': NaN marks a missing value, fitted by EM. */
 export type MissingPolicy = 'reject' | 'em';
@@ -65,23 +76,26 @@ export interface FitProgress {
   logLikelihood: number;
 }
 
+/**
+ * Options of one fit. The engine has no defaults of its own for the run settings: callers pass
+ * every value (the app's and the command line's defaults live where their settings are defined).
+ */
 export interface FitOptions {
   /** Number of mixture components k ≥ 1. */
   components: number;
   covarianceType: CovarianceType;
-  /** Independent starts; the one with the highest log-likelihood wins (default 5). */
-  restarts?: number;
-  /** Seed of the pure-rand generator; same seed, same bits (default 0). */
-  seed?: number;
-  /** Convergence threshold on the change of mean log-likelihood (default 1e-3; 0 runs to maxIterations). */
-  tol?: number;
-  /** Maximum EM iterations per restart (default 200). */
-  maxIterations?: number;
-  /** Added to covariance diagonals (default 1e-6). */
-  regularization?: number;
-  /** Initialisation (default 'kmeans': k-means++ seeding then k-means). */
-  init?: InitMethod;
-  /** Missing values (default 'reject'). */
+  /** Independent starts; the valid one with the highest log-likelihood wins. */
+  restarts: number;
+  /** Seed of the pure-rand generator; same seed, same bits. */
+  seed: number;
+  /** Convergence threshold on the change of mean log-likelihood (0 runs to maxIterations). */
+  tol: number;
+  /** Maximum EM iterations per restart. */
+  maxIterations: number;
+  /** Added to covariance diagonals. */
+  regularization: number;
+  init: InitMethod;
+  /** Missing values: NaN is bad input ('reject', when not given) or a missing value ('em'). */
   missing?: MissingPolicy;
   signal?: AbortSignal;
   onProgress?: (progress: FitProgress) => void;
@@ -101,6 +115,12 @@ export interface FitResult {
   icl: number;
   /** Free parameters p, counted as scikit-learn's GaussianMixture._n_parameters. */
   parameterCount: number;
+  /**
+   * Why the fit may not compete in model choice (a component with fewer effective members than
+   * its covariance needs, or a covariance held up only by the regularisation floor; validity.ts),
+   * or null for a valid fit. A refused fit is the best restart of all when none was valid.
+   */
+  refused: string | null;
   /** Whether the winning restart met tol before maxIterations. */
   converged: boolean;
   /** EM iterations of the winning restart. */
@@ -109,6 +129,10 @@ export interface FitResult {
   warnings: string[];
   /** Final total log-likelihood of every restart, in restart order. */
   restartLogLikelihoods: number[];
+  /** The start each restart used, in restart order. */
+  restartStarts: StartMethod[];
+  /** Why each restart would be refused (null: valid), in restart order. */
+  restartRefusals: (string | null)[];
   /** 0-based index of the winning restart. */
   bestRestart: number;
 }
@@ -117,28 +141,17 @@ export interface SweepOptions extends Omit<FitOptions, 'components' | 'covarianc
   /** Inclusive range of k to try, [min, max], 1 ≤ min ≤ max. */
   componentRange: [number, number];
   covarianceTypes: readonly CovarianceType[];
-  /** Criterion for the winner (default 'bic'). */
-  criterion?: SelectionCriterion;
+  /** Criterion for the winner among the fits that are not refused. */
+  criterion: SelectionCriterion;
   /** Worker threads (default os.availableParallelism(), or this thread when the work is small; 0 = this thread). */
   threads?: number;
 }
 
-export interface SweepRow {
-  k: number;
-  covarianceType: CovarianceType;
-  logLikelihood: number;
-  bic: number;
-  aic: number;
-  icl: number;
-  converged: boolean;
-  iterations: number;
-  parameterCount: number;
-  /** Warnings of that fit, so a table can flag cells that needed regularisation. */
-  warnings: string[];
-}
+/** One fit of the model-selection table: the contract's row without `chosen` (decided when read). */
+export type SweepRow = Omit<ContractSweepRow, 'chosen'>;
 
 export interface SweepResult {
-  /** One row per (k, structure), ordered by structure as given, then k ascending. */
+  /** One row per (k, structure), ordered by structure as given, then k ascending; refused fits included. */
   table: SweepRow[];
   best: FitResult;
   bestRow: SweepRow;

@@ -1,19 +1,9 @@
 import { InputError } from '../errors.js';
 import { parameterCount } from './criteria.js';
-import { covarianceTypes, initMethods, type DataMatrix, type FitOptions, type InitMethod, type MissingPolicy } from './types.js';
+import { covarianceTypes, initMethods, type DataMatrix, type FitOptions, type MissingPolicy } from './types.js';
 
-/** Fit options with every default filled in (DESIGN.md §5). */
-export interface ResolvedFitOptions {
-  components: number;
-  covarianceType: FitOptions['covarianceType'];
-  restarts: number;
-  seed: number;
-  tol: number;
-  maxIterations: number;
-  regularization: number;
-  init: InitMethod;
-  missing: MissingPolicy;
-}
+/** Fit options checked, with the missing-value policy spelled out (what a worker thread receives). */
+export type ResolvedFitOptions = Required<Omit<FitOptions, 'signal' | 'onProgress'>>;
 
 const LISTED_ROWS = 10;
 
@@ -27,17 +17,20 @@ function listRows(rows: number[]): string {
   return rows.length > LISTED_ROWS ? `${shown} and ${rows.length - LISTED_ROWS} more` : shown;
 }
 
-/** Checks and fills the options; throws InputError naming the option and the allowed values. */
+/**
+ * Checks the options (every run setting is the caller's: the engine fills in none of them) and
+ * throws InputError naming the option and the allowed values.
+ */
 export function resolveFitOptions(options: FitOptions): ResolvedFitOptions {
   const resolved: ResolvedFitOptions = {
     components: options.components,
     covarianceType: options.covarianceType,
-    restarts: options.restarts ?? 5,
-    seed: options.seed ?? 0,
-    tol: options.tol ?? 1e-3,
-    maxIterations: options.maxIterations ?? 200,
-    regularization: options.regularization ?? 1e-6,
-    init: options.init ?? 'kmeans',
+    restarts: options.restarts,
+    seed: options.seed,
+    tol: options.tol,
+    maxIterations: options.maxIterations,
+    regularization: options.regularization,
+    init: options.init,
     missing: options.missing ?? 'reject',
   };
   if (!Number.isInteger(resolved.components) || resolved.components < 1) {
@@ -73,9 +66,10 @@ export function checkShape(data: DataMatrix): void {
 }
 
 /**
- * Cells that cannot be used: with missing = 'reject' every non-finite cell; with 'em' only ±Infinity
- * and rows with no observed value at all. Throws InputError listing the rows (1-based).
- * Returns whether any value is missing (NaN).
+ * The one row check of fitting and scoring. Cells that cannot be used: with missing = 'reject'
+ * every non-finite cell; with 'em' (fitting with missing values, and every scoring) only
+ * ±Infinity and rows with no observed value at all. Throws InputError listing the rows
+ * (1-based). Returns whether any value is missing (NaN).
  */
 export function checkCells(data: DataMatrix, missing: MissingPolicy): boolean {
   const { values, rows, cols } = data;

@@ -5,7 +5,7 @@
  * distributions read a prefix of it, so their cost is the sample's and never grows with the
  * number of customers (DESIGN.md §9, §11: the Segments screen at 1,000,000).
  */
-import { restartStream } from '../model/random.js';
+import { restartStream } from '../model/index.js';
 
 /** The largest sample the API serves (segmentSample's limit). */
 export const DISPLAY_SAMPLE_SIZE = 20_000;

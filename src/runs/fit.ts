@@ -1,37 +1,35 @@
 /**
  * The fitting step of a run: one fit for a fixed k and structure, or the engine's sweep over the
  * k range and structures choosing by BIC or ICL (both lower-is-better), on worker threads. Checks
- * first that the data allow the largest k asked for.
+ * first that the data allow the largest k asked for. Every engine option is passed explicitly from
+ * the run's settings (their defaults are the contract's, src/api/contract/settings.ts).
  */
+import type { ExplicitRunSettings } from '../api/contract.js';
 import { InputError } from '../errors.js';
-import { fitMixtureParallel, sweepMixtures } from '../model/index.js';
-import { covarianceTypes, type CovarianceType, type DataMatrix, type FitProgress, type FitResult, type MixtureModel, type SweepRow } from '../model/types.js';
-import type { ResolvedRunSettings } from './types.js';
+import {
+  covarianceTypes,
+  fitMixtureParallel,
+  sweepMixtures,
+  sweepRowOf,
+  type CovarianceType,
+  type DataMatrix,
+  type FitProgress,
+  type MixtureModel,
+  type SweepRow,
+} from '../model/index.js';
+
+/** A row of the model-selection table as stored with the run (`chosen` is decided when read). */
+export type StoredSweepRow = SweepRow;
 
 export interface RunFit {
   model: MixtureModel;
-  sweep: SweepRow[];
+  sweep: StoredSweepRow[];
   warnings: string[];
-}
-
-function sweepRowOf(result: FitResult): SweepRow {
-  return {
-    k: result.model.components,
-    covarianceType: result.model.covarianceType,
-    logLikelihood: result.logLikelihood,
-    bic: result.bic,
-    aic: result.aic,
-    icl: result.icl,
-    converged: result.converged,
-    iterations: result.iterations,
-    parameterCount: result.parameterCount,
-    warnings: result.warnings,
-  };
 }
 
 export async function fitForRun(
   data: DataMatrix,
-  settings: ResolvedRunSettings,
+  settings: ExplicitRunSettings,
   options: { signal?: AbortSignal; onProgress?: (progress: FitProgress) => void },
 ): Promise<RunFit> {
   const [kMin, kMax] = settings.k === 'auto' ? [settings.kMin, settings.kMax] : [settings.k, settings.k];
@@ -50,13 +48,15 @@ export async function fitForRun(
     tol: settings.tol,
     maxIterations: settings.maxIterations,
     regularization: settings.regularization,
+    init: settings.init,
     missing: anyMissing ? ('em' as const) : ('reject' as const),
     signal: options.signal,
     onProgress: options.onProgress,
   };
   if (kMin === kMax && structures.length === 1) {
     const result = await fitMixtureParallel(data, { ...common, components: kMin, covarianceType: structures[0] });
-    return { model: result.model, sweep: [sweepRowOf(result)], warnings: result.warnings };
+    const warnings = result.refused ? [...result.warnings, `This fit would be refused in a choice of k: ${result.refused}.`] : result.warnings;
+    return { model: result.model, sweep: [sweepRowOf(result)], warnings };
   }
   const sweep = await sweepMixtures(data, { ...common, componentRange: [kMin, kMax], covarianceTypes: structures, criterion: settings.criterion });
   return { model: sweep.best.model, sweep: sweep.table, warnings: sweep.best.warnings };

@@ -4,9 +4,27 @@
  * common customers, and drift warnings (a segment's mean moved more than half a parent standard
  * deviation on a feature, or its share changed by more than 5 percentage points).
  */
-import { adjustedRandIndex } from '../model/agreement.js';
+import { adjustedRandIndex } from '../model/index.js';
 import { featureLabel } from '../features/definitions.js';
-import type { DriftWarning } from './types.js';
+import type { DriftWarning, MovementResult } from '../api/contract.js';
+
+/**
+ * Movement as stored with a run (the runs table's movement column): segments by index, key and
+ * the name they had then (reads take the current names by key), counts, and drift warnings.
+ */
+export type StoredMovement = Pick<MovementResult, 'common' | 'entered' | 'left' | 'warnings'> & {
+  parentRunId: number;
+  /** Row and column labels: parent segments (rows) and current segments (columns). */
+  parentSegments: { index: number; key: string; name: string }[];
+  currentSegments: { index: number; key: string; name: string }[];
+  /** counts[i][j]: customers in parent segment i and current segment j (the result's matrix). */
+  counts: number[][];
+  /** The result's stability: null when fewer than two customers are common to both runs. */
+  adjustedRandIndex: number | null;
+  /** Refit only: parent segments without a match and current segments new this month. */
+  retired: { key: string; name: string }[];
+  added: { key: string; name: string }[];
+};
 
 /** Default thresholds of DESIGN.md §6. */
 export const MEAN_SHIFT_STANDARD_DEVIATIONS = 0.5;

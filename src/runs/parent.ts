@@ -6,11 +6,10 @@
 import type { Database } from 'better-sqlite3';
 import { InputError } from '../errors.js';
 import { transformValue, type FeatureTransform } from '../features/transforms.js';
-import { modelFromJSON } from '../model/serialize.js';
-import type { MixtureModel } from '../model/types.js';
+import { modelFromJSON, type MixtureModel } from '../model/index.js';
 import { decodeFloat64 } from './blobs.js';
 import { segmentMoments, type SegmentMoments } from './movement.js';
-import type { ReviewAction } from './types.js';
+import type { ReviewAction } from '../api/contract.js';
 
 export interface ParentDecision {
   customerId: string;

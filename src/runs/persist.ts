@@ -6,25 +6,26 @@
 import type { Database } from 'better-sqlite3';
 import type { FeatureTable } from '../features/compute.js';
 import type { FeatureTransform } from '../features/transforms.js';
-import { modelToJSON } from '../model/serialize.js';
-import type { Memberships, MixtureModel, SelectionCriterion, SweepRow } from '../model/types.js';
+import { modelToJSON, type Memberships, type MixtureModel } from '../model/index.js';
+import type { SelectionCriterion, StoredRunSettings } from '../api/contract.js';
 import { encodeFloat64 } from './blobs.js';
 import { displaySamplePositions } from './display-sample.js';
+import type { StoredSweepRow } from './fit.js';
 import type { Flags } from './flags.js';
+import type { StoredMovement } from './movement.js';
 import type { NamedSegment } from './naming.js';
 import type { ParentDecision } from './parent.js';
 import type { ProfileNumbers } from './profiles.js';
-import type { Movement, ResolvedRunSettings } from './types.js';
 
 export type CarriedDecision = ParentDecision;
 
 export interface RunRecord {
-  settings: ResolvedRunSettings;
+  settings: StoredRunSettings;
   features: string[];
   transforms: Record<string, FeatureTransform>;
   table: FeatureTable;
   model: MixtureModel;
-  sweep: SweepRow[];
+  sweep: StoredSweepRow[];
   criterion: SelectionCriterion;
   logLikelihood: number;
   bic: number;
@@ -39,7 +40,7 @@ export interface RunRecord {
   segments: NamedSegment[];
   profiles: ProfileNumbers[];
   retired: { key: string; name: string }[];
-  movement: Movement | null;
+  movement: StoredMovement | null;
   warnings: string[];
   carried: CarriedDecision[];
   onProgress?: (done: number) => void;

@@ -3,14 +3,20 @@
  * window) and its share, and median and quartiles of every stored feature in original units.
  */
 import { quantileOfSorted } from '../features/quantiles.js';
-import type { FeatureQuartiles } from './types.js';
+
+/** Median and quartiles of one feature over a segment's members, in original units (as stored with the run). */
+export interface StoredQuartiles {
+  q1: number;
+  median: number;
+  q3: number;
+}
 
 export interface ProfileNumbers {
   customers: number;
   share: number;
   revenueCents: number;
   revenueShare: number;
-  features: Record<string, FeatureQuartiles | null>;
+  features: Record<string, StoredQuartiles | null>;
 }
 
 /**
@@ -41,7 +47,7 @@ export function segmentProfiles(
   const members = new Int32Array(placed);
   for (let i = 0; i < labels.length; i++) if (labels[i] >= 0) members[fill[labels[i]]++] = i;
   return counts.map((customers, s) => {
-    const features: Record<string, FeatureQuartiles | null> = {};
+    const features: Record<string, StoredQuartiles | null> = {};
     names.forEach((name, j) => {
       const column = columns[j];
       const values = new Float64Array(customers);

@@ -2,7 +2,7 @@
  * Review queue rules (DESIGN.md §7): who is queued and why, what a decision makes of the final
  * segment, and which decisions carry over to next month's run.
  */
-import type { ReviewAction } from './types.js';
+import type { ReviewAction } from '../api/contract.js';
 
 /** Why a customer is queued, as bits of the stored `review` column. */
 export const REVIEW_BORDERLINE = 1;

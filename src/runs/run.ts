@@ -3,40 +3,40 @@
  * model for a rescore) → memberships and flags → segment names (spend order, or carried from the
  * parent by matching) → profiles → movement → one transaction that stores it all. Everything is
  * computed before anything is written, so bad input or a cancel stores nothing.
+ *
+ * The settings arrive validated and explicit (src/api/contract/settings.ts holds their limits and
+ * defaults; `explicitRunSettings` makes the data-dependent choices): nothing here defaults them.
  */
 import type { Database } from 'better-sqlite3';
+import type { ExplicitRunSettings, RunSummary, StoredRunSettings } from '../api/contract.js';
 import { InputError, throwIfAborted } from '../errors.js';
 import { checkAsOfInData, computeReceiptFeatures, loadImportedFeatures, type FeatureTable } from '../features/compute.js';
 import { fitTransform, transformValue, untransformValue, type FeatureTransform } from '../features/transforms.js';
 import { featureWindow } from '../features/window.js';
-import { bayesianInformationCriterion, integratedCompletedLikelihood, parameterCount } from '../model/criteria.js';
-import { matchComponents, type GaussianComponent } from '../model/matching.js';
-import { scoreRows } from '../model/score.js';
-import type { DataMatrix, MixtureModel, SweepRow } from '../model/types.js';
+import { bayesianInformationCriterion, integratedCompletedLikelihood, parameterCount, matchComponents, scoreRows, type GaussianComponent, type DataMatrix, type MixtureModel } from '../model/index.js';
 import { computeFlags } from './flags.js';
-import { fitForRun } from './fit.js';
-import { countMovement, driftWarnings, segmentMoments } from './movement.js';
+import { fitForRun, type StoredSweepRow } from './fit.js';
+import { countMovement, driftWarnings, segmentMoments, type StoredMovement } from './movement.js';
 import { carryNames, keyNumber, nameFirstRun, type NamedSegment } from './naming.js';
 import { latestEarlierRunId, loadParentRun, type ParentRun } from './parent.js';
 import { persistRun, type CarriedDecision } from './persist.js';
+import { transformSpecOf } from './read/stored-run.js';
 import { segmentProfiles } from './profiles.js';
 import { carriesOver, isLowConfidenceMover, reviewMask } from './review-rules.js';
-import { defaultModelFeatures, defaultTransform, resolveSettings } from './settings.js';
-import type { Movement, ResolvedRunSettings, RunOptions, RunProgress, RunSettings, RunSummary } from './types.js';
+import type { RunOptions, RunProgress } from './types.js';
 
 /** Runs a segmentation and stores it; resolves to the `refresh --json` summary. */
-export async function runSegmentation(db: Database, input: RunSettings, options: RunOptions = {}): Promise<RunSummary> {
+export async function runSegmentation(db: Database, input: ExplicitRunSettings, options: RunOptions = {}): Promise<RunSummary> {
   const { signal } = options;
   const report = (phase: RunProgress['phase'], done: number, total: number, message: string, extra: Partial<RunProgress> = {}) =>
     options.onProgress?.({ phase, done, total, message, ...extra });
 
-  const partial = resolveSettings(db, input);
-  const parentRunId = partial.parentRunId === undefined ? latestEarlierRunId(db, partial.asOf) : partial.parentRunId;
-  if (partial.mode === 'rescore' && parentRunId === null) {
+  const parentRunId = input.parentRunId === undefined ? latestEarlierRunId(db, input.asOf) : input.parentRunId;
+  if (input.mode === 'rescore' && parentRunId === null) {
     throw new InputError('A rescore applies an earlier run\'s model, but there is no earlier run; run a refit first or name the parent run.');
   }
   const parent = parentRunId === null ? null : loadParentRun(db, parentRunId);
-  const settings: ResolvedRunSettings = { ...partial, parentRunId };
+  const settings = { ...input, parentRunId };
 
   report('features', 0, 1, `Computing features for the ${settings.windowMonths} months to ${settings.asOf}`);
   const table = buildFeatureTable(db, settings, signal);
@@ -61,7 +61,7 @@ export async function runSegmentation(db: Database, input: RunSettings, options:
   const data = transformedMatrix(features, transforms, featureColumns, placedRows);
 
   let model: MixtureModel;
-  let sweep: SweepRow[] = [];
+  let sweep: StoredSweepRow[] = [];
   let warnings: string[] = [];
   if (settings.mode === 'rescore') {
     model = parent!.model;
@@ -99,7 +99,7 @@ export async function runSegmentation(db: Database, input: RunSettings, options:
 
   const keyOfIndex = segments.map((segment) => segment.key);
   const keysInRun = new Set(keyOfIndex);
-  let movement: Movement | null = null;
+  let movement: StoredMovement | null = null;
   if (parent) {
     report('movement', 0, 1, `Comparing with run ${parent.runId}`);
     movement = movementAgainstParent(parent, table, labels, segments, profiles.map((p) => p.share), retired);
@@ -128,8 +128,13 @@ export async function runSegmentation(db: Database, input: RunSettings, options:
 
   throwIfAborted(signal);
   report('store', 0, table.customerIds.length, 'Storing the run');
+  const stored: StoredRunSettings = {
+    ...settings,
+    source: table.source,
+    features: features.map((feature) => transformSpecOf(feature, transforms[feature])),
+  };
   const runId = persistRun(db, {
-    settings,
+    settings: stored,
     features,
     transforms,
     table,
@@ -174,14 +179,16 @@ export async function runSegmentation(db: Database, input: RunSettings, options:
   };
 }
 
-function buildFeatureTable(db: Database, settings: ResolvedRunSettings, signal: AbortSignal | undefined): FeatureTable {
+type RunningSettings = ExplicitRunSettings & { parentRunId: number | null };
+
+function buildFeatureTable(db: Database, settings: RunningSettings, signal: AbortSignal | undefined): FeatureTable {
   if (settings.source === 'imported') return loadImportedFeatures(db, settings);
   checkAsOfInData(db, featureWindow(settings.asOf, settings.windowMonths));
   return computeReceiptFeatures(db, { ...settings, signal });
 }
 
-/** The model's features: the parent's for a rescore, the chosen ones, or the defaults. */
-function modelFeatures(settings: ResolvedRunSettings, table: FeatureTable, parent: ParentRun | null): string[] {
+/** The model's features: the parent's for a rescore, else the chosen ones. */
+function modelFeatures(settings: RunningSettings, table: FeatureTable, parent: ParentRun | null): string[] {
   if (parent) {
     const missing = parent.features.filter((name) => !table.names.includes(name));
     if (missing.length > 0) {
@@ -191,14 +198,7 @@ function modelFeatures(settings: ResolvedRunSettings, table: FeatureTable, paren
       );
     }
   }
-  const chosen =
-    settings.mode === 'rescore'
-      ? parent!.features
-      : settings.features.length > 0
-        ? settings.features
-        : table.source === 'receipts'
-          ? [...defaultModelFeatures]
-          : table.names;
+  const chosen = settings.mode === 'rescore' ? parent!.features : settings.features.map((spec) => spec.feature);
   const unknown = chosen.filter((name) => !table.names.includes(name));
   if (unknown.length > 0) {
     throw new InputError(`Unknown feature${unknown.length > 1 ? 's' : ''} ${unknown.join(', ')}; available: ${table.names.join(', ')}.`);
@@ -207,7 +207,7 @@ function modelFeatures(settings: ResolvedRunSettings, table: FeatureTable, paren
 }
 
 function fittedTransforms(
-  settings: ResolvedRunSettings,
+  settings: RunningSettings,
   features: readonly string[],
   columns: readonly Float64Array[],
   placedRows: readonly number[],
@@ -216,7 +216,7 @@ function fittedTransforms(
   if (settings.mode === 'rescore') return Object.fromEntries(features.map((name) => [name, parent!.transforms[name]]));
   const transforms: Record<string, FeatureTransform> = {};
   features.forEach((name, j) => {
-    const spec = settings.transforms[name] ?? defaultTransform(name, settings.source);
+    const { feature: _, ...spec } = settings.features.find((chosen) => chosen.feature === name)!;
     transforms[name] = fitTransform(name, spec, Float64Array.from(placedRows, (row) => columns[j][row]));
   });
   return transforms;
@@ -253,7 +253,7 @@ function meanSpendPerSegment(table: FeatureTable, labels: Int32Array, k: number)
 /** Keys and names: the parent's for a rescore, carried by matching in a refit, spend order otherwise. */
 function nameSegments(
   db: Database,
-  settings: ResolvedRunSettings,
+  settings: RunningSettings,
   parent: ParentRun | null,
   model: MixtureModel,
   transforms: Record<string, FeatureTransform>,
@@ -338,7 +338,7 @@ function movementAgainstParent(
   segments: readonly NamedSegment[],
   shares: readonly number[],
   retired: { key: string; name: string }[],
-): Movement {
+): StoredMovement {
   const current = new Map<string, number>();
   table.customerIds.forEach((customerId, i) => current.set(customerId, labels[i]));
   const counted = countMovement(parent.segmentOf, current, parent.model.components, segments.length);

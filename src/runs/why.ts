@@ -13,9 +13,8 @@
  * Positive terms pull towards a, negative towards b.
  */
 import { featureLabel } from '../features/definitions.js';
-import { choleskyLower } from '../model/linalg.js';
-import type { MixtureModel } from '../model/types.js';
-import type { BorderlineWhy, WhyTerm } from './types.js';
+import { marginalLogDensity, type MixtureModel } from '../model/index.js';
+import type { BorderlineWhy, WhyTerm } from '../api/contract.js';
 
 /** Terms smaller than this (in log-odds) are not worth a word unless nothing else pulls. */
 const NEGLIGIBLE_TERM = 0.05;
@@ -86,43 +85,9 @@ function shapleyTerms(model: MixtureModel, x: ArrayLike<number>, a: number, b: n
   });
 }
 
-/** The exact per-feature term of the log-odds for diagonal covariances. */
+/** The exact per-feature term of the log-odds for diagonal covariances: log N_a(x_j) − log N_b(x_j). */
 function diagonalTerm(model: MixtureModel, x: ArrayLike<number>, a: number, b: number, j: number): number {
-  const d = model.dimensions;
-  const varianceA = model.covariances[(a * d + j) * d + j];
-  const varianceB = model.covariances[(b * d + j) * d + j];
-  const deltaA = x[j] - model.means[a * d + j];
-  const deltaB = x[j] - model.means[b * d + j];
-  return -0.5 * (Math.log(varianceA) - Math.log(varianceB) + (deltaA * deltaA) / varianceA - (deltaB * deltaB) / varianceB);
-}
-
-/**
- * log N(x_S; μ_S, Σ_SS) of one component on the features S (0 when S is empty), through the
- * Cholesky factor of the sub-covariance. The ½ ln 2π terms cancel in differences but are kept so
- * the value is a true log density.
- */
-function marginalLogDensity(model: MixtureModel, component: number, x: ArrayLike<number>, indices: readonly number[]): number {
-  const m = indices.length;
-  if (m === 0) return 0;
-  const d = model.dimensions;
-  const sub = new Float64Array(m * m);
-  for (let r = 0; r < m; r++) {
-    for (let c = 0; c < m; c++) sub[r * m + c] = model.covariances[(component * d + indices[r]) * d + indices[c]];
-  }
-  const lower = choleskyLower(sub, 0, m);
-  if (!lower) return -Infinity;
-  // Solve L z = x_S − μ_S; log density = −½|z|² − Σ ln L_rr − (m/2) ln 2π.
-  const z = new Float64Array(m);
-  let squared = 0;
-  let logDeterminantHalf = 0;
-  for (let r = 0; r < m; r++) {
-    let value = x[indices[r]] - model.means[component * d + indices[r]];
-    for (let c = 0; c < r; c++) value -= lower[r * m + c] * z[c];
-    z[r] = value / lower[r * m + r];
-    squared += z[r] * z[r];
-    logDeterminantHalf += Math.log(lower[r * m + r]);
-  }
-  return -0.5 * squared - logDeterminantHalf - 0.5 * m * Math.log(2 * Math.PI);
+  return marginalLogDensity(model, a, x, [j]) - marginalLogDensity(model, b, x, [j]);
 }
 
 /**

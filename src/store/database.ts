@@ -1,6 +1,8 @@
 import BetterSqlite3, { type Database } from 'better-sqlite3';
-import { existsSync, statSync } from 'node:fs';
-import { InputError } from '../errors.js';
+import { accessSync, constants, existsSync, statSync } from 'node:fs';
+import { basename, dirname, resolve } from 'node:path';
+import { InputError, environmentError } from '../errors.js';
+import { requireHealthyDatabase } from './health.js';
 import { CURRENT_SCHEMA_VERSION, migrations, type Migration } from './migrations.js';
 
 export type { Database } from 'better-sqlite3';
@@ -19,7 +21,8 @@ export interface OpenDatabaseOptions {
 /**
  * Opens (creating if needed) a Spendmix database: WAL journal, foreign keys on, schema migrated
  * forward. Before migrating a database that already holds data, a copy is written to
- * `<path>.backup-v<old version>`. A database written by a newer Spendmix is refused.
+ * `<path>.backup-v<old version>`. A database written by a newer Spendmix is refused, and so is
+ * a damaged one (health.ts) and, for work, one this user cannot write (with its -wal/-shm files).
  */
 export function openDatabase(path: string, options: OpenDatabaseOptions = {}): Database {
   const list = options.migrationList ?? migrations;
@@ -31,6 +34,7 @@ export function openDatabase(path: string, options: OpenDatabaseOptions = {}): D
   if (!options.readonly && existsSync(path) && statSync(path).isDirectory()) {
     throw new InputError(`${path} is a folder, not a database file.`);
   }
+  if (!options.readonly) requireWritable(path);
   let db: Database;
   try {
     db = new BetterSqlite3(path, { readonly: options.readonly ?? false, fileMustExist: options.readonly ?? false });
@@ -39,7 +43,9 @@ export function openDatabase(path: string, options: OpenDatabaseOptions = {}): D
   }
   try {
     db.pragma(`busy_timeout = ${Math.max(0, Math.floor(options.busyTimeoutMs ?? 2000))}`);
+    // Read first: SQLite rolls back a hot journal left by a killed writer before the file is checked.
     const version = schemaVersion(db);
+    requireHealthyDatabase(db, path);
     if (version > list.length) {
       throw new InputError(
         `Database ${path} has schema version ${version}, but this Spendmix knows versions up to ${list.length}. ` +
@@ -107,20 +113,61 @@ function checkMigrationList(list: readonly Migration[]): void {
   });
 }
 
-/** Turns SQLite's file-level failures into messages a user can act on. */
+/** Turns SQLite's file-level failures (locked, read-only, full, damaged) into messages a user can act on. */
 export function asDatabaseInputError(path: string, error: unknown): unknown {
-  if (error instanceof InputError || !(error instanceof Error)) return error;
-  const code = (error as { code?: string }).code ?? '';
-  if (code.startsWith('SQLITE_BUSY') || code.startsWith('SQLITE_LOCKED')) {
-    return new InputError(`Database ${path} is locked by another program or Spendmix window; close it and try again.`);
+  return environmentError(error, `Database ${path}`) ?? error;
+}
+
+/** The error of writing to `path` as this user, or null when it may be written. */
+function writeDenied(path: string): NodeJS.ErrnoException | null {
+  try {
+    accessSync(path, constants.W_OK);
+    return null;
+  } catch (error) {
+    return error as NodeJS.ErrnoException;
   }
-  if (code.startsWith('SQLITE_READONLY') || code === 'SQLITE_CANTOPEN' || code.startsWith('SQLITE_CANTOPEN') || code === 'SQLITE_PERM') {
-    return new InputError(`Database ${path} cannot be written (read-only file or folder, or no permission): ${error.message}`);
+}
+
+/**
+ * Before a database is opened for work: the file, the -wal/-shm files SQLite keeps beside it, and
+ * the folder (where SQLite creates its journal files) must be writable by this user. Checked
+ * first so that a refresh is refused at the start, not after the whole fit, and so that the
+ * message names the file in the way: read-only -wal/-shm files left by another user or program
+ * keep blocking after the database itself has been made writable.
+ */
+function requireWritable(path: string): void {
+  if (path === '' || path === ':memory:') return;
+  const file = resolve(path);
+  const folder = dirname(file);
+  const companions = ['-wal', '-shm'].map((suffix) => `${file}${suffix}`).filter((companion) => existsSync(companion));
+  const blocked = companions.map((companion) => ({ companion, error: writeDenied(companion) })).filter((entry) => entry.error !== null);
+  const blockedNames = blocked.map((entry) => basename(entry.companion)).join(' and ');
+  const fileError = existsSync(file) ? writeDenied(file) : null;
+  if (fileError) {
+    throw new InputError(
+      `Database ${file} cannot be written by this user (${fileError.message}). ` +
+        'Make it writable by this user (ls -l shows its owner and permissions), or work on a copy of your own.' +
+        (blocked.length > 0 ? ` Its ${blockedNames} beside it must be writable too.` : ''),
+      { code: fileError.code },
+    );
   }
-  if (code === 'SQLITE_NOTADB' || code === 'SQLITE_CORRUPT') {
-    return new InputError(`${path} is not a usable SQLite database: ${error.message}`);
+  if (blocked.length > 0) {
+    const { code, message } = blocked[0].error!;
+    throw new InputError(
+      `Database ${file} is writable, but ${blockedNames} beside it ${blocked.length > 1 ? 'are' : 'is'} not (${message}). ` +
+        'SQLite writes these files (left by an earlier session of another user or program) to open the database, so they block it. ' +
+        'Make them writable by this user (chown or chmod; ls -l shows who owns them) and try again; do not delete the -wal file, it may hold the last saved changes.',
+      { code },
+    );
   }
-  return error;
+  const folderError = writeDenied(folder);
+  if (folderError) {
+    throw new InputError(
+      `Folder ${folder} cannot be written by this user (${folderError.message}); SQLite keeps the database's journal files beside it, and imports write their reports there. ` +
+        'Choose a folder this user may write to, or make this one writable.',
+      { code: folderError.code },
+    );
+  }
 }
 
 export { CURRENT_SCHEMA_VERSION };

@@ -1,6 +1,8 @@
 import type { Database } from 'better-sqlite3';
+import type { ImportKind } from '../api/contract.js';
 
-export type ImportKind = 'receipts' | 'visits' | 'customers' | 'features';
+export type { ImportKind };
+/** The kinds the importer takes (the contract's `importKinds`; a test checks they agree). */
 export const IMPORT_KINDS: readonly ImportKind[] = ['receipts', 'visits', 'customers', 'features'];
 
 /** One row of the `imports` table, in API naming. */

@@ -1,49 +1,43 @@
-import { createHash } from 'node:crypto';
-import { existsSync, renameSync, writeFileSync } from 'node:fs';
 import { createRequire } from 'node:module';
-import { tmpdir } from 'node:os';
-import { join } from 'node:path';
-import { fileURLToPath, pathToFileURL } from 'node:url';
+import { fileURLToPath } from 'node:url';
 import { Worker, type WorkerOptions } from 'node:worker_threads';
 
-/** Bundled worker files of this process, by module URL. */
-const bundles = new Map<string, string | null>();
+/** Bundled worker modules of this process, as data: URLs, by module URL (null: bundling failed). */
+const bundles = new Map<string, URL | null>();
+
+/** esbuild's options for one worker module bundled into a single ES module, kept in memory. */
+export function workerBundleOptions(modulePath: string) {
+  return { entryPoints: [modulePath], bundle: true, platform: 'node' as const, format: 'esm' as const, target: 'node20', write: false as const, logLevel: 'silent' as const };
+}
 
 /**
- * From source, one JavaScript file holding the worker module and everything it imports, built
- * with esbuild and kept in the temp folder under its content hash (so it is written once per
- * version of the code). Starting a worker on it takes a fraction of the time of registering
- * tsx's loader in every worker and compiling each module there. Null if bundling fails.
+ * From source, the worker module and everything it imports as one ES module built in memory with
+ * esbuild and handed to the Worker as a data: URL. Starting a worker on it takes a fraction of
+ * the time of registering tsx's loader in every worker and compiling each module there. Nothing
+ * is written to disk: a bundle kept in a shared folder (the temp folder) could be replaced by
+ * another local user and would then run as whoever starts the worker. Null if bundling fails.
  */
-function bundledWorker(moduleUrl: URL): string | null {
+function bundledWorker(moduleUrl: URL): URL | null {
   const known = bundles.get(moduleUrl.href);
   if (known !== undefined) return known;
-  let path: string | null = null;
+  let bundle: URL | null = null;
   try {
+    const modulePath = fileURLToPath(moduleUrl);
     const esbuild = createRequire(import.meta.url)('esbuild') as typeof import('esbuild');
     const output = esbuild.buildSync({
-      entryPoints: [fileURLToPath(moduleUrl)],
-      bundle: true,
-      platform: 'node',
-      format: 'esm',
-      target: 'node20',
-      write: false,
-      logLevel: 'silent',
-      banner: { js: "import { createRequire as __spendmixRequire } from 'node:module'; const require = __spendmixRequire(import.meta.url);" },
+      ...workerBundleOptions(modulePath),
+      // CommonJS dependencies bundled into an ES module still call require() for Node's built-ins;
+      // a data: URL has no file to resolve from, so require resolves from the module's own path.
+      banner: {
+        js: `import { createRequire as __spendmixRequire } from 'node:module'; const require = __spendmixRequire(${JSON.stringify(modulePath)});`,
+      },
     });
-    const code = output.outputFiles[0].contents;
-    const hash = createHash('sha256').update(code).digest('hex').slice(0, 16);
-    path = join(tmpdir(), `spendmix-worker-${hash}.mjs`);
-    if (!existsSync(path)) {
-      const partial = `${path}.${process.pid}.tmp`;
-      writeFileSync(partial, code);
-      renameSync(partial, path); // atomic: a concurrent process never sees half a file
-    }
+    bundle = new URL(`data:text/javascript;base64,${Buffer.from(output.outputFiles[0].contents).toString('base64')}`);
   } catch {
-    path = null;
+    bundle = null;
   }
-  bundles.set(moduleUrl.href, path);
-  return path;
+  bundles.set(moduleUrl.href, bundle);
+  return bundle;
 }
 
 export interface StartWorkerOptions {
@@ -56,10 +50,11 @@ export interface StartWorkerOptions {
 
 /**
  * Starts a worker thread on a module given by URL, from source or from compiled JavaScript.
- * Compiled builds (.js, as in the Electron app) start the file directly. Node 20 cannot load a
- * .ts module in a Worker by itself, so from source (tsx, vitest) the worker runs an esbuild bundle
- * of the module when `bundle` is set and bundling works, or else a tiny bootstrap that registers
- * tsx's ESM loader and then imports the .ts module.
+ * Compiled builds (.js, as in the Electron app) start the file inside the package directly.
+ * Node 20 cannot load a .ts module in a Worker by itself, so from source (tsx, vitest) the worker
+ * runs an in-memory esbuild bundle of the module when `bundle` is set and bundling works, or else
+ * a tiny bootstrap that registers tsx's ESM loader (its compile cache checked private first, see
+ * src/cli/register-tsx.mjs) and then imports the .ts module from the package.
  */
 export function startWorker(
   moduleUrl: URL,
@@ -68,12 +63,11 @@ export function startWorker(
 ): Worker {
   if (!moduleUrl.pathname.endsWith('.ts')) return new Worker(moduleUrl, options);
   const bundled = bundle ? bundledWorker(moduleUrl) : null;
-  if (bundled) return new Worker(pathToFileURL(bundled), options);
-  // The package's ESM entry of tsx/esm/api sits beside the CommonJS one that require resolves.
-  const tsxApi = pathToFileURL(createRequire(import.meta.url).resolve('tsx/esm/api').replace(/\.cjs$/, '.mjs')).href;
+  if (bundled) return new Worker(bundled, options);
+  const registerTsx = new URL('../cli/register-tsx.mjs', import.meta.url).href;
   const bootstrap =
-    `import(${JSON.stringify(tsxApi)})` +
-    `.then((api) => { api.register(); return import(${JSON.stringify(moduleUrl.href)}); })` +
+    `import(${JSON.stringify(registerTsx)})` +
+    `.then(() => import(${JSON.stringify(moduleUrl.href)}))` +
     `.catch((error) => { process.nextTick(() => { throw error; }); });`;
   return new Worker(bootstrap, { ...options, eval: true });
 }

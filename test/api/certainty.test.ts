@@ -1,24 +1,23 @@
 import { uniformFloat64 } from 'pure-rand/distribution/uniformFloat64';
 import { xoroshiro128plus } from 'pure-rand/generator/xoroshiro128plus';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import type { ApiOutput, StartRunInput } from '../../src/api/contract.js';
+import { callApi } from '../../src/api/handlers.js';
+import { ApiSession } from '../../src/api/session.js';
+import { isInputError } from '../../src/errors.js';
+import { computeFlags } from '../../src/runs/flags.js';
 import {
   atypicalCount,
   borderlineCount,
   buildCertaintySummary,
+  certaintySummary as certaintyView,
   confidenceHistogram,
   hasCachedCertaintySummary,
   runCertaintySummary,
-} from '../../src/api/certainty-summary.js';
-import type { ApiOutput } from '../../src/api/contract.js';
-import { callApi } from '../../src/api/handlers.js';
-import { certaintyView } from '../../src/api/run-views.js';
-import { ApiSession } from '../../src/api/session.js';
-import { isInputError } from '../../src/errors.js';
-import { computeFlags } from '../../src/runs/flags.js';
-import { decideReview, getReviewQueue, listSegments, renameSegment } from '../../src/runs/repository.js';
-import { runSegmentation } from '../../src/runs/run.js';
-import type { RunSettings } from '../../src/runs/types.js';
+} from '../../src/runs/read/certainty.js';
+import { listSegments } from '../../src/runs/read/segments.js';
 import { openDatabase } from '../../src/store/database.js';
+import { borderline, decide, rename, reviewQueue, runMonth } from '../support/core-calls.js';
 import { demoDatabase, type DemoDatabase } from '../runs/demo-database.js';
 import { certaintyByRule, readColumnsByRule, type CertaintyColumnsByRule } from './certainty-reference.js';
 
@@ -59,11 +58,11 @@ function anyThreshold(own: Float64Array): number {
 let demo: DemoDatabase;
 let runId: number;
 let columns: CertaintyColumnsByRule;
-const base: RunSettings = { asOf: '2026-11-30', windowMonths: 12, mode: 'refit', k: 4, covariance: 'full', restarts: 1, parentRunId: null, seed: 7 };
+const base: StartRunInput = { asOf: '2026-11-30', windowMonths: 12, mode: 'refit', k: 4, covariance: 'full', restarts: 1, parentRunId: null, seed: 7 };
 
 beforeAll(async () => {
   demo = await demoDatabase('sample', { via: 'importer' });
-  runId = (await runSegmentation(demo.db, base)).runId;
+  runId = (await runMonth(demo.db, base)).runId;
   columns = readColumnsByRule(demo.db, runId);
 });
 afterAll(() => demo?.close());
@@ -105,6 +104,23 @@ describe('Certainty counts from the cached summary', () => {
       expect(certaintyView(demo.db, input)).toEqual(certaintyByRule(runId, columns, input));
     }
     expect(offGrid).toBeGreaterThan(1000);
+  });
+
+  it('give the borderline table its total: the same number, and exactly the customers the table lists', () => {
+    for (let trial = 0; trial < 25; trial++) {
+      const thresholds = { borderlineConfidence: anyThreshold(columns.confidence), borderlineMargin: anyThreshold(columns.margin) };
+      const counts = certaintyView(demo.db, { runId, ...thresholds, atypicalPercentile: 1, bins: 20 });
+      const listed: string[] = [];
+      for (let offset = 0; ; offset += 1000) {
+        const page = borderline(demo.db, { runId, ...thresholds, offset, limit: 1000 });
+        expect(page.total).toBe(counts.borderline);
+        listed.push(...page.rows.map((row) => row.customerId));
+        if (page.rows.length < 1000) break;
+      }
+      expect(new Set(listed).size).toBe(counts.borderline);
+    }
+    // Without thresholds the table lists by the run's own, as the stored flags do.
+    expect(borderline(demo.db, { runId, limit: 1 }).total).toBe(certaintyView(demo.db, { runId, borderlineConfidence: 0.7, borderlineMargin: 0.2, atypicalPercentile: 1, bins: 20 }).borderline);
   });
 
   it('equal the flag rule through the handler map, on a session of its own', async () => {
@@ -166,21 +182,21 @@ describe('the summary cache', () => {
     } finally {
       other.close();
     }
-    const queue = getReviewQueue(demo.db, runId, { limit: 5 }).items;
+    const queue = reviewQueue(demo.db, { runId, limit: 5 }).rows;
     expect(queue.length).toBeGreaterThan(1);
-    decideReview(demo.db, { runId, customerId: queue[0].customerId, action: 'exclude' });
-    decideReview(demo.db, { runId, customerId: queue[1].customerId, action: 'move', segment: listSegments(demo.db, runId)[0].index });
-    renameSegment(demo.db, runId, listSegments(demo.db, runId)[0].index, 'Weekly big baskets');
+    decide(demo.db, { runId, customerId: queue[0].customerId, action: 'exclude' });
+    decide(demo.db, { runId, customerId: queue[1].customerId, action: 'move', segment: listSegments(demo.db, runId).segments[0].segment });
+    rename(demo.db, { runId, segment: listSegments(demo.db, runId).segments[0].segment, name: 'Weekly big baskets' });
     const reread = readColumnsByRule(demo.db, runId);
     expect(certaintyView(demo.db, { runId, ...rule })).toEqual(certaintyByRule(runId, reread, rule));
   });
 
   it('notices a run id freed by a deleted run and taken by a different run', async () => {
     const first = certaintyView(demo.db, { runId, ...rule });
-    const scratch = (await runSegmentation(demo.db, { ...base, k: 2, covariance: 'spherical' })).runId;
+    const scratch = (await runMonth(demo.db, { ...base, k: 2, covariance: 'spherical' })).runId;
     const before = certaintyView(demo.db, { runId: scratch, ...rule });
     demo.db.prepare('DELETE FROM runs WHERE run_id = ?').run(scratch);
-    const replacement = (await runSegmentation(demo.db, { ...base, k: 5, covariance: 'diag', seed: 11, borderlineConfidence: 0.9 })).runId;
+    const replacement = (await runMonth(demo.db, { ...base, k: 5, covariance: 'diag', seed: 11, borderlineConfidence: 0.9 })).runId;
     expect(replacement).toBe(scratch);
     const after = certaintyView(demo.db, { runId: replacement, ...rule });
     expect(after).toEqual(certaintyByRule(replacement, readColumnsByRule(demo.db, replacement), rule));
@@ -191,7 +207,7 @@ describe('the summary cache', () => {
 
   it('keeps a few runs and rebuilds the ones it let go, with the same answers', async () => {
     const runs = [runId];
-    for (const seed of [21, 22, 23]) runs.push((await runSegmentation(demo.db, { ...base, seed })).runId);
+    for (const seed of [21, 22, 23]) runs.push((await runMonth(demo.db, { ...base, seed })).runId);
     const answers = runs.map((id) => certaintyView(demo.db, { runId: id, ...rule }));
     expect(hasCachedCertaintySummary(demo.db, runs[0])).toBe(false);
     expect(runs.slice(1).every((id) => hasCachedCertaintySummary(demo.db, id))).toBe(true);

@@ -1,13 +1,34 @@
-import { readFileSync } from 'node:fs';
+import { readdirSync, readFileSync } from 'node:fs';
 import ts from 'typescript';
 import { describe, expect, it } from 'vitest';
-import { apiSchemas, longTaskMethods, startRunInput } from '../../src/api/contract.js';
+import {
+  apiSchemas,
+  covarianceTypes,
+  csvDialects,
+  exportFormats,
+  explicitRunSettings,
+  importEncodings,
+  importKinds,
+  initMethods,
+  longTaskMethods,
+  startRunInput,
+} from '../../src/api/contract.js';
+import { csvDialects as csvWriterDialects } from '../../src/export/csv-writer.js';
+import { exportFormats as exportWriterFormats } from '../../src/export/export-run.js';
+import { ENCODING_CHOICES } from '../../src/ingest/file-probe.js';
+import { covarianceTypes as engineCovarianceTypes, initMethods as engineInitMethods } from '../../src/model/types.js';
+import { IMPORT_KINDS } from '../../src/store/imports-repo.js';
 
 describe('the API contract', () => {
-  it('imports nothing but zod, so the renderer can take its types without Node modules', () => {
-    const source = readFileSync(new URL('../../src/api/contract.ts', import.meta.url), 'utf8');
-    const imports = ts.preProcessFile(source, true, true).importedFiles.map((file) => file.fileName);
-    expect(imports).toEqual(['zod']);
+  it('imports nothing but zod and its own parts, so the renderer can take its types without Node modules', () => {
+    const folder = new URL('../../src/api/contract/', import.meta.url);
+    const files = ['../contract.ts', ...readdirSync(folder)];
+    expect(files.length).toBeGreaterThan(5);
+    for (const file of files) {
+      const source = readFileSync(new URL(file, folder), 'utf8');
+      const imports = ts.preProcessFile(source, true, true).importedFiles.map((imported) => imported.fileName);
+      for (const imported of imports) expect(imported === 'zod' || /^\.\/(contract\/)?[a-z-]+\.js$/.test(imported), `${file} imports ${imported}`).toBe(true);
+    }
   });
 
   it('fills the documented defaults of a run (DESIGN.md §4–§5) and refuses a reversed k range', () => {
@@ -25,6 +46,11 @@ describe('the API contract', () => {
       atypicalPercentile: 1,
       minPurchases: 2,
       minTenureMonths: 2,
+      tol: 1e-3,
+      maxIterations: 200,
+      regularization: 1e-6,
+      init: 'mixed',
+      reviewMoversBelowConfidence: null,
     });
     const reversed = startRunInput.safeParse({ asOf: '2026-11-30', kMin: 6, kMax: 3 });
     expect(reversed.success).toBe(false);
@@ -38,5 +64,31 @@ describe('the API contract', () => {
       expect(result.error?.issues.some((issue) => issue.code === 'unrecognized_keys'), method).toBe(true);
     }
     expect(longTaskMethods.every((method) => method in apiSchemas)).toBe(true);
+  });
+
+  it('makes the data-dependent choices explicit: source, default features and each feature\'s transform', () => {
+    const settings = startRunInput.parse({ asOf: '2026-11-30', features: [{ feature: 'spend_per_month' }, { feature: 'fresh_share', clipUpperPercentile: 99 }] });
+    const data = (hasReceipts: boolean) => ({ hasReceipts: () => hasReceipts, importedFeatureNames: () => ['loyalty_points', 'tenure'] });
+    expect(explicitRunSettings(settings, data(true)).features).toEqual([
+      { feature: 'spend_per_month', log1p: true, clipLowerPercentile: null, clipUpperPercentile: null, zScore: true },
+      { feature: 'fresh_share', log1p: false, clipLowerPercentile: null, clipUpperPercentile: 99, zScore: true },
+    ]);
+    const defaults = startRunInput.parse({ asOf: '2026-11-30' });
+    expect(explicitRunSettings(defaults, data(true))).toMatchObject({ source: 'receipts', features: [{ feature: 'spend_per_month' }, { feature: 'visits_per_month' }, { feature: 'average_basket' }] });
+    const imported = explicitRunSettings(defaults, data(false));
+    expect(imported.source).toBe('imported');
+    expect(imported.features.map((spec) => [spec.feature, spec.log1p, spec.zScore])).toEqual([
+      ['loyalty_points', false, true],
+      ['tenure', false, true],
+    ]);
+  });
+
+  it('lists the same choices as the parts of the core that check their own arguments', () => {
+    expect([...covarianceTypes]).toEqual([...engineCovarianceTypes]);
+    expect([...initMethods]).toEqual([...engineInitMethods]);
+    expect([...importKinds]).toEqual([...IMPORT_KINDS]);
+    expect([...exportFormats]).toEqual([...exportWriterFormats]);
+    expect([...csvDialects]).toEqual([...csvWriterDialects]);
+    expect([...importEncodings]).toEqual([...ENCODING_CHOICES]);
   });
 });

@@ -21,14 +21,14 @@ describe('spendmix serve: bad input', () => {
   it('needs --db, and says so with exit code 2', async () => {
     const io = capture();
     expect(await runCli(['serve', '--json'], io)).toBe(2);
-    expect(io.err).toMatch(/serve needs --db FILE/);
+    expect(io.err).toMatch(/the database to work on \(db, --db\) is required/);
     expect(io.out).toBe('');
   });
 
   it('refuses a port outside 0–65535 and a port already in use, with exit code 2', async () => {
     const io = capture();
     expect(await runCli(['serve', '--db', db, '--port', '70000'], io)).toBe(2);
-    expect(io.err).toMatch(/--port must be a whole number from 0 to 65535/);
+    expect(io.err).toMatch(/port on 127\.0\.0\.1 \(port, --port\) must be at most 65535 \(got 70000\)/);
 
     const blocker = createServer();
     await new Promise<void>((resolve) => blocker.listen(0, '127.0.0.1', resolve));

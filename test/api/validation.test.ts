@@ -41,17 +41,20 @@ const malformed: Record<ApiMethod, { input: unknown; field: string }> = {
   renameSegment: { input: { runId: 1, segment: 0, name: '   ' }, field: 'name' },
   movement: { input: { runId: 1.5 }, field: 'runId' },
   exportRun: { input: { runId: 1, out: 'x.xlsx', minConfidence: 2 }, field: 'minConfidence' },
-  loadDemo: { input: { customers: 3 }, field: 'customers' },
+  loadDemo: { input: { customers: 0 }, field: 'customers' },
+  featuresSql: { input: { asOf: '2026-11-30', windowMonths: 61 }, field: 'windowMonths' },
+  modelSql: { input: { runId: 1, dialect: 'oracle' }, field: 'dialect' },
   cancelTask: { input: { taskId: '' }, field: 'taskId' },
   taskStatus: { input: {}, field: 'taskId' },
 };
 
-function expectFieldError(outcome: CallOutcome, method: string, field: string): void {
+function expectFieldError(outcome: CallOutcome, method: string, field: string, input: unknown): void {
   expect(outcome.ok, `${method} accepted malformed input`).toBe(false);
   if (outcome.ok) return;
   expect(outcome.error.kind).toBe('input');
   expect(outcome.error.message).toContain(`${method}: invalid input`);
-  expect(outcome.error.message).toContain(field);
+  // A field of the input is named by its path; an unknown field of the whole input by its own name.
+  expect(outcome.error.message).toContain(field === '(input)' ? `unknown field "${Object.keys(input as object)[0]}"` : field);
   expect(outcome.error.issues?.map((issue) => issue.path)).toContain(field);
 }
 
@@ -94,15 +97,15 @@ describe('every handler rejects malformed input with a clear error naming the fi
 
   for (const [method, { input, field }] of Object.entries(malformed)) {
     it(`${method}: in process, over IPC and over HTTP`, async () => {
-      expectFieldError(await callApiOutcome(session, method, input), method, field);
-      expectFieldError(await ipcCall(method, input), method, field);
+      expectFieldError(await callApiOutcome(session, method, input), method, field, input);
+      expectFieldError(await ipcCall(method, input), method, field, input);
       const response = await fetch(`http://127.0.0.1:${host.port}/api/${method}`, {
         method: 'POST',
         headers: { 'content-type': 'application/json', 'x-spendmix-token': host.token },
         body: JSON.stringify(input),
       });
       expect(response.status).toBe(400);
-      expectFieldError((await response.json()) as CallOutcome, method, field);
+      expectFieldError((await response.json()) as CallOutcome, method, field, input);
     });
   }
 
@@ -122,7 +125,8 @@ describe('every handler rejects malformed input with a clear error naming the fi
 
   it('reports a missing file or run as bad input, not as an internal failure', async () => {
     const missingFile = await callApiOutcome(session, 'importFile', { path: join(folder, 'nowhere.csv'), kind: 'receipts' });
-    expect(missingFile.ok === false && missingFile.error).toMatchObject({ kind: 'input', message: expect.stringMatching(/does not exist/) });
+    // The browser shell reads only files uploaded into its session (file-policy.ts).
+    expect(missingFile.ok === false && missingFile.error).toMatchObject({ kind: 'input', message: expect.stringMatching(/was not uploaded in this session/) });
     const missingRun = await callApiOutcome(session, 'segments', { runId: 99 });
     expect(missingRun.ok === false && missingRun.error.kind).toBe('input');
     const missingTask = await callApiOutcome(session, 'taskStatus', { taskId: 'no-such-task' });

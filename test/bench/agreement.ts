@@ -14,7 +14,7 @@ import { join } from 'node:path';
 import { uniformFloat64 } from 'pure-rand/distribution/uniformFloat64';
 import { uniformInt } from 'pure-rand/distribution/uniformInt';
 import { xoroshiro128plus } from 'pure-rand/generator/xoroshiro128plus';
-import { adjustedRandIndex } from '../../src/model/agreement.js';
+import { adjustedRandIndex } from '../../src/model/index.js';
 
 const n = Number(process.argv[2] ?? 1_000_000);
 const rng = xoroshiro128plus(42);

@@ -6,7 +6,9 @@
  * is the view as it is: the first call builds the summary, later calls read it. Each size's
  * answers are compared for equality. Figures are ratios against the "before" run of the same size
  * in this command, with absolute times beside them. databaseInfo's counts are timed the old way
- * (count(*) per table) and the new way beside them.
+ * (count(*) per table) and the new way beside them. The borderline table's first page (its total
+ * from the same summary as the counts, then 100 rows by spend at stake) is timed under the same
+ * slider positions, and its total checked against the counts.
  *   npx tsx test/bench/certainty-scale.ts [--small 10000] [--large 1000000] [--calls 20] [--keep]
  *     [--receipts-db FILE]  also time databaseInfo's counts on a big receipts database (read only)
  */
@@ -17,8 +19,11 @@ import { join } from 'node:path';
 import Sqlite from 'better-sqlite3';
 import { uniformFloat64 } from 'pure-rand/distribution/uniformFloat64';
 import { xoroshiro128plus } from 'pure-rand/generator/xoroshiro128plus';
-import { databaseCounts } from '../../src/api/database-counts.js';
-import { certaintyView } from '../../src/api/run-views.js';
+import { startRunInput } from '../../src/api/contract.js';
+import { runSettingsFor } from '../../src/api/long-tasks.js';
+import { borderlinePage } from '../../src/runs/read/borderline.js';
+import { certaintySummary as certaintyView } from '../../src/runs/read/certainty.js';
+import { databaseCounts } from '../../src/store/database-counts.js';
 import { dataRange } from '../../src/features/compute.js';
 import { importFile } from '../../src/ingest/import-file.js';
 import { runSegmentation } from '../../src/runs/run.js';
@@ -89,7 +94,8 @@ async function storedRun(customers: number): Promise<{ db: Database; runId: numb
   await writeLines(csv, 'customer_id,joined,marketing_consent,home_store', customers, (i) => `${customerId(i)},2024-0${1 + (i % 9)}-15,${i % 4 ? 'yes' : 'no'},S0${i % 8}`);
   await importFile(db, { path: csv, kind: 'customers', options: { reportDir: folder } });
   rmSync(csv, { force: true });
-  const run = await runSegmentation(db, { asOf: '2026-11-30', windowMonths: 12, mode: 'refit', parentRunId: null, k: 4, covariance: 'diag', restarts: 1, seed: 1, maxIterations: 40 });
+  const settings = startRunInput.parse({ asOf: '2026-11-30', windowMonths: 12, mode: 'refit', parentRunId: null, k: 4, covariance: 'diag', restarts: 1, seed: 1, maxIterations: 40 });
+  const run = await runSegmentation(db, runSettingsFor(db, settings));
   console.log(`${customers} customers: built in ${((performance.now() - started) / 1000).toFixed(1)} s (run ${run.runId}, ${run.customers} placed)`);
   return { db, runId: run.runId };
 }
@@ -119,6 +125,9 @@ interface SizeFigures {
   afterFirst: number;
   afterRepeat: number;
   afterOffGrid: number;
+  /** The borderline table's first page (total and 100 rows) under each slider position: first call and median of the later ones. */
+  tableFirst: number;
+  tableRepeat: number;
 }
 
 async function measure(customers: number): Promise<SizeFigures> {
@@ -158,7 +167,16 @@ async function measure(customers: number): Promise<SizeFigures> {
     offGridTimes.push(ms(started));
     offGridSame &&= JSON.stringify(answer) === JSON.stringify(certaintyByRule(runId, columns, { ...move, bins }));
   }
-  const same = JSON.stringify(afterAnswers) === JSON.stringify(beforeAnswers);
+  // The borderline table under the same sliders: its total comes from the same summary as the counts.
+  const tableTimes: number[] = [];
+  let tableSame = true;
+  for (const [i, move] of moves.entries()) {
+    started = performance.now();
+    const page = borderlinePage(db, { runId, offset: 0, limit: 100, borderlineConfidence: move.borderlineConfidence, borderlineMargin: move.borderlineMargin });
+    tableTimes.push(ms(started));
+    tableSame &&= page.total === afterAnswers[i].borderline;
+  }
+  const same = JSON.stringify(afterAnswers) === JSON.stringify(beforeAnswers) && tableSame;
   console.log(
     `${customers.toLocaleString('en-GB')} customers (${columns.confidence.length.toLocaleString('en-GB')} placed): answers equal to the rule's: ` +
       `${same && offGridSame ? 'yes' : 'NO'} (${calls} slider positions, ${calls} off-grid thresholds)`,
@@ -171,6 +189,8 @@ async function measure(customers: number): Promise<SizeFigures> {
     afterFirst,
     afterRepeat: median(afterTimes),
     afterOffGrid: median(offGridTimes),
+    tableFirst: tableTimes[0],
+    tableRepeat: median(tableTimes.slice(1)),
   };
 }
 
@@ -181,7 +201,7 @@ for (const f of figures) {
     `  ${f.customers.toLocaleString('en-GB').padStart(9)} customers: ` +
       `first call ${show(f.beforeFirst)} → ${show(f.afterFirst)} ms (× ${(f.afterFirst / f.beforeFirst).toFixed(2)}); ` +
       `later calls ${show(f.beforeRepeat)} → ${show(f.afterRepeat)} ms (× ${(f.afterRepeat / f.beforeRepeat).toFixed(4)}, ${(f.beforeRepeat / f.afterRepeat).toFixed(0)} times faster); ` +
-      `off-grid thresholds ${show(f.afterOffGrid)} ms`,
+      `off-grid thresholds ${show(f.afterOffGrid)} ms; borderline table page ${show(f.tableFirst)} ms first, ${show(f.tableRepeat)} ms later`,
   );
 }
 const [s, l] = figures;

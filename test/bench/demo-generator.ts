@@ -11,7 +11,8 @@
 import { closeSync, mkdtempSync, openSync, readdirSync, rmSync, statSync, writeSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { generateDemoChain } from '../../demo-data/generator/index.js';
+import { DEFAULT_DEMO_SEED } from '../../src/api/contract.js';
+import { generateDemoChain } from '../../src/demo/index.js';
 
 const customers = Number(process.argv[2] ?? 6000);
 const repeats = Number(process.argv[3] ?? 3);
@@ -24,7 +25,7 @@ function folderBytes(folder: string): number {
 async function generate(run: number): Promise<{ seconds: number; bytes: number; receipts: number; rows: number }> {
   const outDir = join(scratch, `demo-${run}`);
   const started = performance.now();
-  const result = await generateDemoChain({ outDir, customers });
+  const result = await generateDemoChain({ outDir, customers, seed: DEFAULT_DEMO_SEED });
   const seconds = (performance.now() - started) / 1000;
   const bytes = folderBytes(outDir);
   rmSync(outDir, { recursive: true });

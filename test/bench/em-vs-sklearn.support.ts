@@ -5,7 +5,7 @@
 import { execFileSync, spawnSync } from 'node:child_process';
 import { writeFileSync } from 'node:fs';
 import { fileURLToPath } from 'node:url';
-import { restartStream } from '../../src/model/random.js';
+import { restartStream } from '../../src/model/index.js';
 
 export const root = fileURLToPath(new URL('../..', import.meta.url));
 export const pythonSide = fileURLToPath(new URL('./em-vs-sklearn.py', import.meta.url));

@@ -6,6 +6,8 @@
  * the cached database stays as built.
  *   npx tsx test/bench/full-run.ts [--customers 1000000] [--rows 20000000] [--k-max 8] [--restarts 1] [--max-iter 100]
  */
+import { startRunInput } from '../../src/api/contract.js';
+import { runSettingsFor } from '../../src/api/long-tasks.js';
 import { runSegmentation } from '../../src/runs/run.js';
 import type { RunProgress } from '../../src/runs/types.js';
 import { openDatabase } from '../../src/store/database.js';
@@ -33,7 +35,10 @@ const fitsSeen = new Set<string>();
 started = performance.now();
 const summary = await runSegmentation(
   db,
-  { asOf: SYNTHETIC_AS_OF, windowMonths: 12, mode: 'refit', parentRunId: null, k: 'auto', kMin: 2, kMax, covariance: 'auto', restarts, maxIterations },
+  runSettingsFor(
+    db,
+    startRunInput.parse({ asOf: SYNTHETIC_AS_OF, windowMonths: 12, mode: 'refit', parentRunId: null, k: 'auto', kMin: 2, kMax, covariance: 'auto', restarts, maxIterations }),
+  ),
   {
     onProgress: (progress) => {
       if (progress.fit) fitsSeen.add(`${progress.fit.k}/${progress.fit.covarianceType}/${progress.fit.restart}`);

@@ -5,8 +5,10 @@
  * the same grid one cell after another, in the same run. Each side runs in its own process
  * under /usr/bin/time -v and times its sweep alone.
  *
- *   npx tsx test/bench/sweep-vs-sklearn.ts [--rows N] [--k-max N] [--threads N]
+ *   npx tsx test/bench/sweep-vs-sklearn.ts [--rows N] [--k-max N] [--threads N] [--init M] [--restarts N]
  *
+ * --init and --restarts change our side only (default kmeans and 1, as scikit-learn runs): with
+ * --init mixed --restarts 5 (the app's defaults) the ratio shows what the varied starts cost.
  * Prints both sweep times and the ratio ours / scikit-learn, total EM iterations on each side
  * (the two k-means starts differ, so iteration counts differ), peak memory, and both BIC winners.
  */
@@ -14,7 +16,7 @@ import { mkdtempSync, readFileSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
-import { covarianceTypes, sweepMixtures } from '../../src/model/index.js';
+import { covarianceTypes, sweepMixtures, type InitMethod } from '../../src/model/index.js';
 import { machineLine, nodeTsArgs, pythonEnvironment, pythonSide, runTimed, seededMixture, writeMatrix } from './em-vs-sklearn.support.js';
 
 function option(name: string, fallback: string): string {
@@ -33,15 +35,15 @@ interface Cell {
   bic: number;
 }
 
-async function child(path: string, rows: number, kMax: number, threads: number | undefined): Promise<void> {
+async function child(path: string, rows: number, kMax: number, threads: number | undefined, init: InitMethod, restarts: number): Promise<void> {
   const values = new Float64Array(readFileSync(path).buffer.slice(0));
   const started = performance.now();
   const sweep = await sweepMixtures(
     { values, rows, cols: d },
-    { componentRange: [1, kMax], covarianceTypes, restarts: 1, tol: TOL, maxIterations: MAX_ITERATIONS, init: 'kmeans', threads },
+    { componentRange: [1, kMax], covarianceTypes, restarts, seed: 0, tol: TOL, maxIterations: MAX_ITERATIONS, regularization: 1e-6, init, criterion: 'bic', threads },
   );
   const seconds = (performance.now() - started) / 1000;
-  const cells: Cell[] = sweep.table.map((row) => ({ k: row.k, covariance: row.covarianceType, iterations: row.iterations, bic: row.bic }));
+  const cells: Cell[] = sweep.table.map((row) => ({ k: row.k, covariance: row.covariance, iterations: row.iterations, bic: row.bic }));
   console.log(JSON.stringify({ seconds, cells }));
 }
 
@@ -54,8 +56,10 @@ async function main(): Promise<void> {
   const rows = Number(option('--rows', '50000'));
   const kMax = Number(option('--k-max', '8'));
   const threadsText = option('--threads', '');
+  const init = option('--init', 'kmeans') as InitMethod;
+  const restarts = Number(option('--restarts', '1'));
   if (process.argv[2] === '--child') {
-    await child(process.argv[3], rows, kMax, threadsText ? Number(threadsText) : undefined);
+    await child(process.argv[3], rows, kMax, threadsText ? Number(threadsText) : undefined, init, restarts);
     return;
   }
   const folder = mkdtempSync(join(tmpdir(), 'spendmix-sweep-bench-'));
@@ -63,8 +67,11 @@ async function main(): Promise<void> {
     const path = join(folder, 'mixture.f64');
     writeMatrix(path, seededMixture(rows, d, 4, 2027));
     console.log(machineLine());
-    console.log(`data: seeded 4-group mixture, n = ${rows.toLocaleString('en')}, d = ${d}; grid k = 1…${kMax} × ${covarianceTypes.join(', ')}; 1 start, k-means init, tol ${TOL}, ≤ ${MAX_ITERATIONS} iterations`);
-    const passOn = ['--rows', String(rows), '--k-max', String(kMax), ...(threadsText ? ['--threads', threadsText] : [])];
+    console.log(
+      `data: seeded 4-group mixture, n = ${rows.toLocaleString('en')}, d = ${d}; grid k = 1…${kMax} × ${covarianceTypes.join(', ')}; ` +
+        `ours ${restarts} start(s) ${init}, scikit-learn 1 start k-means; tol ${TOL}, ≤ ${MAX_ITERATIONS} iterations`,
+    );
+    const passOn = ['--rows', String(rows), '--k-max', String(kMax), '--init', init, '--restarts', String(restarts), ...(threadsText ? ['--threads', threadsText] : [])];
     const ours = runTimed(process.execPath, nodeTsArgs(fileURLToPath(import.meta.url), ['--child', path, ...passOn]));
     const theirs = runTimed('/usr/bin/python3', [pythonSide, 'sweep', path, String(rows), String(d), String(kMax), 'kmeans', String(MAX_ITERATIONS), String(TOL)], pythonEnvironment());
     const o = ours.result as { seconds: number; cells: Cell[] };

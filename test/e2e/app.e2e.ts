@@ -4,6 +4,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import type { Page } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { designScreens } from '../support/design-reference.js';
 import { collectPageErrors, openBrowser, screenshot, serve, type ServedApp } from './harness.js';
 
 /**
@@ -96,6 +97,16 @@ describe('Spendmix in Chromium through the browser host', () => {
     expect(page.url()).not.toContain('token=');
   });
 
+  it('shows the screens of DESIGN.md §9 in the side rail, in order, and each opens', async () => {
+    const rail = page.locator('[data-testid^="nav-"]');
+    expect((await rail.locator('.rail-title').allInnerTexts()).map((text) => text.trim())).toEqual([...designScreens]);
+    for (const title of designScreens) {
+      const item = rail.filter({ has: page.locator('.rail-title', { hasText: new RegExp(`^${title}$`) }) });
+      await item.click();
+      await expect.poll(() => item.getAttribute('aria-current')).toBe('page');
+    }
+  });
+
   it('loads the demo chain into the fresh database', async () => {
     await openScreen(page, 'sources');
     await screenshot(page, '01-sources-empty');
@@ -186,10 +197,17 @@ describe('Spendmix in Chromium through the browser host', () => {
   it('exports the run and the workbook reads back with the counts the screen shows', async () => {
     await openScreen(page, 'export');
     await page.getByTestId('export-cautions').waitFor({ state: 'visible' });
-    const out = join(folder, 'november-campaign.xlsx');
-    await page.getByTestId('export-path').fill(out);
+    // In the browser the export is a download: the host writes it into its session folder and
+    // serves it once; the screen starts the download when the export is written.
+    await page.getByTestId('export-path').fill('november-campaign.xlsx');
+    const download = page.waitForEvent('download', { timeout: taskTimeout });
     await page.getByTestId('export-start').click();
     await waitForTask(page, 'export-task');
+    const saved = await download;
+    expect(saved.suggestedFilename()).toBe('november-campaign.xlsx');
+    const out = join(folder, 'downloaded-campaign.xlsx');
+    await saved.saveAs(out);
+    await expect.poll(() => page.getByTestId('export-download').getAttribute('data-state')).toBe('saved');
     await screenshot(page, '09-export');
     const exported = Number((await page.getByTestId('export-count-exported').innerText()).replace(/,/g, ''));
     const suppressed = Number((await page.getByTestId('export-count-suppressed').innerText()).replace(/,/g, ''));

@@ -10,12 +10,13 @@ import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { exportRunInput } from '../../src/api/contract.js';
 import { runLongTask } from '../../src/api/long-tasks.js';
-import { runCli } from '../../src/cli/program.js';
+import { cli } from '../support/run-cli.js';
 import { importFile } from '../../src/ingest/import-file.js';
-import { decideReview, getMemberships, getMovement, getReviewQueue, listSegments } from '../../src/runs/repository.js';
-import { runSegmentation } from '../../src/runs/run.js';
-import type { Membership } from '../../src/runs/types.js';
+import type { MembershipRow } from '../../src/api/contract.js';
+import { movementOf } from '../../src/runs/read/movement.js';
+import { listSegments } from '../../src/runs/read/segments.js';
 import { openDatabase, type Database } from '../../src/store/database.js';
+import { allMemberships, decide, runMonth, wholeQueue } from '../support/core-calls.js';
 import { readCsv, readWorkbook, sheet, tableRecords, type ReadWorkbook } from './independent-readers.js';
 
 const sampleDir = new URL('../../demo-data/sample/', import.meta.url).pathname;
@@ -27,22 +28,6 @@ function sampleConsent(): Map<string, string> {
   const idColumn = header.indexOf('customer_id');
   const consentColumn = header.indexOf('marketing_consent');
   return new Map(lines.slice(1).map((line) => line.split(',')).map((cells) => [cells[idColumn], cells[consentColumn]]));
-}
-
-async function cli(args: string[]): Promise<{ code: number; stdout: string; stderr: string }> {
-  let stdout = '';
-  let stderr = '';
-  const code = await runCli(args, { stdout: (text) => (stdout += text), stderr: (text) => (stderr += text) });
-  return { code, stdout, stderr };
-}
-
-function allMemberships(db: Database, runId: number): Membership[] {
-  const items: Membership[] = [];
-  for (let offset = 0; ; offset += 10_000) {
-    const page = getMemberships(db, runId, { offset, limit: 10_000, sort: 'customerId' });
-    items.push(...page.items);
-    if (items.length >= page.total || page.items.length === 0) return items;
-  }
 }
 
 describe('export of a real run of the demo sample', () => {
@@ -62,23 +47,23 @@ describe('export of a real run of the demo sample', () => {
       await importFile(db, { path: join(sampleDir, `${kind}.csv`), kind, options: { reportDir: folder } });
     }
     const settings = { windowMonths: 12, mode: 'refit' as const, k: 3, covariance: 'diag' as const, restarts: 2, seed: 5 };
-    await runSegmentation(db, { ...settings, asOf: '2026-10-31' });
-    runId = (await runSegmentation(db, { ...settings, asOf: '2026-11-30' })).runId;
+    await runMonth(db, { ...settings, asOf: '2026-10-31' });
+    runId = (await runMonth(db, { ...settings, asOf: '2026-11-30' })).runId;
 
     // Three decisions on consenting queued customers: exclude one, move one, keep one.
-    const queue = getReviewQueue(db, runId, { limit: 10_000 }).items.filter((item) => consent.get(item.customerId) === 'yes');
+    const queue = wholeQueue(db, runId).filter((item) => consent.get(item.customerId) === 'yes');
     expect(queue.length).toBeGreaterThanOrEqual(3);
-    const segments = listSegments(db, runId);
+    const segments = listSegments(db, runId).segments;
     decided.excluded = queue[0].customerId;
     decided.moved = queue[1].customerId;
     decided.movedTo = segments.find((segment) => segment.name !== queue[1].segmentName)?.name as string;
     decided.kept = queue[2].customerId;
-    decideReview(db, { runId, customerId: decided.excluded, action: 'exclude', note: 'staff card', reviewer: 'analyst' });
-    decideReview(db, { runId, customerId: decided.moved, action: 'move', segment: decided.movedTo, reviewer: 'analyst' });
-    decideReview(db, { runId, customerId: decided.kept, action: 'keep', reviewer: 'analyst' });
+    decide(db, { runId, customerId: decided.excluded, action: 'exclude', note: 'staff card', reviewer: 'analyst' });
+    decide(db, { runId, customerId: decided.moved, action: 'move', segment: decided.movedTo, reviewer: 'analyst' });
+    decide(db, { runId, customerId: decided.kept, action: 'keep', reviewer: 'analyst' });
 
     const out = join(outDir, 'run.xlsx');
-    const result = await cli(['export', '--db', dbPath, '--run', 'latest', '--out', out, '--json']);
+    const result = await cli('export', '--db', dbPath, '--run', 'latest', '--out', out, '--json');
     expect(result.stderr).toBe('');
     expect(result.code).toBe(0);
     workbookResult = JSON.parse(result.stdout);
@@ -100,7 +85,7 @@ describe('export of a real run of the demo sample', () => {
     const records = tableRecords(sheet(book, 'Customers'));
     expect(records.length).toBe(workbookResult.customersExported);
     for (const record of records) {
-      const membership = stored.get(String(record['Customer id'].v)) as Membership;
+      const membership = stored.get(String(record['Customer id'].v)) as MembershipRow;
       expect(membership).toBeDefined();
       expect(record['Final segment'].v).toBe(membership.finalSegmentName);
       expect(record['Model segment'].v).toBe(membership.segmentName);
@@ -131,19 +116,19 @@ describe('export of a real run of the demo sample', () => {
   });
 
   it('writes the stored movement matrix', () => {
-    const movement = getMovement(db, runId);
-    expect(movement).not.toBeNull();
+    const movement = movementOf(db, runId);
+    expect(movement.parentRunId).not.toBeNull();
     const records = tableRecords(sheet(book, 'Movement'));
-    expect(records.map((record) => record['Last month \\ this month'].v)).toEqual(movement?.parentSegments.map((s) => s.name));
+    expect(records.map((record) => record['Last month \\ this month'].v)).toEqual(movement.parentSegments.map((s) => s.name));
     records.forEach((record, i) => {
-      movement?.currentSegments.forEach((segment, j) => expect(record[segment.name].v).toBe(movement.counts[i][j]));
+      movement.currentSegments.forEach((segment, j) => expect(record[segment.name].v).toBe(movement.matrix[i][j]));
     });
   });
 
   it('suppression over the whole demo: no customer with consent "no" in any campaign list', async () => {
     const refused = new Set([...consent].filter(([, value]) => value !== 'yes').map(([id]) => id));
     expect(refused.size).toBeGreaterThan(0);
-    const segments = listSegments(db, runId).map((segment) => segment.name);
+    const segments = listSegments(db, runId).segments.map((segment) => segment.name);
     const lists: { segments: string[]; format: 'xlsx' | 'csv'; extra: string[] }[] = [
       { segments: [], format: 'xlsx', extra: ['--min-confidence', '0.9'] },
       { segments: [], format: 'csv', extra: [] },
@@ -156,7 +141,7 @@ describe('export of a real run of the demo sample', () => {
       const out = join(outDir, `list-${index}.${list.format}`);
       const args = ['export', '--db', dbPath, '--run', String(runId), '--out', out, '--json', ...list.extra];
       if (list.segments.length > 0) args.push('--segments', list.segments.join(','));
-      const result = await cli(args);
+      const result = await cli(...args);
       expect(result.code, result.stderr).toBe(0);
       let customerIds: string[];
       let otherIds: string[] = [];
@@ -183,7 +168,7 @@ describe('export of a real run of the demo sample', () => {
 
   it('--csv-dialect semicolon and --csv-raw-ids through the CLI, and the same through the API task', async () => {
     const out = join(outDir, 'semicolon.csv');
-    const result = await cli(['export', '--db', dbPath, '--run', 'latest', '--out', out, '--csv-dialect', 'semicolon', '--csv-raw-ids', '--json']);
+    const result = await cli('export', '--db', dbPath, '--run', 'latest', '--out', out, '--csv-dialect', 'semicolon', '--csv-raw-ids', '--json');
     expect(result.code, result.stderr).toBe(0);
     const lines = readFileSync(out, 'utf8').split('\r\n');
     expect(lines[0]).toBe('\uFEFFCustomer id;Final segment;Model segment;Confidence;Second segment;Second probability;Flags;Review decision;Marketing consent;Spend in window (EUR);Spend per month (EUR per month);Visit rate (visits per month);Basket size (EUR)');
@@ -192,25 +177,25 @@ describe('export of a real run of the demo sample', () => {
     const viaTask = join(outDir, 'task.csv');
     await runLongTask({ method: 'exportRun', dbPath, input: exportRunInput.parse({ runId, out: viaTask, format: 'csv', csvDialect: 'semicolon', csvRawIds: true }) }, { signal: new AbortController().signal, onProgress: () => {} });
     expect(readFileSync(viaTask, 'utf8')).toBe(readFileSync(out, 'utf8'));
-    const bad = await cli(['export', '--db', dbPath, '--run', 'latest', '--out', join(outDir, 'x.csv'), '--csv-dialect', 'tab']);
+    const bad = await cli('export', '--db', dbPath, '--run', 'latest', '--out', join(outDir, 'x.csv'), '--csv-dialect', 'tab');
     expect(bad.code).toBe(2);
-    expect(bad.stderr).toContain('--csv-dialect must be comma or semicolon; got "tab".');
+    expect(bad.stderr).toContain('(csvDialect, --csv-dialect) must be one of comma, semicolon (got "tab")');
   });
 
   it('refuses bad input with exit code 2, a clear message and no file', async () => {
     const before = readdirSync(outDir).length;
-    const unknownRun = await cli(['export', '--db', dbPath, '--run', '99', '--out', join(outDir, 'x.xlsx')]);
+    const unknownRun = await cli('export', '--db', dbPath, '--run', '99', '--out', join(outDir, 'x.xlsx'));
     expect(unknownRun.code).toBe(2);
     expect(unknownRun.stderr).toMatch(/There is no run 99; runs in this database: 1, 2/);
-    const unknownSegment = await cli(['export', '--db', dbPath, '--run', 'latest', '--out', join(outDir, 'x.xlsx'), '--segments', 'Platinum']);
+    const unknownSegment = await cli('export', '--db', dbPath, '--run', 'latest', '--out', join(outDir, 'x.xlsx'), '--segments', 'Platinum');
     expect(unknownSegment.code).toBe(2);
     expect(unknownSegment.stderr).toMatch(/No segment named "Platinum" in this run\. The segments are: "Tier 1 — highest spend"/);
-    const missingFolder = await cli(['export', '--db', dbPath, '--run', 'latest', '--out', join(outDir, 'no', 'x.xlsx')]);
+    const missingFolder = await cli('export', '--db', dbPath, '--run', 'latest', '--out', join(outDir, 'no', 'x.xlsx'));
     expect(missingFolder.code).toBe(2);
     expect(missingFolder.stderr).toMatch(/does not exist/);
-    const badConfidence = await cli(['export', '--db', dbPath, '--run', 'latest', '--out', join(outDir, 'x.xlsx'), '--min-confidence', '2']);
+    const badConfidence = await cli('export', '--db', dbPath, '--run', 'latest', '--out', join(outDir, 'x.xlsx'), '--min-confidence', '2');
     expect(badConfidence.code).toBe(2);
-    const noDatabase = await cli(['export', '--db', join(folder, 'none.db'), '--run', 'latest', '--out', join(outDir, 'x.xlsx')]);
+    const noDatabase = await cli('export', '--db', join(folder, 'none.db'), '--run', 'latest', '--out', join(outDir, 'x.xlsx'));
     expect(noDatabase.code).toBe(2);
     expect(noDatabase.stderr).toMatch(/does not exist/);
     expect(readdirSync(outDir).length).toBe(before);

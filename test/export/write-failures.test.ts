@@ -21,7 +21,7 @@ import { nodeFileOperations } from '../../src/export/atomic-file.js';
 import { exportSource } from '../../src/export/export-run.js';
 import type { ExportCustomerRow } from '../../src/export/source.js';
 import { importFile } from '../../src/ingest/import-file.js';
-import { runSegmentation } from '../../src/runs/run.js';
+import { runMonth } from '../support/core-calls.js';
 import { openDatabase } from '../../src/store/database.js';
 import { customer, memorySource } from './memory-source.js';
 
@@ -89,7 +89,7 @@ describe.skipIf(!isRoot)('real failures through the CLI (needs root: mounts a tm
   beforeAll(async () => {
     const db = openDatabase(dbPath);
     for (const kind of ['customers', 'receipts', 'visits'] as const) await importFile(db, { path: join(sampleDir, `${kind}.csv`), kind, options: { reportDir: folder } });
-    await runSegmentation(db, { asOf: '2026-11-30', windowMonths: 12, mode: 'refit', k: 3, covariance: 'diag', restarts: 1, seed: 3 });
+    await runMonth(db, { asOf: '2026-11-30', windowMonths: 12, mode: 'refit', k: 3, covariance: 'diag', restarts: 1, seed: 3 });
     db.close();
     mkdirSync(full);
     mkdirSync(fullForCursor);

@@ -2,6 +2,7 @@ import { mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { defaultFreshCategories } from '../../src/api/contract.js';
 import { checkAsOfInData, computeReceiptFeatures } from '../../src/features/compute.js';
 import { featureWindow, subtractMonths } from '../../src/features/window.js';
 import { isInputError } from '../../src/errors.js';
@@ -46,7 +47,7 @@ afterAll(() => {
 });
 
 function featuresOf(customerId: string): Record<string, number> | null {
-  const table = computeReceiptFeatures(db, { asOf: '2026-11-30', windowMonths: 12, minPurchases: 2, minTenureMonths: 2 });
+  const table = computeReceiptFeatures(db, { asOf: '2026-11-30', windowMonths: 12, minPurchases: 2, minTenureMonths: 2, freshCategories: defaultFreshCategories });
   const i = table.customerIds.indexOf(customerId);
   if (i < 0) return null;
   return { ...Object.fromEntries(table.names.map((name, j) => [name, table.columns[j][i]])), revenueCents: table.revenueCents[i], tooNew: table.tooNew[i] };
@@ -121,7 +122,7 @@ describe('features worked by hand', () => {
   });
 
   it('the too-new thresholds are settable', () => {
-    const table = computeReceiptFeatures(db, { asOf: '2026-11-30', windowMonths: 12, minPurchases: 4, minTenureMonths: 0 });
+    const table = computeReceiptFeatures(db, { asOf: '2026-11-30', windowMonths: 12, minPurchases: 4, minTenureMonths: 0, freshCategories: defaultFreshCategories });
     // A has 3 purchases (< 4), B has 2: both too new now.
     expect(Array.from(table.tooNew)).toEqual([1, 1]);
   });
@@ -160,7 +161,7 @@ describe('a window shorter than the trend months, with history before it', () =>
   });
 
   it('keeps the sums inside the window and takes tenure from the first receipt before it', () => {
-    const table = computeReceiptFeatures(shortDb, { asOf: '2026-11-30', windowMonths: 2, minPurchases: 2, minTenureMonths: 2 });
+    const table = computeReceiptFeatures(shortDb, { asOf: '2026-11-30', windowMonths: 2, minPurchases: 2, minTenureMonths: 2, freshCategories: defaultFreshCategories });
     expect(table.customerIds).toEqual(['D']);
     const d = Object.fromEntries(table.names.map((name, j) => [name, table.columns[j][0]]));
     // In the window: 20 + 10 = 30 EUR over the whole 2 months (the first day is before the window).

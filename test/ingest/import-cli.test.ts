@@ -29,11 +29,11 @@ describe('spendmix import (DESIGN.md §10)', () => {
       [['import', '--receipts', file], /needs --db/],
       [['import', '--db', db], /needs one file/],
       [['import', '--db', db, '--receipts', file, '--visits', file], /one file at a time/],
-      [['import', '--db', db, '--receipts', file, '--date-format', 'guess'], /--date-format must be one of/],
+      [['import', '--db', db, '--receipts', file, '--date-format', 'guess'], /\(dateOrder, --date-format\) must be one of iso, day-first, month-first \(got "guess"\)/],
       [['import', '--db', db, '--receipts', file, '--map', 'nonsense'], /COLUMN=FIELD/],
-      [['import', '--db', db, '--receipts', file, '--max-rejected-share', '7'], /between 0 and 1/],
+      [['import', '--db', db, '--receipts', file, '--max-rejected-share', '7'], /\(rejectionThreshold, --max-rejected-share\) must be at most 1 \(got 7\)/],
       [['import', '--db', db, '--receipts', file], /date is not ISO.*--date-format/],
-      [['import', '--db', db, '--receipts', join(folder, 'absent.csv')], /Cannot read/],
+      [['import', '--db', db, '--receipts', join(folder, 'absent.csv')], /File .*absent\.csv does not exist/],
     ];
     for (const [args, pattern] of cases) {
       const run = await cli(args);

@@ -37,6 +37,7 @@ describe('monthly cycle (DESIGN.md §3)', () => {
     );
     const first = await importFile(db, { path: month1, kind: 'receipts' });
     expect(first).toEqual({
+      importId: 1,
       file: month1,
       kind: 'receipts',
       rowsRead: 3,
@@ -50,7 +51,7 @@ describe('monthly cycle (DESIGN.md §3)', () => {
     const second = await importFile(db, { path: months12, kind: 'receipts' });
     expect(second).toMatchObject({ rowsRead: 5, rowsImported: 2, duplicatesSkipped: 3, amountTotal: 24.1, alreadyImported: false });
     const again = await importFile(db, { path: months12, kind: 'receipts' });
-    expect(again).toMatchObject({ alreadyImported: true, rowsImported: 0 });
+    expect(again).toMatchObject({ alreadyImported: true, rowsImported: 0, importId: null });
     expect(db.prepare('SELECT count(*) FROM receipts').pluck().get()).toBe(5);
     expect(db.prepare('SELECT sum(amount_cents) FROM receipts').pluck().get()).toBe(1125 + 2410);
     expect(listImports(db).map((record) => [record.rowsImported, record.duplicatesSkipped])).toEqual([

@@ -10,6 +10,7 @@ vi.mock('electron', () => fake.module);
 
 const { startElectronApp } = await import('../../main/electron/app.js');
 const { channels, appScheme } = await import('../../main/electron/channels.js');
+const { designWindowRules } = await import('../support/design-reference.js');
 // Recorded at module load, before any test clears the mocks: it must precede app ready.
 const schemeRegistration = fake.module.protocol.registerSchemesAsPrivileged.mock.calls[0] as unknown as [
   { scheme: string; privileges: Record<string, boolean> }[],
@@ -37,24 +38,53 @@ describe('the Electron shell with electron mocked', () => {
     vi.clearAllMocks();
   });
 
-  it('registers our scheme as privileged before ready, then serves the renderer from it', async () => {
+  it('registers our scheme as privileged before ready, then answers it with the renderer and its security policy', async () => {
     expect(schemeRegistration[0]).toEqual([{ scheme: appScheme, privileges: expect.objectContaining({ standard: true, secure: true }) }]);
     const app = await startElectronApp(paths());
-    expect(fake.module.protocol.handle).toHaveBeenCalledWith(appScheme, expect.any(Function));
-    const window = fake.BrowserWindow.instances[0];
-    expect(window.loadURL).toHaveBeenCalledWith('spendmix://app/index.html');
+    const [scheme, answer] = fake.module.protocol.handle.mock.calls[0] as unknown as [string, (request: { url: string }) => Promise<Response>];
+    expect(scheme).toBe(appScheme);
+    const page = await answer({ url: 'spendmix://app/index.html' });
+    expect(page.status).toBe(200);
+    expect(await page.text()).toContain('<div id="root">');
+    expect(page.headers.get('content-security-policy')).toMatch(/default-src 'self'/);
+    const escape = await answer({ url: 'spendmix://app/..%2F..%2Fuser-data%2Frecent-databases.json' });
+    expect(await escape.text()).not.toContain('[');
+    expect(fake.BrowserWindow.instances[0].loadURL).toHaveBeenCalledWith('spendmix://app/index.html');
     await app.session.close();
   });
 
-  it('opens one window with the secure preferences and our preload', async () => {
+  it('opens its window under every window rule of the design, and its pages can neither navigate away, open windows, embed views nor get permissions', async () => {
     const where = paths();
     const app = await startElectronApp(where);
     expect(fake.BrowserWindow.instances).toHaveLength(1);
     const { webPreferences } = fake.BrowserWindow.instances[0].options as { webPreferences: Record<string, unknown> };
-    expect(webPreferences).toMatchObject({ preload: where.preloadPath, contextIsolation: true, sandbox: true, nodeIntegration: false, webSecurity: true });
-    expect(fake.module.session.defaultSession.setPermissionRequestHandler).toHaveBeenCalled();
-    expect(fake.module.session.defaultSession.webRequest.onBeforeRequest).toHaveBeenCalled();
-    expect(fake.module.app.on).toHaveBeenCalledWith('web-contents-created', expect.any(Function));
+    expect(webPreferences.preload).toBe(where.preloadPath);
+    for (const { option, required, rule } of designWindowRules) expect(webPreferences[option], rule).toBe(required);
+
+    // Every page's contents, as Electron announces them, get the per-window rules.
+    const contents = new fake.FakeWebContents();
+    fake.appListeners.get('web-contents-created')!({}, contents);
+    const navigation = (url: string) => {
+      const event = { preventDefault: vi.fn() };
+      contents.listeners.get('will-navigate')!(event, url);
+      return event.preventDefault.mock.calls.length > 0 ? 'denied' : 'allowed';
+    };
+    expect([navigation('https://example.invalid/'), navigation('file:///etc/passwd'), navigation('spendmix://app/index.html#/segments')]).toEqual(['denied', 'denied', 'allowed']);
+    expect(contents.windowOpenHandler!({ url: 'spendmix://app/index.html' })).toEqual({ action: 'deny' });
+    const webview = { preventDefault: vi.fn() };
+    contents.listeners.get('will-attach-webview')!(webview);
+    expect(webview.preventDefault).toHaveBeenCalled();
+
+    // The session the windows share: no permission is granted, nothing goes out over the network.
+    const session = fake.module.session.defaultSession;
+    const askPermission = session.setPermissionRequestHandler.mock.calls.at(-1)![0] as (wc: unknown, permission: string, callback: (granted: boolean) => void) => void;
+    const granted: boolean[] = [];
+    for (const permission of ['media', 'geolocation', 'notifications']) askPermission(contents, permission, (answer) => granted.push(answer));
+    expect(granted).toEqual([false, false, false]);
+    const [, beforeRequest] = session.webRequest.onBeforeRequest.mock.calls.at(-1) as unknown as [unknown, (details: unknown, callback: (answer: unknown) => void) => void];
+    const answers: unknown[] = [];
+    beforeRequest({ url: 'https://example.invalid/pixel.gif' }, (answer) => answers.push(answer));
+    expect(answers).toEqual([{ cancel: true }]);
     await app.session.close();
   });
 
@@ -122,12 +152,36 @@ describe('the Electron shell with electron mocked', () => {
     await app.session.close();
   });
 
-  it('builds the application menu with the file actions', async () => {
+  it('acts on the application menu: opens a chosen database, hands a chosen file to the import screen, asks for an export', async () => {
     const app = await startElectronApp(paths());
-    const template = (fake.module.Menu.buildFromTemplate.mock.calls.at(-1) as unknown as [{ label?: string; submenu?: { label?: string }[] }[]])[0];
-    const labels = template[0].submenu!.map((item) => item.label);
-    expect(labels).toEqual(expect.arrayContaining(['Open Database…', 'Open Recent', 'Import File…', 'Export…', 'Quit Spendmix']));
-    expect(fake.module.Menu.setApplicationMenu).toHaveBeenCalled();
+    const window = fake.BrowserWindow.instances[0];
+    const menuItems = () => {
+      const template = (fake.module.Menu.buildFromTemplate.mock.calls.at(-1) as unknown as [{ submenu?: { label?: string; click?: () => void }[] }[]])[0];
+      return new Map(template[0].submenu!.filter((item) => item.label).map((item) => [item.label!, item]));
+    };
+    expect([...menuItems().keys()]).toEqual(expect.arrayContaining(['Open Database…', 'New Database…', 'Open Recent', 'Import File…', 'Export…', 'Quit Spendmix']));
+    const sent = () => window.webContents.send.mock.calls.filter(([channel]) => channel === channels.menuCommand).map(([, command]) => command);
+
+    const other = join(fake.state.userData, 'april.db');
+    fake.module.dialog.showOpenDialog.mockResolvedValueOnce({ canceled: false, filePaths: [other] });
+    menuItems().get('Open Database…')!.click!();
+    await vi.waitFor(() => expect(app.session.dbPath).toBe(other));
+    expect(existsSync(other)).toBe(true);
+    expect(sent()).toContainEqual({ command: 'database-opened', path: other });
+    expect(window.setTitle).toHaveBeenLastCalledWith(`Spendmix — ${other}`);
+    // The database just opened leads the recent list of the rebuilt menu.
+    expect(JSON.parse(readFileSync(join(fake.state.userData, 'recent-databases.json'), 'utf8'))[0]).toBe(other);
+
+    fake.module.dialog.showOpenDialog.mockResolvedValueOnce({ canceled: false, filePaths: ['/home/analyst/march.csv'] });
+    menuItems().get('Import File…')!.click!();
+    await vi.waitFor(() => expect(sent()).toContainEqual({ command: 'import-file', path: '/home/analyst/march.csv' }));
+    menuItems().get('Export…')!.click!();
+    expect(sent()).toContainEqual({ command: 'export' });
+
+    // A cancelled dialog changes nothing.
+    menuItems().get('Open Database…')!.click!();
+    await new Promise((resolve) => setTimeout(resolve, 20));
+    expect(app.session.dbPath).toBe(other);
     await app.session.close();
   });
 });

@@ -6,30 +6,31 @@ import { describe, expect, it, vi } from 'vitest';
 const fake = await vi.hoisted(async () => (await import('./fake-electron.js')).createFakeElectron());
 vi.mock('electron', () => fake.module);
 
-const { isAppUrl, isTrustedSender, lockDownContents, lockDownSession, secureWebPreferences, electronContentSecurityPolicy } = await import(
+const { insecurePreferences, isAppUrl, isTrustedSender, lockDownContents, lockDownSession, secureWebPreferences, electronContentSecurityPolicy } = await import(
   '../../main/electron/security.js'
 );
 const { serveAppRequest } = await import('../../main/electron/protocol.js');
+const { designWindowRules } = await import('../support/design-reference.js');
 const { buildMenuTemplate } = await import('../../main/electron/menu.js');
 const { RecentDatabases, RECENT_LIMIT } = await import('../../main/electron/recent.js');
 
-// Each setting below is an item of Electron's security checklist (electronjs.org/docs/latest/tutorial/security, from memory).
 describe('Electron security settings (DESIGN.md §12)', () => {
-  it('windows run isolated, sandboxed, without Node, with only our preload', () => {
-    const preferences = secureWebPreferences('/app/preload.cjs');
-    expect(preferences).toMatchObject({
-      preload: '/app/preload.cjs',
-      contextIsolation: true,
-      sandbox: true,
-      nodeIntegration: false,
-      nodeIntegrationInWorker: false,
-      nodeIntegrationInSubFrames: false,
-      webSecurity: true,
-      allowRunningInsecureContent: false,
-      webviewTag: false,
-      experimentalFeatures: false,
-      navigateOnDragDrop: false,
-    });
+  it('the window options the shell builds carry every rule of the design, with our preload', () => {
+    const preferences = secureWebPreferences('/app/preload.cjs') as Record<string, unknown>;
+    expect(preferences.preload).toBe('/app/preload.cjs');
+    for (const { option, required, rule } of designWindowRules) expect(preferences[option], rule).toBe(required);
+    expect(insecurePreferences(preferences)).toEqual([]);
+  });
+
+  it('a window refuses options with any one of those rules broken, and names it', () => {
+    const good = secureWebPreferences('/app/preload.cjs') as Record<string, unknown>;
+    for (const { option, required } of designWindowRules) {
+      for (const wrong of [!required, undefined]) {
+        expect(insecurePreferences({ ...good, [option]: wrong }), `${option} = ${String(wrong)}`).toEqual([`${option} must be ${String(required)}`]);
+      }
+    }
+    const everythingWrong = Object.fromEntries(designWindowRules.map(({ option, required }) => [option, !required]));
+    expect(insecurePreferences(everythingWrong)).toHaveLength(designWindowRules.length);
   });
 
   it('the content security policy allows our own origin only and no inline or remote script', () => {

@@ -5,7 +5,7 @@ import { fileURLToPath } from 'node:url';
 import { describe, expect, it } from 'vitest';
 import { runCli } from '../../src/cli/program.js';
 import { fitMixture } from '../../src/model/index.js';
-import { referenceData } from './support.js';
+import { fitSettings, referenceData } from './support.js';
 
 const faithfulCsv = fileURLToPath(new URL('../reference/data/faithful.csv', import.meta.url)); // R's datasets::faithful
 const folder = mkdtempSync(join(tmpdir(), 'spendmix-fit-matrix-'));
@@ -29,7 +29,7 @@ describe('spendmix fit-matrix', () => {
     expect(code).toBe(0);
     const result = JSON.parse(stdout);
     expect(Object.keys(result)).toEqual(['n', 'd', 'k', 'covariance', 'logLikelihood', 'meanLogLikelihood', 'bic', 'aic', 'icl', 'weights', 'means', 'covariances', 'converged', 'iterations', 'seconds']);
-    const engine = fitMixture(referenceData('faithful'), { components: 2, covarianceType: 'full', seed: 4 });
+    const engine = fitMixture(referenceData('faithful'), { ...fitSettings, components: 2, covarianceType: 'full', seed: 4 });
     expect(result).toMatchObject({ n: 272, d: 2, k: 2, covariance: 'full', logLikelihood: engine.logLikelihood, bic: engine.bic, icl: engine.icl });
     expect(result.means).toEqual([Array.from(engine.model.means.subarray(0, 2)), Array.from(engine.model.means.subarray(2, 4))]);
     expect(result.covariances[1][0][1]).toBe(engine.model.covariances[4 + 1]);
@@ -41,6 +41,7 @@ describe('spendmix fit-matrix', () => {
     const { code, stdout } = await run('fit-matrix', '--input', faithfulCsv, '--k', 'auto', '--k-max', '4', '--covariance', 'full', '--init', 'kmeans++', '--memberships', out, '--json');
     expect(code).toBe(0);
     expect(JSON.parse(stdout).k).toBe(2);
+    expect(JSON.parse(stdout).refusedFits).toEqual([]);
     const lines = readFileSync(out, 'utf8').trim().split('\n');
     expect(lines[0]).toBe('row,segment,posterior_1,posterior_2,confidence,margin,log_density');
     expect(lines).toHaveLength(273);
@@ -59,6 +60,30 @@ describe('spendmix fit-matrix', () => {
     expect(code).toBe(0);
     expect(stdout).toMatch(/Left out non-numeric column\(s\): id/);
     expect(stdout).toMatch(/Fitted 2 diag component\(s\) to 60 rows × 2 columns/);
+  });
+
+  it('lists the fits --k auto refused, with their reasons, and never chooses one', async () => {
+    // Three distinct points, six rows each: 2 and 3 components put a component on one or two points.
+    const path = file('three-points.csv', `x,y\n${Array.from({ length: 6 }, () => '0,0\n1,0\n0,1').join('\n')}\n`);
+    const { code, stdout } = await run('fit-matrix', '--input', path, '--k', 'auto', '--k-max', '3', '--covariance', 'full', '--json');
+    expect(code).toBe(0);
+    const result = JSON.parse(stdout);
+    expect(result.k).toBe(1);
+    expect(result.refusedFits.map((fit: { k: number }) => fit.k)).toEqual([2, 3]);
+    expect(result.refusedFits[0]).toMatchObject({ covariance: 'full', reason: expect.stringMatching(/held up by the regularisation floor/) });
+    const human = await run('fit-matrix', '--input', path, '--k', 'auto', '--k-max', '3', '--covariance', 'full');
+    expect(human.stdout).toMatch(/^2 .* refused: component \d of 2 is held up/m);
+  });
+
+  it('exits 2 saying what to change when every fit is refused, and warns about a refused fixed-k fit', async () => {
+    // Every row on the line y = 2x: no fit has spread across the line but the ridge.
+    const line = file('line.csv', `x,y\n${Array.from({ length: 30 }, (_, i) => `${i},${2 * i}`).join('\n')}\n`);
+    const auto = await run('fit-matrix', '--input', line, '--k', 'auto', '--k-max', '2', '--covariance', 'full');
+    expect(auto.code).toBe(2);
+    expect(auto.stderr).toMatch(/Every fit was refused: .* Try fewer components, other features, or a larger regularisation\./);
+    const fixed = await run('fit-matrix', '--input', line, '--k', '1', '--covariance', 'full', '--json');
+    expect(fixed.code).toBe(0);
+    expect(fixed.stderr).toMatch(/warning: this fit would be refused in a choice of k: component 1 of 1 is held up by the regularisation floor/);
   });
 
   it('caps --k auto at the largest k the rows support, and says so', async () => {
@@ -82,13 +107,13 @@ describe('spendmix fit-matrix', () => {
     const empty = file('empty.csv', '');
     const cases: [string[], RegExp][] = [
       [['--input', empty, '--k', '2', '--covariance', 'full'], /is empty/],
-      [['--input', faithfulCsv, '--k', '0', '--covariance', 'full'], /--k must be at least 1/],
-      [['--input', faithfulCsv, '--k', 'two', '--covariance', 'full'], /--k must be a whole number ≥ 1 or "auto"/],
-      [['--input', faithfulCsv, '--k', '2', '--covariance', 'round'], /Unknown covariance structure "round"/],
-      [['--input', faithfulCsv, '--k', '2'], /needs --covariance/],
+      [['--input', faithfulCsv, '--k', '0', '--covariance', 'full'], /\(k, --k\) must be at least 1 \(got 0\)/],
+      [['--input', faithfulCsv, '--k', 'two', '--covariance', 'full'], /\(k, --k\) must be a number or "auto" \(got "two"\)/],
+      [['--input', faithfulCsv, '--k', '2', '--covariance', 'round'], /\(covariance, --covariance\) must be one of full, diag, spherical, tied \(got "round"\)/],
+      [['--input', faithfulCsv, '--k', '2'], /\(covariance, --covariance\) is required/],
       [['--input', join(folder, 'nowhere.csv'), '--k', '2', '--covariance', 'full'], /Cannot read --input/],
-      [['--input', faithfulCsv, '--k', '2', '--covariance', 'full', '--init', 'best'], /Unknown --init "best"/],
-      [['--input', faithfulCsv, '--k', '2', '--covariance', 'full', '--k-max', '4'], /--k-max applies only with --k auto/],
+      [['--input', faithfulCsv, '--k', '2', '--covariance', 'full', '--init', 'best'], /\(init, --init\) must be one of mixed, hierarchical, kmeans, kmeans\+\+, random, random-partition \(got "best"\)/],
+      [['--input', faithfulCsv, '--k', '2', '--covariance', 'full', '--k-max', '4'], /\(kMax, --k-max\) applies only with k auto \(--k auto\)/],
       [['--input', faithfulCsv, '--k', '200', '--covariance', 'full'], /too few/],
     ];
     for (const [argv, message] of cases) {

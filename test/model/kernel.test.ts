@@ -3,6 +3,7 @@ import { emptyStatistics, expectationStep, expectationTerms } from '../../src/mo
 import { patternExpectationStep, groupByMissingPattern } from '../../src/model/missing.js';
 import { restartStream } from '../../src/model/random.js';
 import { fitMixture, type CovarianceType } from '../../src/model/index.js';
+import { fitSettings } from './support.js';
 
 /**
  * The unrolled per-dimension E-step kernel against the plain loop of the missing-value path
@@ -17,7 +18,7 @@ describe('E-step kernel', () => {
       const values = new Float64Array(rows * d);
       for (let i = 0; i < values.length; i++) values[i] = (i % 3) * 2 + random.float() * (1 + (i % d));
       for (const covarianceType of ['full', 'diag', 'spherical', 'tied'] as CovarianceType[]) {
-        const { model } = fitMixture({ values, rows, cols: d }, { components: 3, covarianceType, restarts: 1, maxIterations: 5 });
+        const { model } = fitMixture({ values, rows, cols: d }, { ...fitSettings, components: 3, covarianceType, restarts: 1, maxIterations: 5 });
         const fast = emptyStatistics(3, d, false, model.means);
         const fastSummary = expectationStep(values, rows, expectationTerms(model), fast, null);
         const plain = emptyStatistics(3, d, false, model.means);

@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { restartStream } from '../../src/model/random.js';
 import { fitMixture, imputeMissing, scoreRows, type DataMatrix, type MixtureModel } from '../../src/model/index.js';
-import { referenceData } from './support.js';
+import { fitSettings, referenceData } from './support.js';
 
 // Old Faithful: R's datasets::faithful (Azzalini & Bowman 1990).
 const faithful = referenceData('faithful');
@@ -32,12 +32,12 @@ function ordered(model: MixtureModel): number[] {
 }
 
 describe('missing values (EM over observed coordinates, Ghahramani & Jordan 1994)', () => {
-  const complete = fitMixture(faithful, { components: 2, covarianceType: 'full', restarts: 5 });
+  const complete = fitMixture(faithful, { ...fitSettings, components: 2, covarianceType: 'full', restarts: 5 });
   const holed = removeAtRandom(faithful, 0.1, 42);
-  const partial = fitMixture(holed, { components: 2, covarianceType: 'full', restarts: 5, missing: 'em' });
+  const partial = fitMixture(holed, { ...fitSettings, components: 2, covarianceType: 'full', restarts: 5, missing: 'em' });
 
   it('refuses NaN unless asked to fit missing values', () => {
-    expect(() => fitMixture(holed, { components: 2, covarianceType: 'full' })).toThrow(/NaN or infinite values/);
+    expect(() => fitMixture(holed, { ...fitSettings, components: 2, covarianceType: 'full' })).toThrow(/NaN or infinite values/);
   });
 
   it('with 10% of Old Faithful removed at random, stays close to the complete-data fit', () => {
@@ -88,15 +88,15 @@ describe('missing values (EM over observed coordinates, Ghahramani & Jordan 1994
   });
 
   it('is reproducible and reports a log-likelihood over observed values only', () => {
-    const again = fitMixture(holed, { components: 2, covarianceType: 'full', restarts: 5, missing: 'em' });
+    const again = fitMixture(holed, { ...fitSettings, components: 2, covarianceType: 'full', restarts: 5, missing: 'em' });
     expect(again.logLikelihood).toBe(partial.logLikelihood);
     expect(partial.logLikelihood).toBeGreaterThan(complete.logLikelihood); // fewer observed values, fewer density terms
   });
 
   it('works for every structure', () => {
     for (const covarianceType of ['diag', 'spherical', 'tied'] as const) {
-      const fit = fitMixture(holed, { components: 2, covarianceType, missing: 'em' });
-      const reference = fitMixture(faithful, { components: 2, covarianceType });
+      const fit = fitMixture(holed, { ...fitSettings, components: 2, covarianceType, missing: 'em' });
+      const reference = fitMixture(faithful, { ...fitSettings, components: 2, covarianceType });
       // Scored on the complete data, the partial-data model is nearly as good as the complete-data one.
       const scored = scoreRows(fit.model, faithful).logDensity.reduce((sum, value) => sum + value, 0) / faithful.rows;
       expect(reference.meanLogLikelihood - scored).toBeLessThan(0.03);

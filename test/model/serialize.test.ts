@@ -1,13 +1,13 @@
 import { describe, expect, it } from 'vitest';
 import { fitMixture, modelFromJSON, modelToJSON, scoreRows } from '../../src/model/index.js';
-import { referenceData, sameBits } from './support.js';
+import { fitSettings, referenceData, sameBits } from './support.js';
 
 const iris = referenceData('iris'); // Fisher (1936), R's datasets::iris
 
 describe('model JSON', () => {
   it('round-trips every number exactly, through text too', () => {
     for (const covarianceType of ['full', 'diag', 'spherical', 'tied'] as const) {
-      const model = fitMixture(iris, { components: 3, covarianceType }).model;
+      const model = fitMixture(iris, { ...fitSettings, components: 3, covarianceType }).model;
       const restored = modelFromJSON(JSON.parse(JSON.stringify(modelToJSON(model))));
       expect(restored.covarianceType).toBe(covarianceType);
       for (const key of ['weights', 'means', 'covariances', 'precisionCholesky'] as const) {
@@ -18,7 +18,7 @@ describe('model JSON', () => {
   });
 
   it('names what is wrong with a damaged model', () => {
-    const json = modelToJSON(fitMixture(iris, { components: 2, covarianceType: 'diag' }).model);
+    const json = modelToJSON(fitMixture(iris, { ...fitSettings, components: 2, covarianceType: 'diag' }).model);
     expect(() => modelFromJSON({ ...json, format: 'other' })).toThrow(/Not a Spendmix mixture model/);
     expect(() => modelFromJSON({ ...json, covarianceType: 'round' })).toThrow(/unknown covariance type "round"/);
     expect(() => modelFromJSON({ ...json, weights: [0.5] })).toThrow(/"weights" must be 2 finite numbers/);
@@ -26,7 +26,7 @@ describe('model JSON', () => {
   });
 
   it('accepts covariances symmetric only to rounding, refuses asymmetric or indefinite ones', () => {
-    const json = modelToJSON(fitMixture(iris, { components: 2, covarianceType: 'full' }).model);
+    const json = modelToJSON(fitMixture(iris, { ...fitSettings, components: 2, covarianceType: 'full' }).model);
     const withCovariance = (c: number, i: number, j: number, value: number) => {
       const covariances = json.covariances.map((matrix) => matrix.map((row) => [...row]));
       covariances[c][i][j] = value;

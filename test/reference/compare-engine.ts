@@ -38,7 +38,7 @@ for (const [name, dataset] of Object.entries(recorded.datasets)) {
       );
     }
     const reference = dataset.bicSweep.structures.find((entry) => entry.covariance === covarianceType)!;
-    const ourRows = sweep.table.filter((row) => row.covarianceType === covarianceType);
+    const ourRows = sweep.table.filter((row) => row.covariance === covarianceType);
     sweepLines.push(`${name.padEnd(9)} ${covarianceType.padEnd(10)} ${bicWinner(ourRows)} / ${reference.winnerK}           ours ${ourRows.map((row) => row.bic.toFixed(2)).join(' ')}`);
     sweepLines.push(`${''.padEnd(37)}sk   ${reference.table.map((row) => row.bic.toFixed(2)).join(' ')}`);
   }

@@ -11,7 +11,7 @@ const format = formattersFor('en-GB');
 
 function segment(index: number, spendRank: number, mean: number[], covariance: number[]): SegmentProfile {
   return {
-    segment: index, key: `s${index}`, name: `Tier ${spendRank}`, spendRank, customers: 10, share: 0.5, revenue: 100, revenueShare: 0.5,
+    segment: index, key: `s${index}`, name: `Tier ${spendRank}`, spendRank, origin: 'first', customers: 10, share: 0.5, revenue: 100, revenueShare: 0.5,
     profile: [], weight: 0.5, mean, covariance,
   };
 }
@@ -83,7 +83,7 @@ describe('Segments charts', () => {
 
 describe('Model, Certainty and Movement charts', () => {
   const row = (k: number, covariance: SweepRow['covariance'], bic: number, chosen = false): SweepRow => ({
-    k, covariance, logLikelihood: -bic / 2, bic, aic: bic, icl: bic + 10, parameterCount: k, converged: true, iterations: 5, warnings: [], chosen,
+    k, covariance, logLikelihood: -bic / 2, bic, aic: bic, icl: bic + 10, parameterCount: k, converged: true, iterations: 5, warnings: [], refused: null, chosen,
   });
 
   it('draws one criterion line per structure over k and rings the chosen fit', () => {
@@ -110,8 +110,8 @@ describe('Model, Certainty and Movement charts', () => {
 
   const movement: MovementResult = {
     runId: 2, parentRunId: 1,
-    parentSegments: [{ segment: 0, name: 'Tier 1' }, { segment: 1, name: 'Tier 2' }],
-    currentSegments: [{ segment: 0, name: 'Tier 1' }, { segment: 1, name: 'Tier 2' }],
+    parentSegments: [{ segment: 0, key: 'S1', name: 'Tier 1' }, { segment: 1, key: 'S2', name: 'Tier 2' }],
+    currentSegments: [{ segment: 0, key: 'S1', name: 'Tier 1' }, { segment: 1, key: 'S2', name: 'Tier 2' }],
     matrix: [[5, 1], [0, 7]], common: 13, entered: 2, left: 1, stability: 0.6, warnings: [], retired: [], added: [],
   };
 

@@ -1,11 +1,9 @@
 import { describe, expect, it } from 'vitest';
-import type { ModelOptions, RunSettings } from '../../src/api/contract.js';
+import { startRunInput, type ModelOptions, type RunSettings } from '../../src/api/contract.js';
 import { errorsFromIssues, formFromSettings, readNumber, toStartRunInput } from '../../renderer/src/lib/model-form.js';
 
-const defaults: RunSettings = {
-  asOf: '2026-11-30', windowMonths: 12, mode: 'refit', k: 'auto', kMin: 2, kMax: 8, covariance: 'auto', criterion: 'bic', restarts: 5, seed: 0,
-  borderlineConfidence: 0.7, borderlineMargin: 0.2, atypicalPercentile: 1, minPurchases: 2, minTenureMonths: 2,
-};
+/** What modelOptions sends: the schema's defaults. */
+const defaults: RunSettings = startRunInput.parse({ asOf: '2026-11-30' });
 const transform = (feature: string, log1p: boolean) => ({ feature, log1p, clipLowerPercentile: null, clipUpperPercentile: null, zScore: true });
 const options: ModelOptions = {
   features: [
@@ -25,8 +23,14 @@ describe('Model settings form', () => {
     ]);
     const { input, errors } = toStartRunInput(form);
     expect(errors).toEqual({});
-    expect(input).toMatchObject({ asOf: '2026-11-30', k: 'auto', kMin: 2, kMax: 8, covariance: 'auto', restarts: 5, borderlineConfidence: 0.7 });
-    expect(input.features).toEqual([transform('spend_per_month', true)]);
+    // Sent back through the schema, the form's input is the defaults again (with the feature chosen).
+    expect(startRunInput.parse(input)).toEqual({ ...defaults, features: [transform('spend_per_month', true)] });
+  });
+
+  it('keeps the settings it does not show (set on the command line or in a settings file)', () => {
+    const previous: RunSettings = { ...defaults, tol: 1e-5, maxIterations: 500, regularization: 1e-4, init: 'random', reviewMoversBelowConfidence: 0.9, freshCategories: ['bakery'] };
+    const { input } = toStartRunInput(formFromSettings(options, previous, '2026-11-30'));
+    expect(input).toMatchObject({ tol: 1e-5, maxIterations: 500, regularization: 1e-4, init: 'random', reviewMoversBelowConfidence: 0.9, freshCategories: ['bakery'] });
   });
 
   it('keeps a previous run\'s features, transforms and fixed k', () => {

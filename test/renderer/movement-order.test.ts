@@ -5,8 +5,8 @@ import { orderMovement, stayedCount } from '../../renderer/src/lib/movement-orde
 // Parent segments in model order 0 = Tier 2, 1 = Tier 1; current in model order 0 = Tier 1, 1 = Tier 2, 2 = new.
 const movement: MovementResult = {
   runId: 2, parentRunId: 1,
-  parentSegments: [{ segment: 0, name: 'Tier 2' }, { segment: 1, name: 'Tier 1' }],
-  currentSegments: [{ segment: 0, name: 'Weekly big baskets' }, { segment: 1, name: 'Tier 2' }, { segment: 2, name: 'Tier 3' }],
+  parentSegments: [{ segment: 0, key: 'S2', name: 'Tier 2' }, { segment: 1, key: 'S1', name: 'Tier 1' }],
+  currentSegments: [{ segment: 0, key: 'S1', name: 'Weekly big baskets' }, { segment: 1, key: 'S2', name: 'Tier 2' }, { segment: 2, key: 'S3', name: 'Tier 3' }],
   matrix: [
     [3, 40, 5],
     [20, 2, 0],

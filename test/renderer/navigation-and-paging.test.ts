@@ -1,16 +1,22 @@
 import { describe, expect, it } from 'vitest';
 import { formatLocation, parseLocation, screens } from '../../renderer/src/lib/navigation.js';
 import { pagesForRange, pagesToEvict } from '../../renderer/src/lib/paging.js';
+import { designScreens } from '../support/design-reference.js';
 
 describe('screen locations', () => {
-  it('keeps the seven screens in their order with our names', () => {
-    expect(screens.map((screen) => screen.title)).toEqual(['Sources', 'Model', 'Segments', 'Certainty', 'Review', 'Movement', 'Export']);
+  it('the side rail offers the screens of DESIGN.md §9, each once, in the design\'s order', () => {
+    expect(screens.map((screen) => screen.title)).toEqual([...designScreens]);
+    expect(new Set(screens.map((screen) => screen.id)).size).toBe(designScreens.length);
   });
 
-  it('round-trips screen and run through the hash', () => {
-    for (const screen of screens) {
-      expect(parseLocation(formatLocation(screen.id, 12))).toEqual({ screen: screen.id, runId: 12 });
-      expect(parseLocation(formatLocation(screen.id, null))).toEqual({ screen: screen.id, runId: null });
+  it('every screen of the design is reachable by its location, with or without a run, and stays there', () => {
+    for (const title of designScreens) {
+      const screen = screens.find((candidate) => candidate.title === title)!;
+      for (const runId of [12, null]) {
+        const location = formatLocation(screen.id, runId);
+        expect(parseLocation(location)).toEqual({ screen: screen.id, runId });
+        expect(formatLocation(parseLocation(location).screen, parseLocation(location).runId)).toBe(location);
+      }
     }
   });
 

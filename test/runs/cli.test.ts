@@ -1,18 +1,9 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { runCli } from '../../src/cli/program.js';
-import type { CliIo } from '../../src/cli/run-command.js';
+import { cli } from '../support/run-cli.js';
 import { demoDatabase, type DemoDatabase } from './demo-database.js';
 
 /** refresh, runs and review on the committed 500-customer demo sample, in-process through runCli. */
 let demo: DemoDatabase;
-
-async function cli(...argv: string[]): Promise<{ code: number; stdout: string; stderr: string }> {
-  let stdout = '';
-  let stderr = '';
-  const io: CliIo = { stdout: (text) => void (stdout += text), stderr: (text) => void (stderr += text) };
-  const code = await runCli(argv, io);
-  return { code, stdout, stderr };
-}
 
 beforeAll(async () => {
   demo = await demoDatabase('sample');

@@ -7,7 +7,7 @@
 import { mkdtempSync, readFileSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { generateDemoChain } from '../../demo-data/generator/index.js';
+import { generateDemoChain } from '../../src/demo/index.js';
 import { importFile } from '../../src/ingest/import-file.js';
 import { openDatabase, type Database } from '../../src/store/database.js';
 import { dayFromIsoDate } from '../../src/store/days.js';

@@ -4,23 +4,16 @@ import { transformValue, type FeatureTransform } from '../../src/features/transf
 import { adjustedRandIndex } from '../../src/model/agreement.js';
 import { modelFromJSON } from '../../src/model/serialize.js';
 import { scoreRows } from '../../src/model/score.js';
+import type { RunSummary, StartRunInput } from '../../src/api/contract.js';
 import { decodeFloat64 } from '../../src/runs/blobs.js';
-import {
-  decideReview,
-  getBorderline,
-  getMemberships,
-  getMovement,
-  getReviewQueue,
-  getRunDetail,
-  getSweepTable,
-  iterateRunCustomers,
-  listRuns,
-  listSegments,
-  renameSegment,
-} from '../../src/runs/repository.js';
-import { runSegmentation } from '../../src/runs/run.js';
-import type { RunSettings, RunSummary } from '../../src/runs/types.js';
+import { iterateRunCustomers } from '../../src/runs/read/export-customers.js';
+import { movementOf } from '../../src/runs/read/movement.js';
+import { listRuns } from '../../src/runs/read/runs-list.js';
+import { listSegments } from '../../src/runs/read/segments.js';
+import { storedRun } from '../../src/runs/read/stored-run.js';
+import { sweepTable } from '../../src/runs/read/sweep.js';
 import type { Database } from '../../src/store/database.js';
+import { allMemberships, borderline, decide, memberships, rename, reviewQueue, runMonth, wholeQueue } from '../support/core-calls.js';
 import { demoDatabase, type DemoDatabase } from './demo-database.js';
 
 /**
@@ -39,27 +32,28 @@ let movedCustomer: string;
 let moveTargetKey: string;
 let excludedCustomer: string;
 
-const base: RunSettings = { asOf: '2026-10-31', windowMonths: 12, mode: 'refit', k: 5, covariance: 'diag', parentRunId: null, seed: 3 };
+const base: StartRunInput = { asOf: '2026-10-31', windowMonths: 12, mode: 'refit', k: 5, covariance: 'diag', parentRunId: null, seed: 3 };
 
 function labelsOf(runId: number): Map<string, number | null> {
-  const page = getMemberships(db, runId, { limit: 10_000 });
-  return new Map(page.items.map((item) => [item.customerId, item.segment]));
+  return new Map(allMemberships(db, runId).map((item) => [item.customerId, item.segment]));
 }
+
+const segmentsOf = (runId: number) => listSegments(db, runId).segments;
 
 beforeAll(async () => {
   demo = await demoDatabase(3000);
   db = demo.db;
-  october = await runSegmentation(db, base);
+  october = await runMonth(db, base);
   // The analyst renames the top tier and decides on two queued customers before next month.
-  renameSegment(db, october.runId, listSegments(db, october.runId)[0].index, 'Premium baskets');
-  const queue = getReviewQueue(db, october.runId, { limit: 50 }).items.filter((item) => item.reasons.includes('borderline'));
+  rename(db, { runId: october.runId, segment: segmentsOf(october.runId)[0].segment, name: 'Premium baskets' });
+  const queue = reviewQueue(db, { runId: october.runId, limit: 50 }).rows.filter((item) => item.reasons.includes('borderline'));
   movedCustomer = queue[0].customerId;
-  moveTargetKey = listSegments(db, october.runId).find((segment) => segment.index === queue[0].secondSegment)!.key;
-  decideReview(db, { runId: october.runId, customerId: movedCustomer, action: 'move', segment: queue[0].secondSegmentName!, note: 'buys for a café', reviewer: 'tester' });
+  moveTargetKey = segmentsOf(october.runId).find((segment) => segment.segment === queue[0].secondSegment)!.key;
+  decide(db, { runId: october.runId, customerId: movedCustomer, action: 'move', segment: queue[0].secondSegmentName!, note: 'buys for a café', reviewer: 'tester' });
   excludedCustomer = queue[1].customerId;
-  decideReview(db, { runId: october.runId, customerId: excludedCustomer, action: 'exclude', reviewer: 'tester' });
-  november = await runSegmentation(db, { ...base, asOf: '2026-11-30', parentRunId: undefined });
-  octoberRescore = await runSegmentation(db, { ...base, mode: 'rescore', parentRunId: october.runId });
+  decide(db, { runId: october.runId, customerId: excludedCustomer, action: 'exclude', reviewer: 'tester' });
+  november = await runMonth(db, { ...base, asOf: '2026-11-30', parentRunId: undefined });
+  octoberRescore = await runMonth(db, { ...base, mode: 'rescore', parentRunId: october.runId });
 });
 
 afterAll(() => demo?.close());
@@ -93,12 +87,12 @@ describe('the run against the demo chain', () => {
       const largestProfile = [...profileCounts.get(premiumSegment)!.entries()].sort((a, b) => b[1] - a[1])[0][0];
       expect(largestProfile).toBe('premium');
       // …and it is the highest-spend tier.
-      expect(listSegments(db, run.runId)[0].index).toBe(premiumSegment);
+      expect(segmentsOf(run.runId)[0].segment).toBe(premiumSegment);
     }
   });
 
   it('flags agree with the stored posteriors and densities for every customer', () => {
-    const detail = getRunDetail(db, november.runId);
+    const detail = storedRun(db, november.runId);
     const row = db.prepare('SELECT model, atypical_log_density_below AS cut FROM runs WHERE run_id = ?').get(november.runId) as { model: string; cut: number };
     const model = modelFromJSON(JSON.parse(row.model));
     const stored = db
@@ -139,21 +133,21 @@ describe('the run against the demo chain', () => {
     const rescored = labelsOf(octoberRescore.runId);
     expect(rescored.size).toBe(original.size);
     for (const [customerId, segment] of original) expect(rescored.get(customerId)).toBe(segment);
-    expect(octoberRescore.segments.map((s) => s.name)).toEqual(listSegments(db, october.runId).map((s) => s.name));
+    expect(octoberRescore.segments.map((s) => s.name)).toEqual(segmentsOf(october.runId).map((s) => s.name));
     expect(octoberRescore.bic).toBeCloseTo(october.bic, 6);
     expect(octoberRescore.stability).toBe(1);
   });
 
   it('the same settings and seed give the same run', async () => {
-    const again = await runSegmentation(db, base);
+    const again = await runMonth(db, base);
     const first = labelsOf(october.runId);
     for (const [customerId, segment] of labelsOf(again.runId)) expect(segment).toBe(first.get(customerId));
     expect(again.bic).toBe(october.bic);
   });
 
   it('a refit on the next month keeps the names of matched segments, renames included', () => {
-    const before = new Map(listSegments(db, october.runId).map((segment) => [segment.key, segment.name]));
-    const after = listSegments(db, november.runId);
+    const before = new Map(segmentsOf(october.runId).map((segment) => [segment.key, segment.name]));
+    const after = segmentsOf(november.runId);
     const matched = after.filter((segment) => segment.origin === 'matched');
     expect(matched.length).toBeGreaterThanOrEqual(4);
     for (const segment of matched) expect(segment.name).toBe(before.get(segment.key));
@@ -162,7 +156,7 @@ describe('the run against the demo chain', () => {
   });
 
   it('the movement matrix sums to the customers placed in both months', () => {
-    const movement = getMovement(db, november.runId)!;
+    const movement = movementOf(db, november.runId);
     const parent = labelsOf(october.runId);
     const current = labelsOf(november.runId);
     let common = 0;
@@ -174,30 +168,30 @@ describe('the run against the demo chain', () => {
       else common++;
     }
     const left = [...parent].filter(([customerId, segment]) => segment !== null && (current.get(customerId) ?? null) === null).length;
-    expect(movement.counts.flat().reduce((a, b) => a + b, 0)).toBe(common);
+    expect(movement.matrix.flat().reduce((a, b) => a + b, 0)).toBe(common);
     expect(movement.common).toBe(common);
     expect(movement.entered).toBe(entered);
     expect(movement.left).toBe(left);
     expect(movement.parentSegments.map((s) => s.name)).toContain('Premium baskets');
-    expect(movement.adjustedRandIndex).toBeCloseTo(november.stability!, 12);
+    expect(movement.stability).toBeCloseTo(november.stability!, 12);
     expect(november.stability!).toBeGreaterThan(0.5);
   });
 
   it('review decisions survive a refresh and change the final segment', () => {
-    const octoberMoved = getMemberships(db, october.runId, { flag: 'decided', limit: 10 }).items;
+    const octoberMoved = memberships(db, { runId: october.runId, flag: 'decided', limit: 10 }).rows;
     expect(octoberMoved.map((item) => item.customerId).sort()).toEqual([movedCustomer, excludedCustomer].sort());
     const moved = octoberMoved.find((item) => item.customerId === movedCustomer)!;
     expect(moved.finalSegment).not.toBe(moved.segment);
     expect(moved.decision!.note).toBe('buys for a café');
 
-    const novemberDecided = new Map(getMemberships(db, november.runId, { flag: 'decided', limit: 10 }).items.map((item) => [item.customerId, item]));
+    const novemberDecided = new Map(memberships(db, { runId: november.runId, flag: 'decided', limit: 10 }).rows.map((item) => [item.customerId, item]));
     const excluded = novemberDecided.get(excludedCustomer)!;
     expect(excluded.excluded).toBe(true);
     expect(excluded.decision!.carriedFromRunId).toBe(october.runId);
     const carriedMove = novemberDecided.get(movedCustomer);
-    const targetInNovember = listSegments(db, november.runId).find((segment) => segment.key === moveTargetKey);
+    const targetInNovember = segmentsOf(november.runId).find((segment) => segment.key === moveTargetKey);
     if (targetInNovember && carriedMove) {
-      expect(carriedMove.finalSegment).toBe(targetInNovember.index);
+      expect(carriedMove.finalSegment).toBe(targetInNovember.segment);
       expect(carriedMove.finalSegmentName).toBe(targetInNovember.name);
     }
     // The export sees the same final segments.
@@ -209,31 +203,31 @@ describe('the run against the demo chain', () => {
 
 describe('reading a run', () => {
   it('pages memberships with sorting and filters', () => {
-    const page = getMemberships(db, november.runId, { sort: 'revenue', descending: true, limit: 20, offset: 5 });
-    expect(page.items).toHaveLength(20);
+    const page = memberships(db, { runId: november.runId, sortBy: 'revenue', descending: true, limit: 20, offset: 5 });
+    expect(page.rows).toHaveLength(20);
     expect(page.total).toBe(november.customers + november.tooNew);
-    const revenues = page.items.map((item) => item.revenue);
+    const revenues = page.rows.map((item) => item.revenue);
     expect([...revenues].sort((a, b) => b - a)).toEqual(revenues);
-    const tooNew = getMemberships(db, november.runId, { flag: 'tooNew', limit: 5 });
+    const tooNew = memberships(db, { runId: november.runId, flag: 'tooNew', limit: 5 });
     expect(tooNew.total).toBe(november.tooNew);
-    expect(tooNew.items.every((item) => item.segment === null && item.tooNew)).toBe(true);
-    const segment = listSegments(db, november.runId)[2];
-    expect(getMemberships(db, november.runId, { segment: segment.index }).total).toBe(segment.customers);
+    expect(tooNew.rows.every((item) => item.segment === null && item.tooNew)).toBe(true);
+    const segment = segmentsOf(november.runId)[2];
+    expect(memberships(db, { runId: november.runId, segment: segment.segment }).total).toBe(segment.customers);
   });
 
   it('lists borderline customers by spend at stake with a why in words, and the review queue with last month', () => {
-    const borderline = getBorderline(db, november.runId, { limit: 30 });
-    expect(borderline.total).toBe(november.borderline);
-    for (const item of borderline.items) {
+    const page = borderline(db, { runId: november.runId, limit: 30 });
+    expect(page.total).toBe(november.borderline);
+    for (const item of page.rows) {
       expect(item.why.method).toBe('exact');
       expect(item.why.text).toMatch(/fits|common segment|about equally/);
     }
-    const queue = getReviewQueue(db, november.runId, { limit: 100 });
+    const queue = reviewQueue(db, { runId: november.runId, limit: 100 });
     expect(queue.total).toBeGreaterThanOrEqual(november.borderline);
-    const stakes = queue.items.map((item) => item.revenue);
+    const stakes = queue.rows.map((item) => item.revenue);
     expect([...stakes].sort((a, b) => b - a)).toEqual(stakes);
-    expect(queue.items.some((item) => item.previousSegmentName !== null)).toBe(true);
-    expect(queue.items[0].featureComparison.map((row) => row.feature)).toEqual(['spend_per_month', 'visits_per_month', 'average_basket']);
+    expect(queue.rows.some((item) => item.previousSegmentName !== null)).toBe(true);
+    expect(queue.rows[0].featureComparison.map((row) => row.feature)).toEqual(['spend_per_month', 'visits_per_month', 'average_basket']);
   });
 
   it('streams every customer with consent and features in original units', () => {
@@ -253,11 +247,12 @@ describe('reading a run', () => {
   });
 
   it('chooses k and structure by BIC over a sweep and stores the table', async () => {
-    const swept = await runSegmentation(db, { ...base, k: 'auto', kMin: 2, kMax: 3, covariance: 'auto', restarts: 1 });
-    const table = getSweepTable(db, swept.runId);
+    const swept = await runMonth(db, { ...base, k: 'auto', kMin: 2, kMax: 3, covariance: 'auto', restarts: 1 });
+    const table = sweepTable(db, swept.runId);
     expect(table).toHaveLength(8);
     const best = table.reduce((a, b) => (b.bic < a.bic ? b : a));
-    expect([swept.k, swept.covariance]).toEqual([best.k, best.covarianceType]);
+    expect([swept.k, swept.covariance]).toEqual([best.k, best.covariance]);
+    expect(table.filter((row) => row.chosen)).toEqual([best]);
     expect(swept.bic).toBeCloseTo(best.bic, 6);
   });
 });
@@ -265,13 +260,13 @@ describe('reading a run', () => {
 describe('options of a run', () => {
   it('queues low-confidence movers when asked, and reports progress by phase', async () => {
     const phases = new Set<string>();
-    const withMovers = await runSegmentation(
+    const withMovers = await runMonth(
       db,
       { ...base, asOf: '2026-11-30', parentRunId: october.runId, reviewMoversBelowConfidence: 0.95 },
       { onProgress: (progress) => phases.add(progress.phase) },
     );
     expect([...phases]).toEqual(['features', 'transform', 'fit', 'score', 'profiles', 'movement', 'store']);
-    const movers = getReviewQueue(db, withMovers.runId, { limit: 10_000 }).items.filter((item) => item.reasons.includes('mover'));
+    const movers = wholeQueue(db, withMovers.runId).filter((item) => item.reasons.includes('mover'));
     expect(movers.length).toBeGreaterThan(0);
     for (const item of movers) {
       expect(item.confidence!).toBeLessThan(0.95);
@@ -283,26 +278,26 @@ describe('options of a run', () => {
     const runsBefore = listRuns(db).length;
     const controller = new AbortController();
     controller.abort();
-    await expect(runSegmentation(db, base, { signal: controller.signal })).rejects.toBeInstanceOf(CancelledError);
+    await expect(runMonth(db, base, { signal: controller.signal })).rejects.toBeInstanceOf(CancelledError);
     expect(listRuns(db).length).toBe(runsBefore);
   });
 
   it('segment names stay unique within a run', () => {
-    const [first, second] = listSegments(db, november.runId);
-    expect(() => renameSegment(db, november.runId, second.key, first.name)).toThrow(/already has a segment named/);
-    expect(() => renameSegment(db, november.runId, 'S999', 'Anything')).toThrow(/has no segment "S999"/);
-    expect(() => renameSegment(db, november.runId, first.index, '   ')).toThrow(/cannot be empty/);
-    expect(renameSegment(db, november.runId, second.name, 'Weekly shop').name).toBe('Weekly shop');
-    expect(getMovement(db, november.runId)!.currentSegments.map((segment) => segment.name)).toContain('Weekly shop');
+    const [first, second] = segmentsOf(november.runId);
+    expect(() => rename(db, { runId: november.runId, segment: second.key, name: first.name })).toThrow(/already has a segment named/);
+    expect(() => rename(db, { runId: november.runId, segment: 'S999', name: 'Anything' })).toThrow(/has no segment "S999"/);
+    expect(() => rename(db, { runId: november.runId, segment: first.segment, name: '   ' })).toThrow(/the new name \(name, --name\) must not be empty/);
+    expect(rename(db, { runId: november.runId, segment: second.name, name: 'Weekly shop' }).name).toBe('Weekly shop');
+    expect(movementOf(db, november.runId).currentSegments.map((segment) => segment.name)).toContain('Weekly shop');
   });
 });
 
 describe('bad input stores nothing', () => {
-  async function refusal(settings: RunSettings): Promise<string> {
+  async function refusal(settings: StartRunInput): Promise<string> {
     const runsBefore = listRuns(db).length;
     const rowsBefore = db.prepare('SELECT count(*) FROM run_memberships').pluck().get();
     try {
-      await runSegmentation(db, settings);
+      await runMonth(db, settings);
     } catch (error) {
       expect(isInputError(error)).toBe(true);
       expect(listRuns(db).length).toBe(runsBefore);
@@ -334,8 +329,8 @@ describe('bad input stores nothing', () => {
     db.exec(`SAVEPOINT imported;
       INSERT INTO customer_features (customer_id, feature, value) SELECT customer_id, 'loyalty_points', length(customer_id) * (rowid % 97) FROM customers`);
     try {
-      const imported = await runSegmentation(db, { ...base, source: 'imported', k: 2 });
-      expect(getRunDetail(db, imported.runId).features).toEqual(['loyalty_points']);
+      const imported = await runMonth(db, { ...base, source: 'imported', k: 2 });
+      expect(storedRun(db, imported.runId).features).toEqual(['loyalty_points']);
       expect(await refusal({ ...base, asOf: '2026-11-30', parentRunId: imported.runId })).toMatch(
         /uses the feature loyalty_points, which the new data does not have/,
       );
@@ -346,7 +341,7 @@ describe('bad input stores nothing', () => {
 
   it('refuses a rescore without a parent and unknown settings', async () => {
     expect(await refusal({ ...base, mode: 'rescore', parentRunId: null })).toMatch(/no earlier run/);
-    expect(await refusal({ ...base, features: ['shoe_size'] })).toMatch(/Unknown feature shoe_size/);
+    expect(await refusal({ ...base, features: [{ feature: 'shoe_size' }] })).toMatch(/Unknown feature shoe_size/);
     expect(await refusal({ ...base, asOf: '2026-02-30' })).toMatch(/calendar date/);
     expect(await refusal({ ...base, parentRunId: 999 })).toMatch(/no run 999/);
   });

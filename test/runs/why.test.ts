@@ -4,7 +4,7 @@ import { scoreRows } from '../../src/model/score.js';
 import type { CovarianceType } from '../../src/model/types.js';
 import { explainBorderline, whyText } from '../../src/runs/why.js';
 import { fitMixture } from '../../src/model/em.js';
-import { referenceData } from '../model/support.js';
+import { fitSettings, referenceData } from '../model/support.js';
 
 function model(covarianceType: CovarianceType, covariances: number[][][]) {
   return modelFromJSON({
@@ -94,7 +94,7 @@ describe('borderline why', () => {
   it('Shapley terms plus the prior equal the log posterior odds on a fitted 4-feature model', () => {
     // Fisher's iris (R's datasets::iris), full covariances: its four measurements are correlated.
     const iris = referenceData('iris');
-    const fitted = fitMixture(iris, { components: 3, covarianceType: 'full', restarts: 1 }).model;
+    const fitted = fitMixture(iris, { ...fitSettings, components: 3, covarianceType: 'full', restarts: 1 }).model;
     const scored = scoreRows(fitted, iris);
     const irisFeatures = ['spend_per_month', 'visits_per_month', 'average_basket', 'fresh_share'];
     for (const row of [0, 60, 77, 120, 133]) {

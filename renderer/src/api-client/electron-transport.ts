@@ -21,6 +21,8 @@ export function electronTransport(bridge: SpendmixBridge): Transport {
         if (!path) throw new ApiCallError({ kind: 'input', message: `"${file.name}" has no path on disk; save it to a folder first.` });
         return path;
       },
+      // The export is already at the path the user chose in the save dialog.
+      deliverExport: async () => undefined,
       onMenuCommand: (listener) => bridge.onMenuCommand(listener),
     },
   };

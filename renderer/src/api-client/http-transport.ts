@@ -86,6 +86,28 @@ export function httpTransport(token: string): Transport {
         if (!outcome.ok) throw new ApiCallError(outcome.error);
         return outcome.value.path;
       },
+      deliverExport: async ({ out }) => {
+        // Fetched with the token in a header (not in an address the browser would keep in its
+        // download history), then saved under the export's own file name.
+        let response: Response;
+        try {
+          response = await fetch(`/api/download?path=${encodeURIComponent(out)}`, { headers: { [tokenHeader]: token } });
+        } catch (error) {
+          throw new ApiCallError({ kind: 'internal', message: `Downloading the export failed: ${(error as Error).message}` });
+        }
+        if (!response.ok) {
+          const outcome = await readOutcome(response);
+          throw new ApiCallError(outcome.ok ? { kind: 'internal', message: `The host answered ${response.status}.` } : outcome.error);
+        }
+        const link = document.createElement('a');
+        link.href = URL.createObjectURL(await response.blob());
+        link.download = out.split(/[\\/]/).pop() ?? 'spendmix-export';
+        document.body.append(link);
+        link.click();
+        link.remove();
+        // The browser has taken its copy once the click has been handled.
+        setTimeout(() => URL.revokeObjectURL(link.href), 60_000);
+      },
       // The browser has no application menu.
       onMenuCommand: () => () => undefined,
     },

@@ -16,6 +16,9 @@ export interface FeatureChoice {
   zScore: boolean;
 }
 
+/** Settings the form does not show (set from the command line or a settings file): kept as they were. */
+export type CarriedSettings = Pick<RunSettings, 'tol' | 'maxIterations' | 'regularization' | 'init' | 'reviewMoversBelowConfidence' | 'freshCategories' | 'source'>;
+
 export interface ModelForm {
   asOf: string;
   windowMonths: string;
@@ -35,9 +38,10 @@ export interface ModelForm {
   atypicalPercentile: string;
   minPurchases: string;
   minTenureMonths: string;
+  carried: CarriedSettings;
 }
 
-const text = (value: number | undefined, fallback: number) => String(value ?? fallback);
+const text = (value: number) => String(value);
 
 /** The form filled with the core's defaults (or a previous run's settings) for a given as-of date. */
 export function formFromSettings(options: ModelOptions, settings: RunSettings, asOf: string): ModelForm {
@@ -58,22 +62,31 @@ export function formFromSettings(options: ModelOptions, settings: RunSettings, a
   });
   return {
     asOf,
-    windowMonths: text(settings.windowMonths, 12),
+    windowMonths: text(settings.windowMonths),
     mode: settings.mode,
     features,
     kMode: settings.k === 'auto' ? 'auto' : 'fixed',
     k: settings.k === 'auto' ? '4' : String(settings.k),
-    kMin: text(settings.kMin, 1),
-    kMax: text(settings.kMax, 8),
+    kMin: text(settings.kMin),
+    kMax: text(settings.kMax),
     covariance: settings.covariance,
     criterion: settings.criterion,
-    restarts: text(settings.restarts, 5),
-    seed: text(settings.seed, 0),
-    borderlineConfidence: text(settings.borderlineConfidence, 0.7),
-    borderlineMargin: text(settings.borderlineMargin, 0.2),
-    atypicalPercentile: text(settings.atypicalPercentile, 1),
-    minPurchases: text(settings.minPurchases, 2),
-    minTenureMonths: text(settings.minTenureMonths, 2),
+    restarts: text(settings.restarts),
+    seed: text(settings.seed),
+    borderlineConfidence: text(settings.borderlineConfidence),
+    borderlineMargin: text(settings.borderlineMargin),
+    atypicalPercentile: text(settings.atypicalPercentile),
+    minPurchases: text(settings.minPurchases),
+    minTenureMonths: text(settings.minTenureMonths),
+    carried: {
+      tol: settings.tol,
+      maxIterations: settings.maxIterations,
+      regularization: settings.regularization,
+      init: settings.init,
+      reviewMoversBelowConfidence: settings.reviewMoversBelowConfidence,
+      freshCategories: settings.freshCategories,
+      source: settings.source,
+    },
   };
 }
 
@@ -114,6 +127,7 @@ export function toStartRunInput(form: ModelForm): { input: ApiInput<'startRun'>;
     });
   if (features.length === 0) errors.features = 'choose at least one feature';
   const input: ApiInput<'startRun'> = {
+    ...form.carried,
     asOf: form.asOf,
     windowMonths: number('windowMonths'),
     mode: form.mode,

@@ -3,7 +3,8 @@
  * export-min-confidence, export-include-reviewed, export-format, export-csv-dialect,
  * export-csv-raw-ids, export-csv-raw-ids-warning, export-path, export-choose-path,
  * export-start, export-task (with -bar, -cancel, -dismiss), export-result, export-count-exported,
- * export-count-suppressed, export-upper-bound, export-no-run.
+ * export-count-suppressed, export-upper-bound, export-no-run, export-download (browser: the
+ * download's state, data-state="saving|saved|failed").
  */
 import { useEffect, useMemo, useState } from 'react';
 import type { CsvDialect, ExportResult } from '../../../src/api/contract.js';
@@ -48,9 +49,21 @@ function ExportForm({ runId }: { runId: number }) {
   const [fileFormat, setFileFormat] = useState<'xlsx' | 'csv'>('xlsx');
   const [csvDialect, setCsvDialect] = useState<CsvDialect>('comma');
   const [csvRawIds, setCsvRawIds] = useState(false);
-  const folder = database?.path ? database.path.replace(/[^\\/]*$/, '') : '';
+  // In the browser the host writes the export into its session folder and the browser downloads
+  // it, so the field is a file name; in the desktop app it is the path the file is written to.
+  const inBrowser = client.shell.kind === 'browser';
+  const folder = !inBrowser && database?.path ? database.path.replace(/[^\\/]*$/, '') : '';
   const [out, setOut] = useState(`${folder}${defaultFileName(runId, 'xlsx')}`);
-  const task = useTask<'exportRun'>();
+  const [download, setDownload] = useState<{ state: 'saving' | 'saved' | 'failed'; message: string } | null>(null);
+  const task = useTask<'exportRun'>((result) => {
+    if (!inBrowser) return;
+    const name = result.out.split(/[\\/]/).pop() ?? result.out;
+    setDownload({ state: 'saving', message: `Downloading ${name}…` });
+    client.shell.deliverExport(result).then(
+      () => setDownload({ state: 'saved', message: `Downloaded ${name} to your browser's downloads.` }),
+      (error: unknown) => setDownload({ state: 'failed', message: `The download failed: ${(error as Error).message}. Export again to retry.` }),
+    );
+  });
 
   // Every segment is chosen again whenever the segments (and so their names) are re-read.
   useEffect(() => setChosen(new Set(ordered.map((segment) => segment.name))), [segments]);
@@ -68,7 +81,8 @@ function ExportForm({ runId }: { runId: number }) {
     if (path) setOut(path);
   };
 
-  const start = () =>
+  const start = () => {
+    setDownload(null);
     task.start(() =>
       api.exportRun({
         runId,
@@ -81,6 +95,7 @@ function ExportForm({ runId }: { runId: number }) {
         csvRawIds,
       }),
     );
+  };
 
   const running = task.view.state === 'running' || task.view.state === 'starting';
   return (
@@ -125,7 +140,7 @@ function ExportForm({ runId }: { runId: number }) {
             </select>
           </label>
           <label className="path-field">
-            save to
+            {inBrowser ? 'file name (downloaded by your browser)' : 'save to'}
             <span className="path-row">
               <input value={out} onChange={(e) => setOut(e.target.value)} spellCheck={false} data-testid="export-path" />
               {client.shell.kind === 'electron' ? (
@@ -175,9 +190,15 @@ function ExportForm({ runId }: { runId: number }) {
         onDismiss={task.dismiss}
         describeResult={(result) => (
           <div data-testid="export-result">
-            <p>
-              Wrote <code>{result.out}</code> ({result.sheets.join(', ')}).
-            </p>
+            {inBrowser ? (
+              <p data-testid="export-download" data-state={download?.state ?? 'saving'} className={download?.state === 'failed' ? 'problem' : undefined}>
+                {download?.message ?? 'Downloading…'} ({result.sheets.length > 0 ? result.sheets.join(', ') : 'CSV list'})
+              </p>
+            ) : (
+              <p>
+                Wrote <code>{result.out}</code> ({result.sheets.join(', ')}).
+              </p>
+            )}
             <div className="stat-row">
               <div className="stat">
                 <span className="stat-value" data-testid="export-count-exported">{format.count(result.customersExported)}</span>

@@ -1,24 +1,16 @@
-import {
-  DEFAULT_CUSTOMERS,
-  DEFAULT_SEED,
-  MAX_CUSTOMERS,
-  generateDemoChain,
-  type DemoChainResult,
-} from '../../../demo-data/generator/index.js';
-import { mkdtempSync, rmSync } from 'node:fs';
-import { tmpdir } from 'node:os';
-import { join, resolve } from 'node:path';
+import { parseInput } from '../../api/api-errors.js';
+import { demoFilesInput, type ApiInput } from '../../api/contract.js';
+import { generateDemoChain, type DemoChainResult } from '../../demo/index.js';
 import { InputError } from '../../errors.js';
-import { demoDatabaseSummary, loadDemoFiles, type DemoDatabaseJson } from '../../ingest/load-demo.js';
-import { openDatabase } from '../../store/database.js';
-import { parseInteger, runCommand, type RegisterCommand } from '../run-command.js';
+import { withApi } from '../api-client.js';
+import { runCommand, type RegisterCommand } from '../run-command.js';
+import { addSchemaOptions, inputFromFlags, schemaOptions } from '../schema-options.js';
 
 interface DemoOptions {
   out?: string;
   db?: string;
-  customers: number;
-  seed: number;
   json?: boolean;
+  [flag: string]: unknown;
 }
 
 /** What `demo --json` prints (DESIGN.md §10). */
@@ -31,20 +23,35 @@ export interface DemoJson {
 
 const count = (value: number) => value.toLocaleString('en-GB');
 
-/** `spendmix demo --out DIR`: writes the invented Larkmoor Fresh Markets chain as CSV files. */
+const chainFlags = schemaOptions(demoFilesInput.shape, ['out']);
+
+function describeFiles(result: DemoChainResult): string {
+  return [
+    `Wrote the Larkmoor Fresh Markets demo to ${result.dir}`,
+    `  ${count(result.customers)} customers, ${count(result.receipts)} receipts (${count(result.receiptRows)} department rows, ${count(result.refunds)} refunds), ${count(result.visits)} visits`,
+    `  seed ${result.seed}: the same seed and customer count give the same files`,
+    '  truth.csv is for tests only; import receipts.csv, visits.csv and customers.csv',
+  ].join('\n');
+}
+
+/**
+ * `spendmix demo --out DIR`: writes the invented Larkmoor Fresh Markets chain as CSV files (a
+ * command-line tool: files on this machine). `demo --db FILE`: the app's demo load, through the
+ * API; with --out as well the same files are also written to DIR.
+ */
 export const registerDemo: RegisterCommand = (program, io, setExitCode) => {
-  program
+  const command = program
     .command('demo')
-    .description('Write the invented Larkmoor Fresh Markets demo chain (16 stores, 2025-01-01 to 2026-11-30) as CSV files.')
+    .description('Write the invented Larkmoor Fresh Markets demo chain (16 stores, 2025-01-01 to 2026-11-30) as CSV files, or load it into a database.')
     .option('--out <dir>', 'folder for the files; created when missing, must be empty or hold only an earlier demo')
-    .option('--db <file>', 'load the demo into this database (created when missing) through the importer; files go to a temporary folder unless --out is given')
-    .option('--customers <n>', `number of customers, 1 to ${count(MAX_CUSTOMERS)}`, parseInteger('--customers', 1, MAX_CUSTOMERS), DEFAULT_CUSTOMERS)
-    .option('--seed <n>', 'seed of the generator; the same seed and customer count give the same files', parseInteger('--seed', 0, 0xffffffff), DEFAULT_SEED)
-    .option('--json', 'print one JSON object {dir, customers, receipts, visits}; receipts counts distinct receipts, not department rows')
+    .option('--db <file>', 'load the demo into this database (created when missing) through the importer');
+  addSchemaOptions(command, chainFlags)
+    .option('--json', 'print one JSON object {dir, customers, receipts, visits} (with --db: {db, customers, receipts, visits})')
     .addHelpText(
       'after',
       [
         '',
+        'In the JSON, receipts counts distinct receipts, not department rows.',
         'Files written: receipts.csv (one row per receipt and department; refunds are negative),',
         'visits.csv (store and online visits, with or without a purchase), customers.csv, stores.csv,',
         'truth.csv (each customer\'s latent profile, for tests only) and manifest.json (seed and counts).',
@@ -54,56 +61,48 @@ export const registerDemo: RegisterCommand = (program, io, setExitCode) => {
     .action(async (options: DemoOptions) => {
       const json = Boolean(options.json);
       setExitCode(
-        await runCommand<DemoJson | DemoDatabaseJson>(io, json, async () => {
+        await runCommand<unknown>(io, json, async () => {
           if (options.out === undefined && options.db === undefined) {
             throw new InputError('demo needs --out DIR (the folder to write the demo files into) or --db FILE (a database to load it into).');
           }
+          const chain = inputFromFlags(chainFlags, options);
           const showProgress = !json && process.stderr.isTTY;
-          const outDir = options.out ?? mkdtempSync(join(tmpdir(), 'spendmix-demo-'));
-          const generationStarted = performance.now();
-          const result = await generateDemoChain({
-            outDir,
-            customers: options.customers,
-            seed: options.seed,
-            onProgress: showProgress
-              ? ({ month, monthsDone, months }) => io.stderr(`\rwriting ${month} (${monthsDone} of ${months} months)${monthsDone === months ? '\n' : ''}`)
-              : undefined,
-          });
-          if (options.db !== undefined) {
-            const generationSeconds = (performance.now() - generationStarted) / 1000;
-            const importStarted = performance.now();
-            const db = openDatabase(options.db);
-            try {
-              await loadDemoFiles(db, result.files);
-              const { receiptRows, ...summary } = demoDatabaseSummary(db, resolve(options.db));
-              const importSeconds = (performance.now() - importStarted) / 1000;
-              return {
-                result: summary,
-                human: () =>
-                  `Loaded the Larkmoor Fresh Markets demo into ${summary.db}\n` +
-                  `  ${count(summary.customers)} customers, ${count(summary.receipts)} receipts (${count(receiptRows)} department rows), ${count(summary.visits)} visits\n` +
-                  `  generation ${generationSeconds.toFixed(1)} s, import ${importSeconds.toFixed(1)} s`,
-              };
-            } finally {
-              db.close();
-              if (options.out === undefined) rmSync(outDir, { recursive: true, force: true });
-            }
+          let files: DemoChainResult | undefined;
+          if (options.out !== undefined) {
+            const settings = parseInput('demo', demoFilesInput, { ...chain, out: options.out });
+            files = await generateDemoChain({
+              outDir: settings.out,
+              customers: settings.customers,
+              seed: settings.seed,
+              onProgress: showProgress
+                ? ({ month, monthsDone, months }) => io.stderr(`\rwriting ${month} (${monthsDone} of ${months} months)${monthsDone === months ? '\n' : ''}`)
+                : undefined,
+            });
           }
-          return { result: demoJson(result), human: () => describe(result) };
+          if (options.db === undefined) {
+            const { dir, customers, receipts, visits } = files!;
+            return { result: { dir, customers, receipts, visits } satisfies DemoJson, human: () => describeFiles(files!) };
+          }
+          // The app's demo load, with the size and seed the flags give (or the demo's defaults).
+          const phaseStarted = new Map<string, number>();
+          const loaded = await withApi(options.db, (api) =>
+            api.run('loadDemo', chain as ApiInput<'loadDemo'>, (progress) => {
+              if (!phaseStarted.has(progress.phase.split(' ')[0])) phaseStarted.set(progress.phase.split(' ')[0], performance.now());
+              if (showProgress) io.stderr(`\r${progress.message}\x1b[K`);
+            }),
+          );
+          if (showProgress) io.stderr('\n');
+          const generation = ((phaseStarted.get('importing') ?? performance.now()) - (phaseStarted.get('generating') ?? performance.now())) / 1000;
+          const load = (performance.now() - (phaseStarted.get('importing') ?? performance.now())) / 1000;
+          const { receiptRows, ...summary } = loaded;
+          return {
+            result: summary,
+            human: () =>
+              `Loaded the Larkmoor Fresh Markets demo into ${summary.db}\n` +
+              `  ${count(summary.customers)} customers, ${count(summary.receipts)} receipts (${count(receiptRows)} department rows), ${count(summary.visits)} visits\n` +
+              `  generation ${generation.toFixed(1)} s, import ${load.toFixed(1)} s`,
+          };
         }),
       );
     });
 };
-
-function demoJson(result: DemoChainResult): DemoJson {
-  return { dir: result.dir, customers: result.customers, receipts: result.receipts, visits: result.visits };
-}
-
-function describe(result: DemoChainResult): string {
-  return [
-    `Wrote the Larkmoor Fresh Markets demo to ${result.dir}`,
-    `  ${count(result.customers)} customers, ${count(result.receipts)} receipts (${count(result.receiptRows)} department rows, ${count(result.refunds)} refunds), ${count(result.visits)} visits`,
-    `  seed ${result.seed}: the same seed and customer count give the same files`,
-    '  truth.csv is for tests only; import receipts.csv, visits.csv and customers.csv',
-  ].join('\n');
-}

@@ -1,9 +1,9 @@
 import { closeSync, openSync, readFileSync, writeSync } from 'node:fs';
+import { parseInput } from '../../api/api-errors.js';
+import { FIT_MATRIX_DEFAULT_K_MAX, fitMatrixInput } from '../../api/contract.js';
 import { InputError } from '../../errors.js';
 import {
-  covarianceTypes,
   fitMixtureParallel,
-  initMethods,
   membershipsHeader,
   membershipsLines,
   parameterCount,
@@ -13,25 +13,10 @@ import {
   type CovarianceType,
   type FitProgress,
   type FitResult,
-  type InitMethod,
   type SweepRow,
 } from '../../model/index.js';
-import { parseInteger, parseNumber, runCommand, type RegisterCommand } from '../run-command.js';
-
-interface FitMatrixOptions {
-  input?: string;
-  k?: string;
-  kMax?: number;
-  covariance?: string;
-  restarts: number;
-  seed: number;
-  tol: number;
-  maxIter: number;
-  reg: number;
-  init: string;
-  memberships?: string;
-  json?: boolean;
-}
+import { runCommand, type RegisterCommand } from '../run-command.js';
+import { addSchemaOptions, inputFromFlags, schemaOptions } from '../schema-options.js';
 
 /** What `fit-matrix --json` prints (DESIGN.md §10). */
 export interface FitMatrixJson {
@@ -53,37 +38,16 @@ export interface FitMatrixJson {
   iterations: number;
   /** Wall time of the fit alone (not reading the file or writing memberships). */
   seconds: number;
+  /** With --k auto: the fits refused for model choice (a collapsed component), with the reason. */
+  refusedFits?: { k: number; covariance: CovarianceType; reason: string }[];
 }
 
-const DEFAULT_K_MAX = 8;
-
-function parseK(raw: string | undefined): number | 'auto' {
-  if (raw === undefined) throw new InputError('fit-matrix needs --k N (a whole number ≥ 1) or --k auto.');
-  if (raw.trim().toLowerCase() === 'auto') return 'auto';
-  if (!/^-?\d+$/.test(raw.trim())) throw new InputError(`--k must be a whole number ≥ 1 or "auto"; got "${raw}".`);
-  const k = Number(raw);
-  if (k < 1) throw new InputError(`--k must be at least 1; got ${k}.`);
-  return k;
-}
 
 /** The largest k ≤ kMax whose model has fewer free parameters than there are rows (at least 1). */
 function largestFittableK(kMax: number, rows: number, cols: number, covarianceType: CovarianceType): number {
   let k = kMax;
   while (k > 1 && parameterCount(k, cols, covarianceType) >= rows) k--;
   return k;
-}
-
-function parseCovariance(raw: string | undefined): CovarianceType {
-  if (raw === undefined) throw new InputError(`fit-matrix needs --covariance ${covarianceTypes.join('|')}.`);
-  if (!covarianceTypes.includes(raw as CovarianceType)) {
-    throw new InputError(`Unknown covariance structure "${raw}"; use one of ${covarianceTypes.join(', ')}.`);
-  }
-  return raw as CovarianceType;
-}
-
-function parseInit(raw: string): InitMethod {
-  if (!initMethods.includes(raw as InitMethod)) throw new InputError(`Unknown --init "${raw}"; use one of ${initMethods.join(', ')}.`);
-  return raw as InitMethod;
 }
 
 function nested(values: Float64Array, ...shape: number[]): unknown[] {
@@ -95,7 +59,7 @@ function nested(values: Float64Array, ...shape: number[]): unknown[] {
   });
 }
 
-function toJson(fit: FitResult, n: number, seconds: number): FitMatrixJson {
+function toJson(fit: FitResult, n: number, seconds: number, table: SweepRow[] | null): FitMatrixJson {
   const { model } = fit;
   const { components: k, dimensions: d } = model;
   return {
@@ -114,6 +78,7 @@ function toJson(fit: FitResult, n: number, seconds: number): FitMatrixJson {
     converged: fit.converged,
     iterations: fit.iterations,
     seconds,
+    ...(table ? { refusedFits: table.flatMap((row) => (row.refused === null ? [] : [{ k: row.k, covariance: row.covariance, reason: row.refused }])) } : {}),
   };
 }
 
@@ -143,7 +108,10 @@ function describe(result: FitMatrixJson, table: SweepRow[] | null, skipped: stri
   if (table) {
     lines.push('k  log L            BIC              ICL              converged');
     for (const row of table) {
-      lines.push(`${String(row.k).padEnd(2)} ${row.logLikelihood.toFixed(3).padEnd(16)} ${row.bic.toFixed(3).padEnd(16)} ${row.icl.toFixed(3).padEnd(16)} ${row.converged ? 'yes' : 'no'}`);
+      lines.push(
+        `${String(row.k).padEnd(2)} ${row.logLikelihood.toFixed(3).padEnd(16)} ${row.bic.toFixed(3).padEnd(16)} ${row.icl.toFixed(3).padEnd(16)} ${row.converged ? 'yes' : 'no'}` +
+          (row.refused ? `  refused: ${row.refused}` : ''),
+      );
     }
     lines.push(`Chosen by BIC: k = ${result.k}`);
   }
@@ -159,50 +127,42 @@ function describe(result: FitMatrixJson, table: SweepRow[] | null, skipped: stri
   return lines.join('\n');
 }
 
+const fitFlags = schemaOptions(fitMatrixInput.shape);
+
 /** `spendmix fit-matrix --input CSV --k N|auto --covariance S`: fits the numeric columns of a CSV as they are. */
 export const registerFitMatrix: RegisterCommand = (program, io, setExitCode) => {
-  program
-    .command('fit-matrix')
-    .description('Fit a Gaussian mixture to the numeric columns of a CSV file, as they are.')
-    .option('--input <csv>', 'CSV with a header row; columns with no number at all (ids, labels) are left out')
-    .option('--k <n|auto>', 'number of components, or "auto" to choose 1…--k-max by BIC')
-    .option('--k-max <n>', `largest k tried with --k auto (default ${DEFAULT_K_MAX})`, parseInteger('--k-max', 1, 100))
-    .option('--covariance <structure>', `covariance structure: ${covarianceTypes.join(', ')}`)
-    .option('--restarts <n>', 'independent starts; the best log-likelihood wins', parseInteger('--restarts', 1, 1000), 5)
-    .option('--seed <n>', 'seed; the same seed gives the same fit', parseInteger('--seed', 0, 0x7fffffff), 0)
-    .option('--tol <x>', 'stop when the mean log-likelihood changes by less than this', parseNumber('--tol', 0), 1e-3)
-    .option('--max-iter <n>', 'most EM iterations per start', parseInteger('--max-iter', 1, 1_000_000), 200)
-    .option('--reg <x>', 'added to covariance diagonals', parseNumber('--reg', 0), 1e-6)
-    .option('--init <method>', `initialisation: ${initMethods.join(', ')}`, 'kmeans')
-    .option('--memberships <out.csv>', 'write each row\'s segment, posteriors, confidence, margin and log density')
-    .option('--json', 'print one JSON object {n, d, k, covariance, logLikelihood, meanLogLikelihood, bic, aic, icl, weights, means, covariances, converged, iterations, seconds}')
-    .action(async (options: FitMatrixOptions) => {
+  addSchemaOptions(program.command('fit-matrix').description('Fit a Gaussian mixture to the numeric columns of a CSV file, as they are.'), fitFlags)
+    .option(
+      '--json',
+      'print one JSON object {n, d, k, covariance, logLikelihood, meanLogLikelihood, bic, aic, icl, weights, means, covariances, converged, iterations, seconds}, with --k auto also refusedFits [{k, covariance, reason}]',
+    )
+    .addHelpText('after', '\nThe CSV needs a header row; columns with no number at all (ids, labels) are left out.')
+    .action(async (options: Record<string, unknown>) => {
       const json = Boolean(options.json);
       setExitCode(
         await runCommand(io, json, async () => {
-          if (options.input === undefined) throw new InputError('fit-matrix needs --input FILE.csv.');
-          const k = parseK(options.k);
-          const covarianceType = parseCovariance(options.covariance);
-          const init = parseInit(options.init);
-          if (options.kMax !== undefined && k !== 'auto') throw new InputError('--k-max applies only with --k auto.');
+          const settings = parseInput('fit-matrix', fitMatrixInput, inputFromFlags(fitFlags, options));
+          const { k, covariance: covarianceType, init } = settings;
           let text: string;
           try {
-            text = readFileSync(options.input, 'utf8');
+            text = readFileSync(settings.input, 'utf8');
           } catch (error) {
-            throw new InputError(`Cannot read --input ${options.input}: ${error instanceof Error ? error.message : String(error)}`);
+            throw new InputError(`Cannot read --input ${settings.input}: ${error instanceof Error ? error.message : String(error)}`);
           }
-          const { data, skippedColumns } = parseNumericCsv(text, options.input);
+          const { data, skippedColumns } = parseNumericCsv(text, settings.input);
           const showProgress = !json && process.stderr.isTTY;
           const onProgress = showProgress
             ? (progress: FitProgress) => io.stderr(`\rk ${progress.k}, start ${progress.restart + 1}, iteration ${progress.iteration}   `)
             : undefined;
-          const common = { restarts: options.restarts, seed: options.seed, tol: options.tol, maxIterations: options.maxIter, regularization: options.reg, init, onProgress };
+          const { restarts, seed, tol, maxIterations, regularization } = settings;
+          const common = { restarts, seed, tol, maxIterations, regularization, init, onProgress };
           const started = performance.now();
           let fit: FitResult;
           let table: SweepRow[] | null = null;
           if (k === 'auto') {
-            const kMax = largestFittableK(options.kMax ?? DEFAULT_K_MAX, data.rows, data.cols, covarianceType);
-            if (kMax < (options.kMax ?? DEFAULT_K_MAX)) {
+            const asked = settings.kMax ?? FIT_MATRIX_DEFAULT_K_MAX;
+            const kMax = largestFittableK(asked, data.rows, data.cols, covarianceType);
+            if (kMax < asked) {
               io.stderr(`note: ${data.rows} rows support at most k = ${kMax} with ${covarianceType} covariance; trying k = 1…${kMax}\n`);
             }
             const sweep = await sweepMixtures(data, { ...common, componentRange: [1, kMax], covarianceTypes: [covarianceType], criterion: 'bic' });
@@ -214,9 +174,10 @@ export const registerFitMatrix: RegisterCommand = (program, io, setExitCode) => 
           const seconds = (performance.now() - started) / 1000;
           if (showProgress) io.stderr('\n');
           for (const warning of fit.warnings) io.stderr(`warning: ${warning}\n`);
-          if (options.memberships) writeMemberships(options.memberships, fit, data);
-          const result = toJson(fit, data.rows, seconds);
-          return { result, human: (value) => describe(value, table, skippedColumns, options.memberships) };
+          if (fit.refused && k !== 'auto') io.stderr(`warning: this fit would be refused in a choice of k: ${fit.refused}.\n`);
+          if (settings.memberships) writeMemberships(settings.memberships, fit, data);
+          const result = toJson(fit, data.rows, seconds, table);
+          return { result, human: (value) => describe(value, table, skippedColumns, settings.memberships) };
         }),
       );
     });

@@ -1,12 +1,8 @@
-import { defaultPlausibleDates, importEncodings } from '../../api/contract.js';
+import { importFileInput, importKinds, type ImportFileInput, type ImportKind, type ImportResult } from '../../api/contract.js';
 import { InputError } from '../../errors.js';
-import type { EncodingChoice } from '../../ingest/file-probe.js';
-import { importFile, DEFAULT_MAX_REJECTED_SHARE, type ImportResult } from '../../ingest/import-file.js';
-import { parseMapOptions } from '../../ingest/mapping.js';
-import { DATE_FORMATS, type DateFormat } from '../../ingest/values.js';
-import { openDatabase } from '../../store/database.js';
-import { IMPORT_KINDS, type ImportKind } from '../../store/imports-repo.js';
-import { parseNumber, runCommand, type RegisterCommand } from '../run-command.js';
+import { withApi } from '../api-client.js';
+import { runCommand, type RegisterCommand } from '../run-command.js';
+import { addSchemaOptions, inputFromFlags, schemaOptions } from '../schema-options.js';
 
 interface ImportCliOptions {
   db?: string;
@@ -15,22 +11,15 @@ interface ImportCliOptions {
   customers?: string;
   features?: string;
   map: string[];
-  sheet?: string;
-  dateFormat: string;
   decimalComma?: boolean;
-  maxRejectedShare: number;
-  delimiter?: string;
-  encoding: string;
-  plausibleDates: string;
   json?: boolean;
+  [flag: string]: unknown;
 }
 
 const collect = (value: string, previous: string[]) => [...previous, value];
 
-const DELIMITER_NAMES: Record<string, string> = { comma: ',', semicolon: ';', tab: '\t', pipe: '|', ',': ',', ';': ';', '\\t': '\t', '|': '|' };
-
 function chooseFile(options: ImportCliOptions): { kind: ImportKind; path: string } {
-  const given = IMPORT_KINDS.filter((kind) => options[kind] !== undefined);
+  const given = importKinds.filter((kind) => options[kind] !== undefined);
   if (given.length !== 1) {
     throw new InputError(
       given.length === 0
@@ -41,9 +30,26 @@ function chooseFile(options: ImportCliOptions): { kind: ImportKind; path: string
   return { kind: given[0], path: options[given[0]]! };
 }
 
+/** `--map column=field` pairs as the API's field → column mapping and columns to leave out (`column=ignore`). */
+function mappingFromFlags(pairs: readonly string[]): Pick<ImportFileInput, 'mapping' | 'ignoreColumns'> {
+  if (pairs.length === 0) return {};
+  const mapping: Record<string, string> = {};
+  const ignoreColumns: string[] = [];
+  for (const pair of pairs) {
+    const at = pair.lastIndexOf('=');
+    if (at <= 0 || at === pair.length - 1) throw new InputError(`--map expects COLUMN=FIELD (e.g. --map "Card No=customer_id"); got "${pair}".`);
+    const column = pair.slice(0, at).trim();
+    const field = pair.slice(at + 1).trim();
+    if (field === 'ignore') ignoreColumns.push(column);
+    else if (mapping[field] !== undefined) throw new InputError(`--map gives field "${field}" two columns; map each field once.`);
+    else mapping[field] = column;
+  }
+  return { mapping, ...(ignoreColumns.length > 0 ? { ignoreColumns } : {}) };
+}
+
 const money = (value: number) => value.toLocaleString('en-GB', { minimumFractionDigits: 2, maximumFractionDigits: 2 });
 
-function describe(result: ImportResult): string {
+function describe(result: Omit<ImportResult, 'importId'>): string {
   if (result.alreadyImported) return `${result.file} was imported before (same content); nothing changed.`;
   return [
     `Imported ${result.kind} from ${result.file}`,
@@ -53,9 +59,11 @@ function describe(result: ImportResult): string {
   ].join('\n');
 }
 
+const readFlags = schemaOptions(importFileInput.shape, ['path', 'kind', 'mapping', 'ignoreColumns', 'decimalSeparator']);
+
 /** `spendmix import --db FILE (--receipts F | --visits F | --customers F | --features F) [--map col=field]… [--sheet NAME]` (DESIGN.md §10). */
 export const registerImport: RegisterCommand = (program, io, setExitCode) => {
-  program
+  const command = program
     .command('import')
     .description('Load one CSV or XLSX file into the database: all of its valid rows or nothing; a file imported before is recognised.')
     .option('--db <file>', 'database to load into; created when missing')
@@ -64,22 +72,8 @@ export const registerImport: RegisterCommand = (program, io, setExitCode) => {
     .option('--customers <file>', 'customers: joined, marketing_consent, home_store')
     .option('--features <file>', 'a per-customer numeric table prepared elsewhere')
     .option('--map <column=field>', 'read a column as a field (repeatable); FIELD "ignore" leaves a column out', collect, [])
-    .option('--sheet <name>', 'XLSX: the sheet to read (default the first)')
-    .option('--date-format <format>', `how non-ISO dates are read: ${DATE_FORMATS.join(', ')} (ISO dates are always accepted)`, 'iso')
-    .option('--decimal-comma', 'amounts use a decimal comma (12,50)')
-    .option(
-      '--max-rejected-share <x>',
-      'refuse the whole file above this share of rejected rows (0 to 1)',
-      parseNumber('--max-rejected-share', 0, 1),
-      DEFAULT_MAX_REJECTED_SHARE,
-    )
-    .option('--delimiter <d>', 'CSV: comma, semicolon, tab or pipe instead of detecting it')
-    .option('--encoding <name>', `CSV: ${importEncodings.join(' or ')} (a file that is not UTF-8 is refused, naming this option)`, 'utf-8')
-    .option(
-      '--plausible-dates <from..to>',
-      'reject rows dated outside this range, listing them in the report (default 1990-01-01 to a year after today)',
-      `${defaultPlausibleDates().from}..${defaultPlausibleDates().to}`,
-    )
+    .option('--decimal-comma', 'amounts use a decimal comma (12,50)');
+  addSchemaOptions(command, readFlags)
     .option('--json', 'print one JSON object {file, kind, rowsRead, rowsImported, rowsRejected, duplicatesSkipped, alreadyImported, amountTotal, report}')
     .addHelpText(
       'after',
@@ -92,45 +86,24 @@ export const registerImport: RegisterCommand = (program, io, setExitCode) => {
         await runCommand(io, json, async () => {
           if (!options.db) throw new InputError('import needs --db FILE: the database to load into (created when missing).');
           const { kind, path } = chooseFile(options);
-          if (!(DATE_FORMATS as readonly string[]).includes(options.dateFormat)) {
-            throw new InputError(`--date-format must be one of ${DATE_FORMATS.join(', ')}; got "${options.dateFormat}".`);
-          }
-          let delimiter: string | undefined;
-          if (options.delimiter !== undefined) {
-            delimiter = DELIMITER_NAMES[options.delimiter];
-            if (delimiter === undefined) throw new InputError(`--delimiter must be comma, semicolon, tab or pipe; got "${options.delimiter}".`);
-          }
-          if (!(importEncodings as readonly string[]).includes(options.encoding)) {
-            throw new InputError(`--encoding must be ${importEncodings.join(' or ')}; got "${options.encoding}".`);
-          }
-          const range = /^(\d{4}-\d{2}-\d{2})\.\.(\d{4}-\d{2}-\d{2})$/.exec(options.plausibleDates.trim());
-          if (!range) throw new InputError(`--plausible-dates must be FROM..TO, two dates YYYY-MM-DD; got "${options.plausibleDates}".`);
-          const mapping = parseMapOptions(options.map);
-          const db = openDatabase(options.db);
-          try {
-            const showProgress = !json && process.stderr.isTTY;
-            const result = await importFile(db, {
-              path,
-              kind,
-              mapping,
-              options: {
-                sheet: options.sheet,
-                dateFormat: options.dateFormat as DateFormat,
-                decimalComma: Boolean(options.decimalComma),
-                maxRejectedShare: options.maxRejectedShare,
-                delimiter,
-                encoding: options.encoding as EncodingChoice,
-                plausibleDates: { from: range[1], to: range[2] },
-              },
-              onProgress: showProgress
-                ? ({ phase, rows, bytes, totalBytes }) =>
-                    io.stderr(`\r${phase} ${rows.toLocaleString('en-GB')} rows, ${Math.round((100 * bytes) / Math.max(1, totalBytes))}%   ${phase === 'done' ? '\n' : ''}`)
+          const input = {
+            ...inputFromFlags(readFlags, options),
+            ...mappingFromFlags(options.map),
+            ...(options.decimalComma ? { decimalSeparator: ',' } : {}),
+            path,
+            kind,
+          };
+          const showProgress = !json && process.stderr.isTTY;
+          const { importId: _, ...result } = await withApi(options.db, (api) =>
+            api.run(
+              'importFile',
+              input as ImportFileInput,
+              showProgress
+                ? ({ phase, done, total, message }) => io.stderr(`\r${phase} ${message}${total ? `, ${Math.round((100 * done) / total)}%` : ''}   ${phase === 'done' ? '\n' : ''}`)
                 : undefined,
-            });
-            return { result, human: describe };
-          } finally {
-            db.close();
-          }
+            ),
+          );
+          return { result, human: describe };
         }),
       );
     });

@@ -1,35 +1,29 @@
-import { existsSync } from 'node:fs';
+import { readFileSync } from 'node:fs';
+import { resolve } from 'node:path';
+import { checkInput, inputErrorFromZod } from '../../api/api-errors.js';
+import { startRunInput, type RunSummary, type StartRunInput } from '../../api/contract.js';
 import { InputError } from '../../errors.js';
-import { covarianceTypes, type CovarianceType } from '../../model/types.js';
-import { runSegmentation } from '../../runs/run.js';
-import type { RefreshMode, RunSummary } from '../../runs/types.js';
-import { openDatabase, type Database } from '../../store/database.js';
-import { parseInteger, runCommand, type RegisterCommand } from '../run-command.js';
+import { requireExistingDatabase, withApi } from '../api-client.js';
+import { runCommand, type RegisterCommand } from '../run-command.js';
+import { addSchemaOptions, inputFromFlags, numberOrText, schemaOptions } from '../schema-options.js';
 
 interface RefreshCliOptions {
   db?: string;
-  asOf?: string;
-  windowMonths: number;
-  mode: string;
-  k: string;
-  kMax?: number;
-  covariance: string;
-  restarts?: number;
-  seed?: number;
-  parent?: number;
+  settings?: string;
+  features?: string;
+  transform: string[];
   json?: boolean;
+  [flag: string]: unknown;
 }
 
-/** Opens an existing database for the run commands; a missing file is bad input, not a new database. */
-export function openExistingDatabase(path: string | undefined, command: string): Database {
-  if (!path) throw new InputError(`${command} needs --db FILE: the Spendmix database.`);
-  if (!existsSync(path)) throw new InputError(`Database ${path} does not exist; create it with "import" or "demo --db" first.`);
-  return openDatabase(path);
-}
+const collect = (value: string, previous: string[]) => [...previous, value];
+
+/** Every setting of a run as a flag (src/api/contract/settings.ts), except the features, which take two. */
+const settingFlags = schemaOptions(startRunInput.shape, ['features']);
 
 const percent = (share: number) => `${(share * 100).toFixed(1)}%`;
 
-function describe(summary: RunSummary): string {
+export function describeRun(summary: RunSummary): string {
   return [
     `Run ${summary.runId}${summary.parentRunId !== null ? ` (parent ${summary.parentRunId})` : ''}: k = ${summary.k}, ${summary.covariance} covariance, BIC ${summary.bic.toFixed(1)}`,
     `  ${summary.customers} customers placed, ${summary.tooNew} too new to place; ${summary.borderline} borderline, ${summary.atypical} atypical`,
@@ -40,62 +34,107 @@ function describe(summary: RunSummary): string {
   ].join('\n');
 }
 
+/** A run's settings from a JSON file (as `runs --settings-out` writes them): an object, or a clear refusal naming the file. */
+function readSettingsFile(path: string): Record<string, unknown> {
+  let text: string;
+  try {
+    text = readFileSync(path, 'utf8');
+  } catch (error) {
+    throw new InputError(`Cannot read the settings file ${path}: ${error instanceof Error ? error.message : String(error)}`);
+  }
+  let value: unknown;
+  try {
+    value = JSON.parse(text);
+  } catch (error) {
+    throw new InputError(`The settings file ${path} is not JSON: ${error instanceof Error ? error.message : String(error)}`);
+  }
+  if (typeof value !== 'object' || value === null || Array.isArray(value)) {
+    throw new InputError(`The settings file ${path} must hold one JSON object of run settings (as "runs --settings-out" writes).`);
+  }
+  return value as Record<string, unknown>;
+}
+
+const transformSteps = 'log1p, clip=LOW:HIGH (percentiles; leave a side empty for none), z, or none';
+
 /**
- * `spendmix refresh --db FILE --as-of YYYY-MM-DD [--window-months N] [--mode refit|rescore] [--k N|auto]
- * [--k-max N] [--covariance full|diag|spherical|tied|auto] [--restarts N] [--seed N] [--parent ID]` (DESIGN.md §10).
+ * `--features a,b` with `--transform feature=steps` for any of them: the features of the run, each
+ * with exactly the steps given, or its default transform where none is given.
+ */
+function featuresFromFlags(names: string | undefined, transforms: readonly string[]): StartRunInput['features'] {
+  if (names === undefined) {
+    if (transforms.length > 0) throw new InputError('--transform applies to the features --features lists; give --features too.');
+    return undefined;
+  }
+  const features: NonNullable<StartRunInput['features']> = names
+    .split(',')
+    .map((name) => name.trim())
+    .filter((name) => name.length > 0)
+    .map((feature) => ({ feature }));
+  for (const text of transforms) {
+    const at = text.indexOf('=');
+    const feature = at > 0 ? text.slice(0, at).trim() : '';
+    const target = features.find((spec) => spec.feature === feature);
+    if (!target) throw new InputError(`--transform expects FEATURE=STEPS for a feature --features lists (${features.map((spec) => spec.feature).join(', ')}); got "${text}".`);
+    Object.assign(target, { log1p: false, zScore: false, clipLowerPercentile: null, clipUpperPercentile: null });
+    for (const step of text.slice(at + 1).split(',').map((part) => part.trim())) {
+      const clip = /^clip=([^:]*):([^:]*)$/.exec(step);
+      if (step === 'log1p') target.log1p = true;
+      else if (step === 'z') target.zScore = true;
+      else if (clip) {
+        target.clipLowerPercentile = (clip[1].trim() === '' ? null : numberOrText(clip[1])) as number | null;
+        target.clipUpperPercentile = (clip[2].trim() === '' ? null : numberOrText(clip[2])) as number | null;
+      } else if (step !== 'none') throw new InputError(`--transform ${text}: the steps are ${transformSteps}; got "${step}".`);
+    }
+  }
+  return features;
+}
+
+/**
+ * The startRun input: the settings file (if any), then the flags given over it. A refusal of a
+ * value that came from the file names the file; anything else is left to the API, which words it
+ * as it does for the app.
+ */
+function runInput(options: RefreshCliOptions): Record<string, unknown> {
+  const fromFlags = inputFromFlags(settingFlags, options);
+  const features = featuresFromFlags(options.features, options.transform);
+  if (features) fromFlags.features = features;
+  if (!options.settings) return fromFlags;
+  const file = resolve(options.settings);
+  const fromFile = readSettingsFile(file);
+  const input = { ...fromFile, ...fromFlags };
+  const checked = checkInput(startRunInput, input);
+  if (!checked.ok && checked.error.issues.some((issue) => issue.path.length === 0 || (String(issue.path[0]) in fromFile && !(String(issue.path[0]) in fromFlags)))) {
+    throw inputErrorFromZod(`the settings file ${file}`, checked.error, startRunInput);
+  }
+  return input;
+}
+
+/**
+ * `spendmix refresh --db FILE --as-of YYYY-MM-DD [--settings FILE.json] [a flag per setting]`
+ * (DESIGN.md §10): the startRun call the Model screen makes, with the same validation.
  */
 export const registerRefresh: RegisterCommand = (program, io, setExitCode) => {
-  program
+  const command = program
     .command('refresh')
     .description("Run this month's segmentation: features, fit (or the parent's model), memberships, names, movement, review queue.")
     .option('--db <file>', 'the Spendmix database')
-    .option('--as-of <date>', 'last day of the window, YYYY-MM-DD')
-    .option('--window-months <n>', 'trailing window in months', parseInteger('--window-months', 1, 120), 12)
-    .option('--mode <mode>', 'refit (fit anew, carry names by matching) or rescore (apply the parent model)', 'refit')
-    .option('--k <n|auto>', 'number of segments, or auto to choose by BIC', 'auto')
-    .option('--k-max <n>', 'largest k tried with --k auto (default 8)', parseInteger('--k-max', 1, 50))
-    .option('--covariance <type>', `${covarianceTypes.join('|')}|auto`, 'auto')
-    .option('--restarts <n>', 'EM restarts per fit (default 5)', parseInteger('--restarts', 1, 100))
-    .option('--seed <n>', 'random seed (default 0); same seed, same run', parseInteger('--seed', 0, 2 ** 32 - 1))
-    .option('--parent <id>', 'parent run (default: the latest run with an earlier as-of date)', parseInteger('--parent', 1))
+    .option('--settings <file.json>', 'run settings as one JSON object (as "runs --settings-out" writes); flags given override it');
+  addSchemaOptions(command, settingFlags)
+    .option('--features <a,b>', 'model features, comma-separated (default: spend_per_month, visits_per_month, average_basket from receipts; every imported feature otherwise)')
+    .option('--transform <feature=steps>', `a listed feature's transform, steps from ${transformSteps} (repeatable; default log1p,z for the money and rate defaults, z otherwise)`, collect, [])
     .option('--json', 'print one JSON object {runId, parentRunId, k, covariance, bic, customers, tooNew, borderline, atypical, segments, stability}')
     .action(async (options: RefreshCliOptions) => {
       const json = Boolean(options.json);
       setExitCode(
         await runCommand(io, json, async () => {
-          if (!options.asOf) throw new InputError('refresh needs --as-of YYYY-MM-DD: the last day of the window.');
-          if (options.mode !== 'refit' && options.mode !== 'rescore') throw new InputError(`--mode must be refit or rescore; got "${options.mode}".`);
-          const k = options.k === 'auto' ? 'auto' : parseInteger('--k', 1, 50)(options.k);
-          if (options.covariance !== 'auto' && !(covarianceTypes as readonly string[]).includes(options.covariance)) {
-            throw new InputError(`--covariance must be one of ${covarianceTypes.join(', ')} or auto; got "${options.covariance}".`);
-          }
-          const db = openExistingDatabase(options.db, 'refresh');
-          try {
-            const showProgress = !json && process.stderr.isTTY;
-            const summary = await runSegmentation(
-              db,
-              {
-                asOf: options.asOf,
-                windowMonths: options.windowMonths,
-                mode: options.mode as RefreshMode,
-                k,
-                kMax: options.kMax,
-                covariance: options.covariance as CovarianceType | 'auto',
-                restarts: options.restarts,
-                seed: options.seed,
-                parentRunId: options.parent,
-              },
-              {
-                onProgress: showProgress
-                  ? (progress) => io.stderr(`\r${progress.message}${progress.fit ? ` (k=${progress.fit.k} ${progress.fit.covarianceType}, restart ${progress.fit.restart + 1})` : ''}\x1b[K`)
-                  : undefined,
-              },
-            );
-            if (showProgress) io.stderr('\n');
-            return { result: summary, human: describe };
-          } finally {
-            db.close();
-          }
+          const db = requireExistingDatabase(options.db, 'refresh');
+          const input = runInput(options);
+          const showProgress = !json && process.stderr.isTTY;
+          const summary = await withApi(db, (api) =>
+            api.run('startRun', input as StartRunInput, showProgress ? (progress) => io.stderr(`\r${progress.message}\x1b[K`) : undefined),
+          );
+          if (showProgress) io.stderr('\n');
+          return { result: summary, human: describeRun };
         }),
       );
     });

@@ -1,19 +1,7 @@
-import { InputError } from '../../errors.js';
-import { decideReview, getReviewQueue, resolveRunId } from '../../runs/repository.js';
-import type { ReviewAction, ReviewDecision, ReviewItem } from '../../runs/types.js';
-import { parseInteger, runCommand, type RegisterCommand } from '../run-command.js';
-import { openExistingDatabase } from './refresh.js';
-
-interface ReviewCliOptions {
-  db?: string;
-  run?: string;
-  json?: boolean;
-}
-
-function runOption(raw: string | undefined): number | 'latest' {
-  if (raw === undefined) throw new InputError('review needs --run ID (or --run latest).');
-  return raw === 'latest' ? 'latest' : parseInteger('--run', 1)(raw);
-}
+import { decideReviewInput, reviewQueueInput, type ApiInput, type ReviewDecision, type ReviewItem } from '../../api/contract.js';
+import { onGroupRun, runGroup } from '../api-client.js';
+import type { RegisterCommand } from '../run-command.js';
+import { addSchemaOptions, inputFromFlags, schemaOptions } from '../schema-options.js';
 
 const probability = (value: number | null) => (value === null ? '-' : value.toFixed(3));
 
@@ -32,81 +20,43 @@ function describeQueue(result: { runId: number; total: number; offset: number; i
   ].join('\n');
 }
 
-function describeDecision(result: { runId: number; customerId: string; decision: ReviewDecision }): string {
+function describeDecision(result: { runId: number; customerId: string; decision: ReviewDecision | null }): string {
   const { decision } = result;
+  if (!decision) return `Run ${result.runId}, customer ${result.customerId}: no decision`;
   return `Run ${result.runId}, customer ${result.customerId}: ${decision.action}${decision.segmentName ? ` → ${decision.segmentName}` : ''}${decision.note ? ` (${decision.note})` : ''}`;
 }
 
-/** `spendmix review --db FILE --run ID (list | decide --customer C --action keep|move|exclude [--segment S] [--note T])`. */
+const listFlags = schemaOptions(reviewQueueInput.shape, ['runId']);
+const decideFlags = schemaOptions(decideReviewInput.shape, ['runId']);
+
+/**
+ * `spendmix review --db FILE --run ID|latest (list | decide --customer C --action keep|move|exclude
+ * [--segment S] [--note T] [--reviewer R])`: the Review screen's queue and decisions, through the
+ * same API calls. Only customers in the queue take a decision (src/runs/review-decisions.ts).
+ */
 export const registerReview: RegisterCommand = (program, io, setExitCode) => {
-  const review = program
-    .command('review')
-    .description("The review queue of a run (borderline and atypical customers by spend at stake) and the analyst's decisions.")
-    .option('--db <file>', 'the Spendmix database')
-    .option('--run <id>', 'run id, or latest');
+  const review = runGroup(program, 'review', "The review queue of a run (borderline and atypical customers by spend at stake) and the analyst's decisions.");
 
-  review
-    .command('list')
-    .description('List the queue, highest spend at stake first.')
-    .option('--offset <n>', 'skip this many items', parseInteger('--offset', 0), 0)
-    .option('--limit <n>', 'show at most this many items', parseInteger('--limit', 1, 10_000), 50)
-    .option('--status <status>', 'all, open (undecided) or done', 'all')
+  addSchemaOptions(review.command('list').description('List the queue, highest spend at stake first.'), listFlags)
     .option('--json', 'print one JSON object {runId, total, offset, items}')
-    .action(async (options: { offset: number; limit: number; status: string; json?: boolean }) => {
-      const parent = review.opts<ReviewCliOptions>();
-      const json = Boolean(options.json || parent.json);
-      setExitCode(
-        await runCommand(io, json, async () => {
-          const run = runOption(parent.run);
-          if (!['all', 'open', 'done'].includes(options.status)) throw new InputError(`--status must be all, open or done; got "${options.status}".`);
-          const db = openExistingDatabase(parent.db, 'review');
-          try {
-            const runId = resolveRunId(db, run);
-            const page = getReviewQueue(db, runId, { offset: options.offset, limit: options.limit, status: options.status as 'all' | 'open' | 'done' });
-            return { result: { runId, ...page }, human: describeQueue };
-          } finally {
-            db.close();
-          }
-        }),
-      );
-    });
+    .action(
+      onGroupRun(review, io, setExitCode, async (api, runId, options) => {
+        const page = await api.call('reviewQueue', { ...inputFromFlags(listFlags, options), runId });
+        return { result: { runId, total: page.total, offset: page.offset, items: page.rows }, human: describeQueue };
+      }),
+    );
 
-  review
-    .command('decide')
-    .description('Record a decision on a customer of the run: keep, move to a segment, or exclude from campaigns.')
-    .option('--customer <id>', 'customer id')
-    .option('--action <action>', 'keep, move or exclude')
-    .option('--segment <segment>', 'for move: target segment (name, key or index)')
-    .option('--note <text>', 'a note kept with the decision')
-    .option('--reviewer <name>', 'who decided (default: the user name of this session)')
+  addSchemaOptions(
+    review.command('decide').description('Record a decision on a customer in the queue: keep, move to a segment, or exclude from campaigns.'),
+    decideFlags,
+  )
     .option('--json', 'print one JSON object {runId, customerId, decision}')
-    .action(async (options: { customer?: string; action?: string; segment?: string; note?: string; reviewer?: string; json?: boolean }) => {
-      const parent = review.opts<ReviewCliOptions>();
-      const json = Boolean(options.json || parent.json);
-      setExitCode(
-        await runCommand(io, json, async () => {
-          const run = runOption(parent.run);
-          if (!options.customer) throw new InputError('review decide needs --customer ID.');
-          if (!options.action || !['keep', 'move', 'exclude'].includes(options.action)) {
-            throw new InputError(`review decide needs --action keep, move or exclude${options.action ? `; got "${options.action}"` : ''}.`);
-          }
-          if (options.action === 'move' && !options.segment) throw new InputError('--action move needs --segment S (name, key or index).');
-          const db = openExistingDatabase(parent.db, 'review');
-          try {
-            const runId = resolveRunId(db, run);
-            const decision = decideReview(db, {
-              runId,
-              customerId: options.customer,
-              action: options.action as ReviewAction,
-              segment: options.segment,
-              note: options.note,
-              reviewer: options.reviewer ?? process.env.USER ?? undefined,
-            });
-            return { result: { runId, customerId: options.customer, decision }, human: describeDecision };
-          } finally {
-            db.close();
-          }
-        }),
-      );
-    });
+    .action(
+      onGroupRun(review, io, setExitCode, async (api, runId, options) => {
+        // Who decided: the session's user unless --reviewer names someone.
+        const input = { reviewer: process.env.USER ?? '', ...inputFromFlags(decideFlags, options), runId };
+        const item = await api.call('decideReview', input as ApiInput<'decideReview'>);
+        return { result: { runId, customerId: item.customerId, decision: item.decision }, human: describeDecision };
+      }),
+    );
 };

@@ -1,9 +1,12 @@
-import { listRuns } from '../../runs/repository.js';
-import type { RunListItem } from '../../runs/types.js';
+import { writeFileSync } from 'node:fs';
+import { resolve } from 'node:path';
+import type { RunDetail, RunListItem } from '../../api/contract.js';
+import { InputError } from '../../errors.js';
+import { requireExistingDatabase, withApi } from '../api-client.js';
 import { runCommand, type RegisterCommand } from '../run-command.js';
-import { openExistingDatabase } from './refresh.js';
+import { describeRun } from './refresh.js';
 
-function describe(result: { runs: RunListItem[] }): string {
+function describeList(result: { runs: RunListItem[] }): string {
   if (result.runs.length === 0) return 'No runs yet; run refresh first.';
   return [
     'run  parent  as-of       mode     k  covariance  customers  too new  borderline  atypical  stability',
@@ -25,23 +28,65 @@ function describe(result: { runs: RunListItem[] }): string {
   ].join('\n');
 }
 
-/** `spendmix runs --db FILE`: the stored runs, newest first. */
+function describeDetail(detail: RunDetail): string {
+  const { settings } = detail;
+  return [
+    describeRun(detail),
+    `  as of ${detail.asOf}, ${detail.windowMonths} months, ${detail.mode}; stored ${detail.createdAt}`,
+    `  features: ${detail.features.map((spec) => spec.feature).join(', ')}`,
+    `  k ${settings.k === 'auto' ? `auto (${settings.kMin} to ${settings.kMax})` : settings.k}, covariance ${settings.covariance}, ${settings.criterion.toUpperCase()}, ` +
+      `${settings.restarts} restarts, seed ${settings.seed}`,
+    ...detail.warnings.map((warning) => `  warning: ${warning}`),
+  ].join('\n');
+}
+
+interface RunsCliOptions {
+  db?: string;
+  run?: string;
+  settingsOut?: string;
+  json?: boolean;
+}
+
+/**
+ * `spendmix runs --db FILE [--run ID|latest [--settings-out FILE.json]]`: the stored runs, newest
+ * first; one run's detail; or that run's settings written as a file that `refresh --settings`
+ * takes, so the month can be repeated exactly.
+ */
 export const registerRuns: RegisterCommand = (program, io, setExitCode) => {
   program
     .command('runs')
-    .description('List the stored segmentation runs, newest first.')
+    .description('List the stored segmentation runs, newest first; show one; or write its settings to repeat it.')
     .option('--db <file>', 'the Spendmix database')
-    .option('--json', 'print one JSON object {runs: [{runId, parentRunId, createdAt, asOf, windowMonths, mode, k, covariance, bic, customers, tooNew, borderline, atypical, stability}]}')
-    .action(async (options: { db?: string; json?: boolean }) => {
+    .option('--run <id|latest>', 'one run: its summary, settings and warnings')
+    .option('--settings-out <file.json>', "with --run: write the run's settings as JSON, for refresh --settings")
+    .option(
+      '--json',
+      'print one JSON object: {runs: [{runId, parentRunId, k, covariance, bic, customers, tooNew, borderline, atypical, stability, createdAt, asOf, windowMonths, mode}]}; ' +
+        'with --run the run\'s detail; with --settings-out {runId, settingsOut}',
+    )
+    .action(async (options: RunsCliOptions) => {
       const json = Boolean(options.json);
       setExitCode(
-        await runCommand(io, json, async () => {
-          const db = openExistingDatabase(options.db, 'runs');
-          try {
-            return { result: { runs: listRuns(db) }, human: describe };
-          } finally {
-            db.close();
-          }
+        await runCommand<unknown>(io, json, async () => {
+          const db = requireExistingDatabase(options.db, 'runs');
+          if (options.settingsOut !== undefined && options.run === undefined) throw new InputError('--settings-out needs --run ID: the run whose settings to write.');
+          return withApi(db, async (api) => {
+            if (options.run === undefined) {
+              return { result: { runs: await api.call('listRuns', {}) }, human: (result) => describeList(result as { runs: RunListItem[] }) };
+            }
+            const detail = await api.call('runSummary', { runId: await api.runId(options.run, 'runs') });
+            if (options.settingsOut === undefined) return { result: detail, human: () => describeDetail(detail) };
+            const out = resolve(options.settingsOut);
+            try {
+              writeFileSync(out, `${JSON.stringify(detail.settings, null, 2)}\n`);
+            } catch (error) {
+              throw new InputError(`Cannot write --settings-out ${out}: ${error instanceof Error ? error.message : String(error)}`);
+            }
+            return {
+              result: { runId: detail.runId, settingsOut: out },
+              human: () => `Wrote the settings of run ${detail.runId} to ${out}; repeat the month with: refresh --db ${db} --settings ${out}`,
+            };
+          });
         }),
       );
     });

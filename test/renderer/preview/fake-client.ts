@@ -65,6 +65,7 @@ function segmentProfiles(): SegmentProfile[] {
       key: `s${i + 1}`,
       name: names[i],
       spendRank: i + 1,
+      origin: 'first' as const,
       customers,
       share: shape.weight,
       revenue: revenue[i],
@@ -204,8 +205,10 @@ function pretendTask<M extends keyof TaskResults>(method: M, result: TaskResults
 }
 
 const runSettings: ApiOutput<'runSummary'>['settings'] = {
-  asOf: '2026-11-30', windowMonths: 12, mode: 'refit', k: 'auto', kMin: 2, kMax: 8, covariance: 'auto', criterion: 'bic', restarts: 5, seed: 0,
-  borderlineConfidence: 0.7, borderlineMargin: 0.2, atypicalPercentile: 1, minPurchases: 2, minTenureMonths: 2,
+  asOf: '2026-11-30', windowMonths: 12, mode: 'refit', parentRunId: null, source: 'receipts', k: 'auto', kMin: 2, kMax: 8, covariance: 'auto', criterion: 'bic',
+  restarts: 5, seed: 0, tol: 1e-3, maxIterations: 200, regularization: 1e-6, init: 'kmeans', borderlineConfidence: 0.7, borderlineMargin: 0.2,
+  atypicalPercentile: 1, reviewMoversBelowConfidence: null, minPurchases: 2, minTenureMonths: 2, freshCategories: ['fresh', 'bakery'],
+  features: featureNames.map((feature) => ({ feature, log1p: true, clipLowerPercentile: null, clipUpperPercentile: null, zScore: true })),
 };
 
 function summary(runId: number): ApiOutput<'runSummary'> {
@@ -294,10 +297,11 @@ const api: Api = {
     defaults: runSettings,
   }),
   startRun: async () => pretendTask('startRun', { ...summary(3) }, ['features', 'fitting k=2 full', 'fitting k=4 full', 'memberships', 'profiles']),
-  listRuns: async () => [
-    { runId: 1, parentRunId: null, asOf: '2026-10-31', mode: 'refit', k: 4, covariance: 'full', customers: 47_902, createdAt: '2026-11-02T09:00:00Z' },
-    { runId: 2, parentRunId: 1, asOf: '2026-11-30', mode: 'refit', k: 4, covariance: 'full', customers: totalCustomers, createdAt: '2026-12-01T09:12:00Z' },
-  ],
+  listRuns: async () =>
+    [2, 1].map((id) => {
+      const { runId, parentRunId, k, covariance, bic, customers, tooNew, borderline, atypical, stability, createdAt, asOf, windowMonths, mode } = summary(id);
+      return { runId, parentRunId, k, covariance, bic, customers, tooNew, borderline, atypical, stability, createdAt, asOf, windowMonths, mode };
+    }),
   runSummary: async (input) => summary(input.runId),
   segments: async (input) => ({ runId: input.runId, features: featureNames, segments: segmentProfiles() }),
   sweepTable: async () => {
@@ -306,7 +310,7 @@ const api: Api = {
     for (const covariance of ['full', 'diag', 'spherical', 'tied'] as const) {
       for (let k = 2; k <= 8; k++) {
         const bic = 301_544 + base[covariance] + 2_600 * (k - 4) ** 2 - (k > 4 ? 1_500 * (k - 4) : 0);
-        rows.push({ k, covariance, logLikelihood: -bic / 2, bic, aic: bic - 300, icl: bic + 6_000 + 900 * k, parameterCount: k * 10, converged: true, iterations: 40 + k, warnings: [], chosen: covariance === 'full' && k === 4 });
+        rows.push({ k, covariance, logLikelihood: -bic / 2, bic, aic: bic - 300, icl: bic + 6_000 + 900 * k, parameterCount: k * 10, converged: true, iterations: 40 + k, warnings: [], refused: null, chosen: covariance === 'full' && k === 4 });
       }
     }
     return rows;
@@ -354,17 +358,19 @@ const api: Api = {
     const row = queue.find((item) => item.customerId === input.customerId);
     if (!row) throw Object.assign(new Error(`No customer ${input.customerId} in the review queue.`), { kind: 'input' });
     const segment = input.action === 'move' ? input.segment ?? 0 : row.segment ?? 0;
-    decisions.set(row.customerId, { action: input.action, segmentName: input.action === 'exclude' ? null : names[segment], note: input.note ?? null, reviewer: 'analyst', decidedAt: new Date().toISOString(), carriedFromRunId: null });
+    const target = typeof segment === 'number' ? segment : Number(segment);
+    decisions.set(row.customerId, { action: input.action, segmentKey: input.action === 'exclude' ? null : `s${target + 1}`, segmentName: input.action === 'exclude' ? null : names[target], note: input.note ?? null, reviewer: 'analyst', decidedAt: new Date().toISOString(), carriedFromRunId: null });
     return reviewItem(row);
   },
   renameSegment: async (input) => {
-    names = names.map((name, i) => (i === input.segment ? input.name : name));
-    return segmentProfiles()[input.segment];
+    const index = typeof input.segment === 'number' ? input.segment : Number(input.segment);
+    names = names.map((name, i) => (i === index ? input.name : name));
+    return segmentProfiles()[index];
   },
   movement: async (input) => ({
     runId: input.runId, parentRunId: 1,
-    parentSegments: segmentProfiles().map((p) => ({ segment: p.segment, name: p.name })),
-    currentSegments: segmentProfiles().map((p) => ({ segment: p.segment, name: p.name })),
+    parentSegments: segmentProfiles().map((p) => ({ segment: p.segment, key: p.key, name: p.name })),
+    currentSegments: segmentProfiles().map((p) => ({ segment: p.segment, key: p.key, name: p.name })),
     matrix: [
       [3_210, 402, 31, 4],
       [377, 11_090, 1_120, 88],
@@ -372,11 +378,31 @@ const api: Api = {
       [3, 97, 1_310, 10_950],
     ],
     common: 46_416, entered: 1_797, left: 1_486, stability: 0.812,
-    warnings: [{ segmentName: 'Tier 2', kind: 'mean-shift', feature: 'averageBasket', amount: 0.56, message: 'Tier 2: average basket moved 0.56 standard deviations (from €35.10 to €38.40).' }],
+    warnings: [{ segmentKey: 's2', segmentName: 'Tier 2', kind: 'mean-shift', feature: 'averageBasket', amount: 0.56, message: 'Tier 2: average basket moved 0.56 standard deviations (from €35.10 to €38.40).' }],
     retired: [], added: [],
   }),
   exportRun: async (input) => pretendTask('exportRun', { out: input.out, sheets: ['Overview', 'Customers', 'Review', 'Movement'], customersExported: 39_882, suppressedNoConsent: 6_944 }, ['overview', 'writing customers', 'review', 'movement']),
-  loadDemo: async () => pretendTask('loadDemo', { db: '/home/analyst/larkmoor.spendmix.db', customers: 6_000, receipts: 312_400, visits: 401_220 }, ['generating', 'writing']),
+  loadDemo: async () => pretendTask('loadDemo', { db: '/home/analyst/larkmoor.spendmix.db', customers: 6_000, receipts: 312_400, visits: 401_220, receiptRows: 871_090 }, ['generating', 'writing']),
+  featuresSql: async (input) => ({
+    sql: '-- (preview) the feature query\nWITH receipt_rows AS (SELECT 1)\nSELECT 1',
+    dialect: input.dialect ?? 'duckdb',
+    asOf: input.asOf,
+    windowMonths: input.windowMonths ?? 12,
+    windowStart: '2025-12-01',
+    tables: { receipts: input.receiptsTable ?? 'receipts', visits: input.visitsTable ?? 'visits', customers: input.customersTable ?? 'customers' },
+    columns: ['customer_id', 'spend_per_month', 'visits_per_month', 'average_basket', 'too_new'],
+  }),
+  modelSql: async (input) => ({
+    sql: '-- (preview) the scoring query\nWITH model_input AS (SELECT 1)\nSELECT 1',
+    dialect: input.dialect ?? 'duckdb',
+    runId: input.runId,
+    featuresTable: input.featuresTable ?? 'customer_features',
+    features: ['spend_per_month', 'visits_per_month', 'average_basket'],
+    segments: ['Tier 1', 'Tier 2', 'Tier 3'],
+    components: 3,
+    columns: ['customer_id', 'segment', 'confidence', 'margin', 'borderline', 'atypical'],
+    emptyValues: 'scored on the observed features',
+  }),
   cancelTask: async (input) => ({ taskId: input.taskId, cancelled: true }),
   taskStatus: async (input) => ({ taskId: input.taskId, method: 'loadDemo', state: 'done', startedAt: '', finishedAt: '', progress: null, result: taskResults.get(input.taskId), error: null }),
 };
@@ -388,6 +414,7 @@ export const fakeClient: SpendmixClient = {
     chooseOpenFile: async () => null,
     chooseSavePath: async () => null,
     pathForFile: async (file) => `/tmp/uploads/${file.name}`,
+    deliverExport: async () => undefined,
     onMenuCommand: () => () => undefined,
   },
   onTaskEvent: (listener) => {

@@ -1,0 +1,169 @@
+/**
+ * The second test chain (Marrowdine Provisions, invented; test/support/second-chain) through the
+ * app as an analyst uses it: the CLI's `import` of its three files, then the default `refresh`
+ * at its last day. Checks what holds of the generator and of today's run; how well the run
+ * recovers the generated tiers is measured by evaluateAgainstTruth (figures in the benchmark
+ * test/bench/segments-against-truth.ts), not asserted here.
+ */
+import { mkdtempSync, readFileSync, rmSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { spendmixJson, type ImportJson } from '../support/cli-runner.js';
+import { SPEND_TIERS } from '../support/second-chain/chain.js';
+import { generateSecondChain, type SecondChainResult } from '../support/second-chain/generate.js';
+import { evaluateAgainstTruth, placedLabels, readTruthFile, type Truth, type TruthEvaluation } from '../support/truth-evaluation.js';
+
+const CUSTOMERS = 1000;
+/** The default 12-month window ending at the chain's last day, 2026-06-30. */
+const WINDOW_FIRST_DATE = '2025-07-01';
+const DAYS_PER_MONTH = 365.25 / 12; // the app's tenure months (common practice)
+
+interface RefreshJson {
+  runId: number;
+  customers: number;
+  tooNew: number;
+  borderline: number;
+  atypical: number;
+  segments: { name: string; customers: number }[];
+}
+
+let folder: string;
+let dataDir: string;
+let dbPath: string;
+let chain: SecondChainResult;
+let truth: Truth;
+const imports: Record<string, ImportJson> = {};
+let refresh: RefreshJson;
+let evaluation: TruthEvaluation;
+
+/** Data lines of one of the generator's files, split at commas (it writes no quoted fields). */
+function rowsOf(name: string): string[][] {
+  return readFileSync(join(dataDir, name), 'utf8').trim().split('\n').slice(1).map((line) => line.split(','));
+}
+
+const dayOf = (isoDate: string) => Date.parse(`${isoDate}T00:00:00Z`) / 86_400_000;
+
+beforeAll(async () => {
+  folder = mkdtempSync(join(tmpdir(), 'spendmix-second-chain-'));
+  dataDir = join(folder, 'data');
+  dbPath = join(folder, 'chain.db');
+  chain = generateSecondChain({ outDir: dataDir, customers: CUSTOMERS });
+  truth = readTruthFile(join(dataDir, 'truth.csv'));
+  for (const kind of ['customers', 'receipts', 'visits'] as const) {
+    imports[kind] = await spendmixJson<ImportJson>('import', '--db', dbPath, `--${kind}`, join(dataDir, `${kind}.csv`));
+  }
+  refresh = await spendmixJson<RefreshJson>('refresh', '--db', dbPath, '--as-of', chain.lastDate);
+  evaluation = await evaluateAgainstTruth(dbPath, refresh.runId, truth);
+});
+
+afterAll(() => {
+  if (folder) rmSync(folder, { recursive: true, force: true });
+});
+
+describe('the second test chain generator', () => {
+  it('is seeded: the same seed and size give the same bytes, another seed other data', () => {
+    const files = ['receipts.csv', 'visits.csv', 'customers.csv', 'truth.csv', 'manifest.json'];
+    const write = (name: string, seed: number) => generateSecondChain({ outDir: join(folder, name), customers: 150, seed }).dir;
+    const [first, again, other] = [write('seeded-a', 7), write('seeded-b', 7), write('seeded-c', 8)];
+    for (const file of files) expect(readFileSync(join(again, file)).equals(readFileSync(join(first, file))), file).toBe(true);
+    expect(readFileSync(join(other, 'receipts.csv')).equals(readFileSync(join(first, 'receipts.csv')))).toBe(false);
+  });
+
+  it('truth.csv names every customer of customers.csv once, with a tier and a group that add up to its counts', () => {
+    const customerIds = rowsOf('customers.csv').map(([id]) => id);
+    expect(customerIds).toHaveLength(CUSTOMERS);
+    expect([...truth.keys()].sort()).toEqual([...customerIds].sort());
+    const tierNames = new Set([...SPEND_TIERS.map((tier) => tier.name), 'atypical']);
+    const tiers: Record<string, number> = {};
+    const groups: Record<string, number> = {};
+    for (const [, tier, group] of rowsOf('truth.csv')) {
+      expect(tierNames.has(tier), tier).toBe(true);
+      tiers[tier] = (tiers[tier] ?? 0) + 1;
+      groups[group] = (groups[group] ?? 0) + 1;
+    }
+    expect(tiers).toEqual(Object.fromEntries(Object.entries(chain.tiers).filter(([, count]) => count > 0)));
+    expect(groups).toEqual(Object.fromEntries(Object.entries(chain.groups).filter(([, count]) => count > 0)));
+    expect(chain.groups.atypical).toBeGreaterThanOrEqual(2);
+    expect(chain.groups.new).toBeGreaterThan(0);
+  });
+
+  it('tells its story in the data: median spend per month rises from occasional to top-up, weekly and household', () => {
+    const spendCents = new Map<string, number>();
+    for (const [, customerId, , date, , amount] of rowsOf('receipts.csv')) {
+      if (date >= WINDOW_FIRST_DATE) spendCents.set(customerId, (spendCents.get(customerId) ?? 0) + Math.round(Number(amount) * 100));
+    }
+    const medianSpend = (tier: string) => {
+      const values = [...truth.entries()]
+        .filter(([customerId, label]) => label === tier && spendCents.has(customerId))
+        .map(([customerId]) => spendCents.get(customerId)!)
+        .sort((a, b) => a - b);
+      return values[Math.floor(values.length / 2)];
+    };
+    const medians = SPEND_TIERS.map((tier) => medianSpend(tier.name));
+    for (let t = 1; t < medians.length; t++) expect(medians[t], SPEND_TIERS[t].name).toBeGreaterThan(medians[t - 1]);
+  });
+});
+
+describe('the second test chain through the CLI', () => {
+  it('imports every generated row: none rejected, none skipped, the amount total to the cent', () => {
+    const expected = { customers: chain.customers, receipts: chain.receipts, visits: chain.visits };
+    for (const [kind, rows] of Object.entries(expected)) {
+      expect(imports[kind], kind).toMatchObject({ rowsRead: rows, rowsImported: rows, rowsRejected: 0, duplicatesSkipped: 0, alreadyImported: false });
+    }
+    expect(Math.round(imports.receipts.amountTotal! * 100)).toBe(chain.amountCents);
+  });
+
+  it('the default refresh places exactly the customers with two purchases in the window and two months of tenure', () => {
+    const asOfDay = dayOf(chain.lastDate);
+    const joinedDay = new Map(rowsOf('customers.csv').map(([id, joined]) => [id, dayOf(joined)]));
+    const purchases = new Map<string, Set<string>>();
+    const inWindow = new Set<string>();
+    for (const [receiptId, customerId, , date, , amount] of rowsOf('receipts.csv')) {
+      if (date < WINDOW_FIRST_DATE) continue;
+      inWindow.add(customerId);
+      if (Number(amount) > 0) purchases.set(customerId, (purchases.get(customerId) ?? new Set()).add(receiptId));
+    }
+    // Every customer's activity starts on or after joining, so tenure runs from the joined day.
+    const expectedPlaced = [...inWindow]
+      .filter((id) => (purchases.get(id)?.size ?? 0) >= 2 && (asOfDay - joinedDay.get(id)! + 1) / DAYS_PER_MONTH >= 2)
+      .sort();
+
+    const placed = placedLabels(dbPath, refresh.runId, truth).customerIds;
+    expect(placed).toEqual(expectedPlaced);
+    expect(refresh.customers).toBe(expectedPlaced.length);
+    expect(refresh.tooNew).toBe(inWindow.size - expectedPlaced.length);
+    const placedSet = new Set(placed);
+    const truthRows = rowsOf('truth.csv');
+    expect(truthRows.filter(([id, , group]) => group === 'new' && placedSet.has(id))).toEqual([]);
+    expect(truthRows.filter(([id, , group]) => group === 'atypical' && !placedSet.has(id))).toEqual([]);
+  });
+
+  it('evaluateAgainstTruth reports the run as the CLI does, with a cross table over every placed customer', () => {
+    expect(evaluation).toMatchObject({
+      runId: refresh.runId,
+      placed: refresh.customers,
+      tooNew: refresh.tooNew,
+      borderline: refresh.borderline,
+      atypical: refresh.atypical,
+      segments: refresh.segments.length,
+    });
+    expect(evaluation.segmentTable.map(({ name, customers }) => ({ name, customers }))).toEqual(
+      refresh.segments.map(({ name, customers }) => ({ name, customers })),
+    );
+    expect(evaluation.borderlineShare).toBeCloseTo(refresh.borderline / refresh.customers, 12);
+    expect(evaluation.queueShare).toBeCloseTo(evaluation.queue / refresh.customers, 12);
+    expect(evaluation.queue).toBeLessThanOrEqual(refresh.customers);
+
+    const { counts, segmentNames, truthLabels } = evaluation.crossTable;
+    expect(segmentNames).toEqual(refresh.segments.map((segment) => segment.name));
+    const columnTotals = segmentNames.map((_, c) => counts.reduce((total, row) => total + row[c], 0));
+    expect(columnTotals).toEqual(refresh.segments.map((segment) => segment.customers));
+    const placed = placedLabels(dbPath, refresh.runId, truth);
+    truthLabels.forEach((label, r) => {
+      expect(counts[r].reduce((a, b) => a + b, 0)).toBe(placed.truthLabels.filter((placedLabel) => placedLabel === label).length);
+    });
+    expect(evaluation.ari).toBeGreaterThan(-1);
+    expect(evaluation.ari).toBeLessThanOrEqual(1);
+  });
+});
