@@ -58,7 +58,7 @@ describe('text that is not UTF-8', () => {
     const path = writeText(folder, 'a.csv', 'customer_id,date,amount\nLM1,2026-01-05,1.00\n');
     const result = await runCliCaptured(['import', '--db', join(folder, 'spendmix.db'), '--receipts', path, '--encoding', 'latin9']);
     expect(result.code).toBe(2);
-    expect(result.stderr).toContain('--encoding must be utf-8 or windows-1252; got "latin9".');
+    expect(result.stderr).toContain('(encoding, --encoding) must be one of utf-8, windows-1252 (got "latin9")');
   });
 });
 
@@ -97,7 +97,7 @@ describe('dates outside a plausible range', () => {
     expect(JSON.parse(wide.stdout)).toMatchObject({ rowsImported: 100, rowsRejected: 0 });
     const bad = await runCliCaptured(['import', '--db', join(folder, 'c.db'), '--receipts', path, '--plausible-dates', '2026-12-31..2026-01-01']);
     expect(bad.code).toBe(2);
-    expect(bad.stderr).toContain('The plausible date range must be two dates YYYY-MM-DD, the first not after the second');
+    expect(bad.stderr).toContain('(plausibleDates, --plausible-dates) must not start after it ends');
   });
 
   it('the default is 1990-01-01 to a year after today, from the API contract (the one place for defaults)', () => {
