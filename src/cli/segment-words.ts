@@ -2,7 +2,7 @@
 import type { QueueCounts, SegmentationMethod } from '../api/contract.js';
 
 export const segmentationWords: Record<SegmentationMethod, string> = {
-  auto: 'the entropy change point',
+  auto: 'where the entropy curve flattens',
   level: 'a chosen number of segments',
   hand: 'merged and split by hand',
 };

@@ -159,6 +159,24 @@ export function combineComponents(posteriors: Float64Array, rows: number, compon
   };
 }
 
+/**
+ * The number of segments reached by merging down the hierarchy only while each merge joins groups
+ * whose rows could not tell them apart: merging stops before the first merge whose entropy drop
+ * per merged row (rows of the two merged groups, `mergedRows`) is below `natsPerRow` — where the
+ * slope of the normalised entropy curve first flattens below it. A row split p / (1 − p) between
+ * two groups loses −p log p − (1 − p) log(1 − p) nats when they merge, so the threshold reads as
+ * "on average at least that unsure between the two".
+ */
+export function segmentsWhileAmbiguous(hierarchy: CombiningHierarchy, natsPerRow: number): number {
+  if (!(natsPerRow > 0)) throw new InputError(`The entropy drop per merged row must be positive; got ${natsPerRow}.`);
+  const { levels } = hierarchy;
+  for (let i = 1; i < levels.length; i++) {
+    const drop = levels[i - 1].entropy - levels[i].entropy;
+    if (levels[i].mergedRows === 0 || drop / levels[i].mergedRows < natsPerRow) return levels[i - 1].segmentCount;
+  }
+  return levels[levels.length - 1].segmentCount;
+}
+
 /** The pair (l1 < l2) whose merge lowers the entropy most, in mclust's order of search (see the file comment). */
 function bestMerge(current: Float64Array, rows: number, count: number): [number, number] {
   let best: [number, number] = [0, 1];

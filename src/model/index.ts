@@ -20,6 +20,7 @@ export { AGGLOMERATION_SAMPLE } from './agglomeration.js';
 export { RANDOM_PARTITION_ROWS_PER_COMPONENT, startMethodOf } from './init.js';
 export {
   combineComponents,
+  segmentsWhileAmbiguous,
   segmentPosteriors,
   classify,
   segmentationAtLevel,

@@ -1,6 +1,6 @@
 /**
  * Changing a stored run's segmentation in place (DESIGN.md §5): a level of the combining hierarchy
- * (a number of segments, or auto for the entropy curve's change point), a merge of two segments,
+ * (a number of segments, or auto: where the entropy curve flattens), a merge of two segments,
  * or a split of one back into groups of its components. The segment memberships are re-summed
  * from the stored component posteriors (no refit), then flags, the review queue, names (renames
  * kept where a segment continues an old one: ./carry-keys.ts), profiles, movement and stability
@@ -47,7 +47,7 @@ function changedSegmentation(
     const count = chosen.segmentation.segments.length;
     const words =
       change.level === 'auto'
-        ? `combined into ${count} segment${count === 1 ? '' : 's'} at the entropy curve's change point`
+        ? `combined into ${count} segment${count === 1 ? '' : 's'} where the entropy curve flattens`
         : `combined into ${count} segment${count === 1 ? '' : 's'}`;
     return { ...chosen, words };
   }

@@ -5,6 +5,7 @@ import {
   mergeSegments,
   segmentationAtLevel,
   segmentPosteriors,
+  segmentsWhileAmbiguous,
   splitSegment,
   type Segmentation,
 } from '../../src/model/index.js';
@@ -103,6 +104,34 @@ describe('combining worked by hand', () => {
     expect(hierarchy.levels[2].entropy).toBe(0);
     // Three levels: the two-piece fit's only possible change point is at 2 segments.
     expect(hierarchy.chosenSegments).toBe(2);
+  });
+
+  it('auto merges only while the merged rows are unsure between the two groups', () => {
+    const xlogx = (value: number) => (value > 0 ? value * Math.log(value) : 0);
+    // Components 0 and 1 overlap (rows split 50 / 50 or 60 / 40 between them); component 2 is told
+    // apart from them by rows at 97 / 3 at worst; component 3 stands apart.
+    const rows = [
+      [0.5, 0.5, 0, 0],
+      [0.6, 0.4, 0, 0],
+      [0.4, 0.6, 0, 0],
+      [0.97, 0, 0.03, 0],
+      [0, 0, 1, 0],
+      [0, 0.03, 0.97, 0],
+      [0, 0, 0, 1],
+    ];
+    const hierarchy = combineComponents(Float64Array.from(rows.flat()), rows.length, 4);
+    // The first merge joins 0 and 1: rows 0–3 were theirs, each loses its whole 0/1 split.
+    expect(hierarchy.levels[1].segmentation.segments).toContainEqual([0, 1]);
+    const firstDrop = (hierarchy.levels[0].entropy - hierarchy.levels[1].entropy) / hierarchy.levels[1].mergedRows;
+    expect(firstDrop).toBeCloseTo((-xlogx(0.5) * 2 - (xlogx(0.6) + xlogx(0.4)) * 2) / 4, 12);
+    // The next merge, of {0, 1} with 2, removes 97 / 3 splits only (0.135 nats a row): auto stops at 3.
+    const secondDrop = (hierarchy.levels[1].entropy - hierarchy.levels[2].entropy) / hierarchy.levels[2].mergedRows;
+    expect(secondDrop).toBeLessThan(0.2);
+    expect(segmentsWhileAmbiguous(hierarchy, 0.2)).toBe(3);
+    // A lower bar lets it merge on; no bar above every drop merges nothing.
+    expect(segmentsWhileAmbiguous(hierarchy, secondDrop / 2)).toBeLessThan(3);
+    expect(segmentsWhileAmbiguous(hierarchy, firstDrop + 0.01)).toBe(4);
+    expect(inputErrorOf(() => segmentsWhileAmbiguous(hierarchy, 0)).message).toMatch(/must be positive/);
   });
 
   it('lets the analyst pick a level, merge two segments and split one back, and refuses what cannot be', () => {

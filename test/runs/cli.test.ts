@@ -36,7 +36,7 @@ describe('refresh, runs, review', () => {
 
     const rescore = await cli('refresh', '--db', demo.path, '--as-of', '2026-11-30', '--mode', 'rescore', '--parent', '1');
     expect(rescore.code).toBe(0);
-    expect(rescore.stdout).toMatch(/^Run 3 \(parent 1\): k = 4 diag components combined into \d+ segments? \(the entropy change point\)/);
+    expect(rescore.stdout).toMatch(/^Run 3 \(parent 1\): k = 4 diag components combined into \d+ segments? \(where the entropy curve flattens\)/);
   });
 
   it('runs lists them newest first', async () => {

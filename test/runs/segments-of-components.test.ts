@@ -74,7 +74,7 @@ describe('regrouping a stored run', () => {
     const tree = segmentationOf(db, october.runId);
     expect(tree.components).toBe(6);
     expect(tree.levels.map((level) => level.segmentCount)).toEqual([6, 5, 4, 3, 2, 1]);
-    // Auto took the change point.
+    // Auto took the level where the entropy curve flattens.
     expect(october.segmentation).toBe('auto');
     expect(october.segmentCount).toBe(tree.autoSegmentCount);
 

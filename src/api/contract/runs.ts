@@ -34,7 +34,7 @@ export interface RunSummary {
   bic: number;
   /** Segments the components are combined into (the length of `segments`). */
   segmentCount: number;
-  /** How the segmentation was chosen: auto (the entropy change point), level (a number the analyst picked) or hand (merges and splits). */
+  /** How the segmentation was chosen: auto (where the entropy curve flattens), level (a number the analyst picked) or hand (merges and splits). */
   segmentation: SegmentationMethod;
   /** Customers placed in a segment (too-new customers excluded). */
   customers: number;

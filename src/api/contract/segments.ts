@@ -100,7 +100,7 @@ export interface SegmentsResult {
   components: ComponentShape[];
 }
 
-/** How a run's segmentation was chosen: the entropy change point, a number of segments the analyst picked, or merges and splits by hand. */
+/** How a run's segmentation was chosen: auto (where the entropy curve flattens), a number of segments the analyst picked, or merges and splits by hand. */
 export const segmentationMethods = ['auto', 'level', 'hand'] as const;
 export type SegmentationMethod = (typeof segmentationMethods)[number];
 
@@ -126,7 +126,7 @@ export interface RunSegmentation {
   covariance: CovarianceType;
   method: SegmentationMethod;
   segmentCount: number;
-  /** The number of segments the entropy curve's change point chooses (what auto gives). */
+  /** What auto gives: merged while the merged customers lose ≥ 0.2 nats each on average (where the normalised entropy curve flattens). */
   autoSegmentCount: number;
   /** The change point against the cumulative count of merged customers (the normalised curve), shown beside it. */
   autoSegmentCountByMergedRows: number;
@@ -145,7 +145,7 @@ const componentIndex = z.number().int().min(0).max(MAX_COMPONENTS - 1);
 
 /**
  * One change of a run's segmentation: a level of the hierarchy (a number of segments, or auto for
- * the change point), merging two segments, or splitting one back into groups of its components.
+ * auto), merging two segments, or splitting one back into groups of its components.
  */
 export const segmentationChange = z.union([
   z.strictObject({

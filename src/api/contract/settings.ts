@@ -154,13 +154,13 @@ const componentIndex = z.number().int().min(0).max(MAX_COMPONENTS - 1);
 /**
  * How the Gaussian components become the segments an analyst acts on (DESIGN.md §5): combined
  * hierarchically by the entropy criterion, down to the number of segments chosen at the entropy
- * curve's change point ('auto') or given here; or an explicit grouping (what `runs --settings-out`
+ * curve's flattening ('auto': merged while the merged customers are unsure between the two groups) or given here; or an explicit grouping (what `runs --settings-out`
  * writes after merges and splits by hand, so `refresh --settings` repeats the month exactly).
  */
 export const segmentSettings = {
   segmentCount: named(
     z.union([z.number().int().min(1).max(MAX_COMPONENTS), z.literal('auto')]).default('auto'),
-    'number of segments the components are combined into, or auto (the change point of the entropy curve)',
+    'number of segments the components are combined into, or auto (merged while customers are unsure between the two, where the entropy curve flattens)',
     '--segment-count',
   ),
   segmentation: named(

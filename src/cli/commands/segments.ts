@@ -113,7 +113,7 @@ export const registerSegments: RegisterCommand = (program, io, setExitCode) => {
 
   segments
     .command('level <count>')
-    .description('Combine the components into this many segments (a level of the hierarchy), or auto for the entropy change point.')
+    .description('Combine the components into this many segments (a level of the hierarchy), or auto: merged while customers are unsure between the two, where the entropy curve flattens.')
     .option('--json', 'print one JSON object {summary, change, keptKeys, retired, added, laterRunsUpdated}')
     .action((count: string, options: Record<string, unknown>) =>
       onGroupRun(segments, io, setExitCode, (api, runId) =>

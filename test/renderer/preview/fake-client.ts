@@ -375,7 +375,7 @@ const api: Api = {
   runSummary: async (input) => summary(input.runId),
   segments: async (input) => ({ runId: input.runId, features: featureNames, segments: segmentProfiles(), components: componentShapes }),
   segmentation: async (input) => {
-    // Entropy falls steeply over the first merges (components of one segment), then flattens: the change point at 4.
+    // Entropy falls steeply over the first merges (components of one segment), then flattens: auto stops at 4.
     const levels: ApiOutput<'segmentation'>['levels'] = [
       { segmentCount: 6, entropy: 9_840, mergedRows: 0, merged: null, groups: [[0], [1], [2], [3], [4], [5]] },
       { segmentCount: 5, entropy: 6_120, mergedRows: 7_300, merged: [1, 4], groups: [[0], [1, 4], [2], [3], [5]] },
