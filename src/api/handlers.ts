@@ -13,11 +13,13 @@ import { movementOf } from '../runs/read/movement.js';
 import { reviewQueuePage } from '../runs/read/review-queue.js';
 import { getRunDetail } from '../runs/read/run-detail.js';
 import { countRuns, listRuns } from '../runs/read/runs-list.js';
+import { featureData } from '../runs/feature-data.js';
 import { featureDistribution, segmentSample } from '../runs/read/segment-sample.js';
+import { segmentationOf } from '../runs/read/segmentation.js';
 import { listSegments } from '../runs/read/segments.js';
 import { sweepTable } from '../runs/read/sweep.js';
 import { renameSegment } from '../runs/rename-segment.js';
-import { decideReview } from '../runs/review-decisions.js';
+import { acceptUnqueued, decideReview } from '../runs/review-decisions.js';
 import { databaseCounts } from '../store/database-counts.js';
 import { CURRENT_SCHEMA_VERSION } from '../store/database.js';
 import { isoDateFromDay } from '../store/days.js';
@@ -25,7 +27,7 @@ import { toApiError, parseInput } from './api-errors.js';
 import {
   apiSchemas,
   covarianceTypes,
-  defaultModelFeatures,
+  defaultReceiptFeatures,
   defaultTransform,
   startRunInput,
   type ApiMethod,
@@ -81,13 +83,15 @@ export const handlers = {
   listImports: (session) => importHistory(session.db()),
   savedMapping: (session, input) => savedMapping(session.db(), input.kind),
   modelOptions: (session) => {
-    const range = dataRange(session.db());
+    const db = session.db();
+    const range = dataRange(db);
+    const defaults = defaultReceiptFeatures(featureData(db));
     const features = computedFeatureNames.map((name) => ({
       name,
       label: featureDescriptions[name].label,
       unit: featureDescriptions[name].unit,
       meaning: featureDescriptions[name].meaning,
-      inDefaultSet: defaultModelFeatures.includes(name),
+      inDefaultSet: defaults.includes(name),
       defaultTransform: defaultTransform(name, 'receipts'),
     }));
     const asOf = range ? isoDateFromDay(range.lastDay) : new Date().toISOString().slice(0, 10);
@@ -109,6 +113,8 @@ export const handlers = {
   listRuns: (session) => listRuns(session.db()),
   runSummary: (session, input) => getRunDetail(session.db(), input.runId),
   segments: (session, input) => listSegments(session.db(), input.runId),
+  segmentation: (session, input) => segmentationOf(session.db(), input.runId),
+  regroupSegments: (session, input) => session.startTask('regroupSegments', input),
   sweepTable: (session, input) => sweepTable(session.db(), input.runId),
   segmentSample: (session, input) => segmentSample(session.db(), input),
   featureDistribution: (session, input) => featureDistribution(session.db(), input),
@@ -117,6 +123,7 @@ export const handlers = {
   borderline: (session, input) => borderlinePage(session.db(), input),
   reviewQueue: (session, input) => reviewQueuePage(session.db(), input),
   decideReview: (session, input) => smallWrite(session, 'The decision', () => decideReview(session.db(), input)),
+  acceptUnqueued: (session, input) => smallWrite(session, 'The decisions', () => acceptUnqueued(session.db(), input)),
   renameSegment: (session, input) => smallWrite(session, 'The new name', () => renameSegment(session.db(), input)),
   movement: (session, input) => movementOf(session.db(), input.runId),
   importFile: (session, input) =>
@@ -170,7 +177,13 @@ function smallWrite<T>(session: ApiSession, what: string, write: () => T): T {
   }
 }
 
-const taskWords: Record<LongTaskMethod, string> = { importFile: 'import', startRun: 'segmentation run', exportRun: 'export', loadDemo: 'demo load' };
+const taskWords: Record<LongTaskMethod, string> = {
+  importFile: 'import',
+  startRun: 'segmentation run',
+  regroupSegments: 'regrouping of segments',
+  exportRun: 'export',
+  loadDemo: 'demo load',
+};
 
 function isApiMethod(method: string): method is ApiMethod {
   return Object.prototype.hasOwnProperty.call(apiSchemas, method);

@@ -6,6 +6,7 @@ import { exportRun } from '../export/export-run.js';
 import { importFile } from '../ingest/import-file.js';
 import { demoDatabaseSummary, loadDemoFiles } from '../ingest/load-demo.js';
 import { featureData } from '../runs/feature-data.js';
+import { regroupSegments } from '../runs/regroup.js';
 import { runSegmentation } from '../runs/run.js';
 import type { RunProgress } from '../runs/types.js';
 import { openDatabase, type Database } from '../store/database.js';
@@ -24,7 +25,7 @@ import type { LongTaskRequest } from './long-task-request.js';
 import type { ProgressReporter } from './tasks.js';
 
 /**
- * The long tasks' work: import, segmentation run, export and demo load, each on its own database
+ * The long tasks' work: import, segmentation run, regrouping a run's segments, export and demo load, each on its own database
  * connection. The app runs them on a worker thread (task-worker.ts); the CLI runs the same
  * function on its own thread (src/cli/session.ts), so both do exactly the same work.
  */
@@ -128,6 +129,12 @@ async function runOn(db: Database, request: LongTaskRequest, context: LongTaskCo
         signal: context.signal,
         onProgress: (progress) =>
           context.onProgress({ phase: progress.phase, done: progress.done, total: progress.total || null, message: runProgressMessage(progress) }),
+      });
+    case 'regroupSegments':
+      return regroupSegments(db, request.input, {
+        signal: context.signal,
+        onProgress: (progress) =>
+          context.onProgress({ phase: progress.phase, done: progress.done, total: progress.total || null, message: progress.message }),
       });
     case 'exportRun': {
       const { runId, ...options } = request.input;

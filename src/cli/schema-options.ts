@@ -72,3 +72,18 @@ export function inputFromFlags(options: readonly SchemaOption[], given: Record<s
   }
   return input;
 }
+
+/**
+ * Groups of component indices as a command line writes them: groups separated by `;`, indices in
+ * a group by `,` ("0,2;1;3" → [[0, 2], [1], [3]]). Indices are handed on as typed (numbers where
+ * they look like one), so the API words any refusal; an empty group stays empty for it to refuse.
+ */
+export function componentGroups(raw: string): unknown[][] {
+  return raw.split(';').map((group) =>
+    group
+      .split(',')
+      .map((part) => part.trim())
+      .filter((part) => part.length > 0)
+      .map(numberOrText),
+  );
+}

@@ -277,3 +277,24 @@ export const featureDefinitions = {
 export function featureUnit(name: string): string {
   return isComputedFeature(name) ? featureDescriptions[name].unit : '';
 }
+
+/** A feature's value in words with its unit, as sentences show it: "EUR 10,918", "12.3 visits per month", "62 %". */
+export function featureValueWords(name: string, value: number): string {
+  const unit = featureUnit(name);
+  const number = (digits: number) => value.toLocaleString('en-GB', { minimumFractionDigits: digits, maximumFractionDigits: digits });
+  switch (unit) {
+    case 'EUR':
+    case 'EUR per month':
+      return `EUR ${number(Math.abs(value) >= 100 ? 0 : 2)}`;
+    case 'share':
+      return `${(value * 100).toLocaleString('en-GB', { maximumFractionDigits: 1 })} %`;
+    case 'days':
+    case 'months':
+    case 'purchases':
+      return `${number(Number.isInteger(value) ? 0 : 1)} ${unit}`;
+    case 'visits per month':
+      return `${number(1)} ${unit}`;
+    default:
+      return value.toLocaleString('en-GB', { maximumSignificantDigits: 4 });
+  }
+}

@@ -66,8 +66,9 @@ export function persistRun(db: Database, record: RunRecord): number {
             @transforms, @model, @sweep, @criterion, @k, @covariance, @logLikelihood, @bic, @icl, @customers, @tooNew,
             @borderline, @atypical, @atypicalCut, @stability, @warnings, @retired, @movement)`);
   const insertSegment = db.prepare(`
-    INSERT INTO run_segments (run_id, segment_index, segment_key, name, spend_rank, origin, customers, share, revenue_cents, revenue_share, profile)
-    VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`);
+    INSERT INTO run_segments (run_id, segment_index, segment_key, name, spend_rank, origin, customers, share, revenue_cents, revenue_share, profile,
+                              components, default_name)
+    VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, json_array(?), ?)`);
   const insertMembership = db.prepare(`
     INSERT INTO run_memberships (run_id, customer_id, segment_index, confidence, margin, second_index, second_probability, log_density,
                                  borderline, atypical, partial, too_new, review, previous_key, revenue_cents, spend_per_month, features, posteriors)
@@ -130,6 +131,8 @@ export function persistRun(db: Database, record: RunRecord): number {
           transformedMean: Array.from(model.means.subarray(c * d, (c + 1) * d)),
           transformedStdDev: Array.from({ length: d }, (_, j) => Math.sqrt(model.covariances[(c * d + j) * d + j])),
         }),
+        c,
+        segment.name,
       );
     }
     const featureVector = new Float64Array(storedFeatures.length);

@@ -8,7 +8,7 @@
  * customer) without ever being shown in the queue. A refused call stores nothing.
  */
 import type { Database } from 'better-sqlite3';
-import type { DecideReviewInput, ReviewItem } from '../api/contract.js';
+import type { AcceptUnqueuedInput, AcceptUnqueuedResult, DecideReviewInput, ReviewItem } from '../api/contract.js';
 import { InputError } from '../errors.js';
 import { reviewItem } from './read/review-queue.js';
 import { runSegments } from './read/run-segments.js';
@@ -41,4 +41,9 @@ export function decideReview(db: Database, input: DecideReviewInput): ReviewItem
     ).run(runId, customerId, input.action, segmentKey, input.note || null, input.reviewer || null, new Date().toISOString());
   }).immediate();
   return reviewItem(db, runId, customerId)!;
+}
+
+/** Keep decisions for every flagged customer beyond the capacity who has none yet, in one transaction. */
+export function acceptUnqueued(_db: Database, _input: AcceptUnqueuedInput): AcceptUnqueuedResult {
+  throw new Error('Accepting the rest is being built.');
 }

@@ -23,6 +23,27 @@ export function reviewReasons(mask: number): ReviewReason[] {
   return reasons;
 }
 
+/**
+ * How uncertain a flagged customer is, in [0, 1], for the queue's order (what a decision is
+ * worth = spend at stake × this): 1 − confidence for a borderline customer or a mover (the chance
+ * the model's segment is wrong); for a customer who is only atypical, how far below the atypical
+ * cut their density sits, 1 − exp(logDensity − cut) = 1 − density / density at the cut (0 at the
+ * cut, towards 1 far below it). Where both apply, the larger.
+ */
+export function reviewUncertainty(mask: number, confidence: number, logDensity: number, atypicalCut: number | null): number {
+  let uncertainty = 0;
+  if (mask & (REVIEW_BORDERLINE | REVIEW_MOVER)) uncertainty = 1 - confidence;
+  if (mask & REVIEW_ATYPICAL && atypicalCut !== null && Number.isFinite(atypicalCut) && logDensity < atypicalCut) {
+    uncertainty = Math.max(uncertainty, 1 - Math.exp(logDensity - atypicalCut));
+  }
+  return Math.min(1, Math.max(0, uncertainty));
+}
+
+/** What a decision is worth: spend at stake (net window spend, EUR, none when negative) × uncertainty. */
+export function reviewValue(revenueEur: number, uncertainty: number): number {
+  return Math.max(0, revenueEur) * uncertainty;
+}
+
 /** A mover worth a look: placed in a different segment (by key) than last month, and unsure now. */
 export function isLowConfidenceMover(previousKey: string | null, currentKey: string, confidence: number, threshold: number | null): boolean {
   return threshold !== null && previousKey !== null && previousKey !== currentKey && confidence < threshold;

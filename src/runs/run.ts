@@ -20,6 +20,7 @@ import { countMovement, driftWarnings, segmentMoments, type StoredMovement } fro
 import { carryNames, keyNumber, nameFirstRun, type NamedSegment } from './naming.js';
 import { latestEarlierRunId, loadParentRun, type ParentRun } from './parent.js';
 import { persistRun, type CarriedDecision } from './persist.js';
+import { getRunSummary } from './read/run-detail.js';
 import { transformSpecOf } from './read/stored-run.js';
 import { segmentProfiles } from './profiles.js';
 import { carriesOver, isLowConfidenceMover, reviewMask } from './review-rules.js';
@@ -158,25 +159,7 @@ export async function runSegmentation(db: Database, input: ExplicitRunSettings, 
     onProgress: (done) => report('store', done, table.customerIds.length, 'Storing the run'),
   });
 
-  const bySpend = [...segments].sort((a, b) => a.spendRank - b.spendRank);
-  return {
-    runId,
-    parentRunId,
-    k,
-    covariance: model.covarianceType,
-    bic,
-    customers: placedRows.length,
-    tooNew,
-    borderline: flags.borderline.reduce((a, b) => a + b, 0),
-    atypical: flags.atypical.reduce((a, b) => a + b, 0),
-    segments: bySpend.map((segment) => ({
-      name: segment.name,
-      customers: profiles[segment.index].customers,
-      share: profiles[segment.index].share,
-      revenueShare: profiles[segment.index].revenueShare,
-    })),
-    stability: movement ? movement.adjustedRandIndex : null,
-  };
+  return getRunSummary(db, runId);
 }
 
 type RunningSettings = ExplicitRunSettings & { parentRunId: number | null };

@@ -4,10 +4,11 @@
  * CLI see (summaries, profiles, memberships, review items, movement) is the contract's own type.
  *
  * Conventions: money in euros (numbers, two decimals of precision), shares in [0, 1], dates ISO
- * `YYYY-MM-DD`, segment `index` = the model's 0-based component index, `key` = a stable id that
- * carries a segment across months ("S1", "S2", …), `name` = what the analyst sees (renamable).
+ * `YYYY-MM-DD`, segment `index` = the segment's 0-based position in the run's segmentation (each
+ * segment one or more model components), `key` = a stable id that carries a segment across months
+ * ("S1", "S2", …), `name` = what the analyst sees (renamable).
  */
-import type { ReviewAction } from '../api/contract.js';
+import type { CombiningLevelSummary, ReviewAction, SegmentationMethod } from '../api/contract.js';
 import type { FitProgress } from '../model/index.js';
 
 /** Progress of a run: its phase and, during fitting, the engine's own report. */
@@ -43,4 +44,18 @@ export interface ExportCustomerRow {
   revenue: number;
   /** Stored features in original units, keyed by name (null where missing). */
   features: Record<string, number | null>;
+}
+
+/**
+ * How a run's components are combined into segments, as stored with the run (runs.segmentation):
+ * segments[s] lists segment s's component indices (ascending); the hierarchy summary is for the
+ * screens. Runs stored before segments were made of components read as one segment per
+ * component, method 'level', without a stored hierarchy (levels null: computed when asked for).
+ */
+export interface StoredSegmentation {
+  method: SegmentationMethod;
+  segments: number[][];
+  autoSegmentCount: number | null;
+  autoSegmentCountByMergedRows: number | null;
+  levels: CombiningLevelSummary[] | null;
 }

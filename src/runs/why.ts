@@ -1,16 +1,17 @@
 /**
  * The borderline "why": which features pull a customer between their top two segments a and b.
- * The log-odds log(π_a N(x; μ_a, Σ_a)) − log(π_b N(x; μ_b, Σ_b)) splits into the prior part
- * log(π_a/π_b) and the likelihood part ℓ(x) = log N_a(x) − log N_b(x).
- * - Diagonal covariances (diag, spherical): ℓ is exactly a sum of one term per feature,
- *     c_j = −½ [ln σ²_aj − ln σ²_bj + (x_j − μ_aj)²/σ²_aj − (x_j − μ_bj)²/σ²_bj].
- * - Full and tied covariances: correlated features share what they say, so there is no single
- *   per-feature split. We use the Shapley values (Shapley 1953) of the game v(S) = ℓ(x_S), where
- *   ℓ(x_S) uses the marginal Gaussians of the feature subset S: each feature gets its average added
- *   log-odds over all orders of adding features. The terms add up exactly to ℓ(x) and give the
- *   exact terms above when the covariances are diagonal; the split of shared information between
- *   correlated features is the convention this method states.
- * Positive terms pull towards a, negative towards b.
+ * Each segment is a mixture of its components, p_s(x) = Σ_{c in s} w_c N(x; μ_c, Σ_c), and the
+ * log-odds log p_a(x) − log p_b(x) splits into the prior part log(W_a / W_b) (the segments'
+ * summed weights) and the likelihood part ℓ(x) = log(p_a(x) / W_a) − log(p_b(x) / W_b).
+ *
+ * We split ℓ over the features by Shapley values (Shapley 1953) of the game v(S) = ℓ(x_S), where
+ * ℓ(x_S) uses the segments' marginal mixture densities on the feature subset S: each feature gets
+ * its average added log-odds over all orders of adding features. The terms add up exactly to ℓ(x).
+ * When both segments are one component of a diagonal structure (diag, spherical), ℓ is a sum of
+ * one term per feature, c_j = log N_a(x_j) − log N_b(x_j), and the Shapley values are exactly
+ * these terms, so the method is called exact there; with full or tied covariances, or segments of
+ * several components, correlated features share what they say and the split of that shared part
+ * is the convention this method states. Positive terms pull towards a, negative towards b.
  */
 import { featureLabel } from '../features/definitions.js';
 import { marginalLogDensity, type MixtureModel } from '../model/index.js';
@@ -24,40 +25,58 @@ const TERMS_IN_TEXT = 3;
 /** Above this many observed features the 2^m subsets of the Shapley split get too many. */
 const MAX_SHAPLEY_FEATURES = 16;
 
+/** A segment as the why needs it: its components and its name. */
+export interface WhySegment {
+  components: readonly number[];
+  name: string;
+}
+
 export function explainBorderline(
   model: MixtureModel,
   /** The customer's values in the model's transformed space (d); NaN = missing, skipped. */
   x: ArrayLike<number>,
-  top: number,
-  second: number,
+  top: WhySegment,
+  second: WhySegment,
   features: readonly string[],
-  segmentNames: readonly string[],
 ): BorderlineWhy {
   const d = model.dimensions;
   const observed: number[] = [];
   for (let j = 0; j < d; j++) if (!Number.isNaN(x[j])) observed.push(j);
   const diagonal = model.covarianceType === 'diag' || model.covarianceType === 'spherical';
-  const contributions = diagonal
-    ? observed.map((j) => diagonalTerm(model, x, top, second, j))
-    : shapleyTerms(model, x, top, second, observed);
+  const exact = diagonal && top.components.length === 1 && second.components.length === 1;
+  const contributions = shapleyTerms(model, x, top.components, second.components, observed);
   const terms: WhyTerm[] = observed.map((j, index) => ({
     feature: features[j],
     label: featureLabel(features[j]),
     contribution: contributions[index],
-    fits: contributions[index] >= 0 ? segmentNames[top] : segmentNames[second],
+    fits: contributions[index] >= 0 ? top.name : second.name,
   }));
   terms.sort((a, b) => Math.abs(b.contribution) - Math.abs(a.contribution));
-  const priorLogOdds = Math.log(model.weights[top] / model.weights[second]);
+  const priorLogOdds = Math.log(totalWeight(model, top.components) / totalWeight(model, second.components));
   return {
     terms,
     priorLogOdds,
-    method: diagonal ? 'exact' : 'shapley',
-    text: whyText(terms, priorLogOdds, segmentNames[top], segmentNames[second]),
+    method: exact ? 'exact' : 'shapley',
+    text: whyText(terms, priorLogOdds, top.name, second.name),
   };
 }
 
-/** Shapley value of each observed feature in the game v(S) = log N_a(x_S) − log N_b(x_S). */
-function shapleyTerms(model: MixtureModel, x: ArrayLike<number>, a: number, b: number, observed: readonly number[]): number[] {
+function totalWeight(model: MixtureModel, components: readonly number[]): number {
+  return components.reduce((sum, c) => sum + model.weights[c], 0);
+}
+
+/** log Σ_{c} (w_c / W) N_c(x_S): the segment's marginal mixture density on the features S, its weights normalised. */
+function segmentMarginalLogDensity(model: MixtureModel, components: readonly number[], x: ArrayLike<number>, indices: readonly number[]): number {
+  if (components.length === 1) return marginalLogDensity(model, components[0], x, indices);
+  const total = totalWeight(model, components);
+  const terms = components.map((c) => Math.log(model.weights[c] / total) + marginalLogDensity(model, c, x, indices));
+  const largest = Math.max(...terms);
+  if (largest === -Infinity) return -Infinity;
+  return largest + Math.log(terms.reduce((sum, term) => sum + Math.exp(term - largest), 0));
+}
+
+/** Shapley value of each observed feature in the game v(S) = log p_a(x_S) − log p_b(x_S) (weights normalised per segment). */
+function shapleyTerms(model: MixtureModel, x: ArrayLike<number>, a: readonly number[], b: readonly number[], observed: readonly number[]): number[] {
   const m = observed.length;
   if (m > MAX_SHAPLEY_FEATURES) {
     throw new Error(`The borderline explanation supports at most ${MAX_SHAPLEY_FEATURES} features; the model has ${m}.`);
@@ -69,7 +88,7 @@ function shapleyTerms(model: MixtureModel, x: ArrayLike<number>, a: number, b: n
     const indices: number[] = [];
     for (let bit = 0; bit < m; bit++) if (mask & (1 << bit)) indices.push(observed[bit]);
     size[mask] = indices.length;
-    value[mask] = marginalLogDensity(model, a, x, indices) - marginalLogDensity(model, b, x, indices);
+    value[mask] = segmentMarginalLogDensity(model, a, x, indices) - segmentMarginalLogDensity(model, b, x, indices);
   }
   // Weight of a coalition of size s that feature j joins: s! (m − s − 1)! / m!.
   const factorial = [1];
@@ -85,14 +104,9 @@ function shapleyTerms(model: MixtureModel, x: ArrayLike<number>, a: number, b: n
   });
 }
 
-/** The exact per-feature term of the log-odds for diagonal covariances: log N_a(x_j) − log N_b(x_j). */
-function diagonalTerm(model: MixtureModel, x: ArrayLike<number>, a: number, b: number, j: number): number {
-  return marginalLogDensity(model, a, x, [j]) - marginalLogDensity(model, b, x, [j]);
-}
-
 /**
- * "basket size fits Tier 2, visit rate fits Tier 3" from the ranked terms; when the segments'
- * sizes (the prior odds) tip the balance, that is said too.
+ * "basket size fits Frequent · small baskets, visit rate fits Regular · large baskets" from the
+ * ranked terms; when the segments' sizes (the prior odds) tip the balance, that is said too.
  */
 export function whyText(terms: readonly WhyTerm[], priorLogOdds = 0, topName = '', secondName = ''): string {
   const strong = terms.filter((term) => Math.abs(term.contribution) >= NEGLIGIBLE_TERM).slice(0, TERMS_IN_TEXT);

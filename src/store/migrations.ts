@@ -2,6 +2,7 @@ import type { Migration } from './migration-types.js';
 import { coreTables } from './migrations/001-core-tables.js';
 import { runTables } from './migrations/002-runs.js';
 import { runSamples } from './migrations/003-run-samples.js';
+import { segmentsOfComponents } from './migrations/004-segments.js';
 
 export type { Migration } from './migration-types.js';
 
@@ -13,6 +14,7 @@ export const migrations: readonly Migration[] = [
   coreTables,
   runTables,
   runSamples,
+  segmentsOfComponents,
 ];
 
 export const CURRENT_SCHEMA_VERSION = migrations.length;

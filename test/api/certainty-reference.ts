@@ -6,6 +6,11 @@
  */
 import type { Database } from 'better-sqlite3';
 import type { CertaintySummary } from '../../src/api/contract.js';
+
+/** The Certainty answer without the run's stored queue counts (which no slider changes), to compare with the rule. */
+export function withoutQueue({ queue: _queue, ...counts }: CertaintySummary): Omit<CertaintySummary, 'queue'> {
+  return counts;
+}
 import { computeFlags, type FlagThresholds } from '../../src/runs/flags.js';
 
 export interface CertaintyColumnsByRule {
@@ -32,7 +37,7 @@ export function certaintyByRule(
   runId: number,
   columns: CertaintyColumnsByRule,
   input: FlagThresholds & { bins: number },
-): CertaintySummary {
+): Omit<CertaintySummary, 'queue'> {
   const flags = computeFlags(columns.confidence, columns.margin, columns.logDensity, input);
   const histogram = new Array<number>(input.bins).fill(0);
   let borderline = 0;

@@ -64,13 +64,24 @@ describe('the API contract', () => {
 
   it('makes the data-dependent choices explicit: source, default features and each feature\'s transform', () => {
     const settings = startRunInput.parse({ asOf: '2026-11-30', features: [{ feature: 'spend_per_month' }, { feature: 'fresh_share', clipUpperPercentile: 99 }] });
-    const data = (hasReceipts: boolean) => ({ hasReceipts: () => hasReceipts, importedFeatureNames: () => ['loyalty_points', 'tenure'] });
+    const data = (hasReceipts: boolean, hasDepartments = true) => ({
+      hasReceipts: () => hasReceipts,
+      hasDepartments: () => hasDepartments,
+      importedFeatureNames: () => ['loyalty_points', 'tenure'],
+    });
     expect(explicitRunSettings(settings, data(true)).features).toEqual([
       { feature: 'spend_per_month', log1p: true, clipLowerPercentile: null, clipUpperPercentile: null, zScore: true },
       { feature: 'fresh_share', log1p: false, clipLowerPercentile: null, clipUpperPercentile: 99, zScore: true },
     ]);
     const defaults = startRunInput.parse({ asOf: '2026-11-30' });
-    expect(explicitRunSettings(defaults, data(true))).toMatchObject({ source: 'receipts', features: [{ feature: 'spend_per_month' }, { feature: 'visits_per_month' }, { feature: 'average_basket' }] });
+    // How often, how much per trip, how recently, and the mix where the receipts carry departments; never spend next to visits and basket.
+    expect(explicitRunSettings(defaults, data(true)).features).toEqual([
+      { feature: 'visits_per_month', log1p: true, clipLowerPercentile: null, clipUpperPercentile: null, zScore: true },
+      { feature: 'average_basket', log1p: true, clipLowerPercentile: null, clipUpperPercentile: null, zScore: true },
+      { feature: 'days_since_last_visit', log1p: true, clipLowerPercentile: null, clipUpperPercentile: null, zScore: true },
+      { feature: 'fresh_share', log1p: false, clipLowerPercentile: null, clipUpperPercentile: null, zScore: true },
+    ]);
+    expect(explicitRunSettings(defaults, data(true, false)).features.map((spec) => spec.feature)).toEqual(['visits_per_month', 'average_basket', 'days_since_last_visit']);
     const imported = explicitRunSettings(defaults, data(false));
     expect(imported.source).toBe('imported');
     expect(imported.features.map((spec) => [spec.feature, spec.log1p, spec.zScore])).toEqual([

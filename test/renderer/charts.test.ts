@@ -11,8 +11,8 @@ const format = formattersFor('en-GB');
 
 function segment(index: number, spendRank: number, mean: number[], covariance: number[]): SegmentProfile {
   return {
-    segment: index, key: `s${index}`, name: `Tier ${spendRank}`, spendRank, origin: 'first', customers: 10, share: 0.5, revenue: 100, revenueShare: 0.5,
-    profile: [], weight: 0.5, mean, covariance,
+    segment: index, key: `s${index}`, name: `Tier ${spendRank}`, defaultName: `Tier ${spendRank}`, renamed: false, traits: [], spendRank, origin: 'first',
+    customers: 10, share: 0.5, revenue: 100, revenueShare: 0.5, profile: [], components: [index], weight: 0.5, mean, covariance,
   };
 }
 
@@ -99,7 +99,11 @@ describe('Model, Certainty and Movement charts', () => {
 
   it('marks histogram bars at or below the borderline confidence', () => {
     const option = confidenceOption(
-      { runId: 1, customers: 30, borderline: 10, atypical: 0, atypicalLogDensityBelow: -3, confidenceHistogram: [{ from: 0.5, to: 0.75, customers: 10 }, { from: 0.75, to: 1, customers: 20 }] },
+      {
+        runId: 1, customers: 30, borderline: 10, atypical: 0, atypicalLogDensityBelow: -3,
+        confidenceHistogram: [{ from: 0.5, to: 0.75, customers: 10 }, { from: 0.75, to: 1, customers: 20 }],
+        queue: { capacity: 200, flagged: 10, queued: 10, leftOut: { customers: 0, borderline: 0, atypical: 0, mover: 0 }, leftOutDecided: 0, valueCut: null },
+      },
       0.75,
       format,
     );

@@ -25,6 +25,8 @@ function model(covarianceType: CovarianceType, covariances: number[][][]) {
 
 const features = ['average_basket', 'visits_per_month'];
 const names = ['Tier 2', 'Tier 3'];
+/** Component c as a one-component segment named names[c]. */
+const single = (c: number, segmentNames = names) => ({ components: [c], name: segmentNames[c] });
 
 describe('borderline why', () => {
   it('diagonal: prior plus the per-feature terms is exactly the log posterior odds', () => {
@@ -33,7 +35,7 @@ describe('borderline why', () => {
       [[2, 0], [0, 1]],
     ]);
     const x = [1.3, 0.2];
-    const why = explainBorderline(diag, x, 0, 1, features, names);
+    const why = explainBorderline(diag, x, single(0), single(1), features);
     expect(why.method).toBe('exact');
     // Closed form for diagonal Gaussians (worked by hand): log-odds = log(π_a/π_b) + Σ_j c_j.
     const scored = scoreRows(diag, { values: Float64Array.from(x), rows: 1, cols: 2 });
@@ -59,7 +61,7 @@ describe('borderline why', () => {
       [[1, -0.2], [-0.2, 1]],
     ]);
     const x = [1, 0.5];
-    const why = explainBorderline(full, x, 0, 1, features, names);
+    const why = explainBorderline(full, x, single(0), single(1), features);
     expect(why.method).toBe('shapley');
     expect(why.terms).toHaveLength(2);
     // Worked by hand. Each margin alone says nothing: v({basket}) = −½[(1−0)² − (1−2)²] = 0 and
@@ -85,8 +87,8 @@ describe('borderline why', () => {
       [[2, 0], [0, 1]],
     ];
     const x = [1.3, 0.2];
-    const exact = explainBorderline(model('diag', covariances), x, 0, 1, features, names);
-    const shapley = explainBorderline(model('full', covariances), x, 0, 1, features, names);
+    const exact = explainBorderline(model('diag', covariances), x, single(0), single(1), features);
+    const shapley = explainBorderline(model('full', covariances), x, single(0), single(1), features);
     expect(shapley.terms.map((term) => term.feature)).toEqual(exact.terms.map((term) => term.feature));
     shapley.terms.forEach((term, index) => expect(term.contribution).toBeCloseTo(exact.terms[index].contribution, 12));
   });
@@ -101,7 +103,7 @@ describe('borderline why', () => {
       const x = iris.values.subarray(row * 4, row * 4 + 4);
       const top = scored.topSegment[row];
       const second = scored.secondSegment[row];
-      const why = explainBorderline(fitted, x, top, second, irisFeatures, ['A', 'B', 'C']);
+      const why = explainBorderline(fitted, x, single(top, ['A', 'B', 'C']), single(second, ['A', 'B', 'C']), irisFeatures);
       const logOdds = Math.log(scored.posteriors[row * 3 + top] / scored.posteriors[row * 3 + second]);
       expect(why.priorLogOdds + why.terms.reduce((total, term) => total + term.contribution, 0)).toBeCloseTo(logOdds, 8);
     }
@@ -112,7 +114,7 @@ describe('borderline why', () => {
       [[1, 0], [0, 1]],
       [[1, 0], [0, 1]],
     ]);
-    const why = explainBorderline(diag, [NaN, 0.9], 1, 0, features, names);
+    const why = explainBorderline(diag, [NaN, 0.9], single(1), single(0), features);
     expect(why.terms.map((term) => term.feature)).toEqual(['visits_per_month']);
     expect(whyText([], 0)).toBe('the features fit both segments about equally');
   });

@@ -1,5 +1,6 @@
 import { z } from 'zod';
 import { named, pageLimit, pageOffset, probability, runId } from './fields.js';
+import type { QueueCounts } from './review.js';
 import type { MembershipRow } from './segments.js';
 
 /** The Certainty screen: confidence histogram, live threshold counts, borderline table. */
@@ -22,6 +23,8 @@ export interface CertaintySummary {
   atypical: number;
   /** The log-density cut that the percentile gives. */
   atypicalLogDensityBelow: number;
+  /** The run's stored review queue (at its own thresholds and capacity): how many were left out and why. */
+  queue: QueueCounts;
 }
 
 export const borderlineInput = z.strictObject({
@@ -44,15 +47,48 @@ export interface WhyTerm {
   fits: string;
 }
 
-/** Why a customer sits between their top two segments. */
+/**
+ * Why a customer sits between their top two segments. Each segment is a mixture of its
+ * components, so the log-odds is log p_top(x) − log p_second(x) with p_s(x) = Σ_{c in s} w_c N_c(x);
+ * the terms split its likelihood part over the features.
+ */
 export interface BorderlineWhy {
   /** Terms ranked by |contribution|. */
   terms: WhyTerm[];
-  /** log(weight_top / weight_second): the prior part of the log-odds. */
+  /** log(weight_top / weight_second), the segments' summed weights: the prior part of the log-odds. */
   priorLogOdds: number;
-  /** 'exact' per-feature terms for diag/spherical; 'shapley' (Shapley values over features, adding up to the log-odds) for full/tied. */
+  /**
+   * 'exact' per-feature terms when both segments are one component of a diagonal structure;
+   * 'shapley' (Shapley values over features of the marginal mixture densities, adding up to the
+   * log-odds) otherwise.
+   */
   method: 'exact' | 'shapley';
-  /** Plain words, e.g. "basket size fits Tier 2, visit rate fits Tier 3". */
+  /** Plain words, e.g. "basket size fits Frequent · small baskets, visit rate fits Regular · large baskets". */
+  text: string;
+}
+
+/** One feature of an atypical customer: their value against every placed customer of the run. */
+export interface AtypicalTerm {
+  feature: string;
+  label: string;
+  unit: string;
+  /** The customer's value, original units. */
+  value: number;
+  /** above: the share of placed customers with a lower value; below: the share with a higher one. */
+  direction: 'above' | 'below';
+  share: number;
+  /** Beyond the 2.5 % tails: extreme on its own. */
+  extreme: boolean;
+}
+
+/**
+ * Why an atypical customer fits no segment well: the features that are extreme, in original units
+ * and percentiles (e.g. "spend per month EUR 10,918, above 99.9 % of customers"); when none is
+ * extreme alone, the combination that is rare.
+ */
+export interface AtypicalWhy {
+  /** Most extreme first. */
+  terms: AtypicalTerm[];
   text: string;
 }
 export interface BorderlineRow extends MembershipRow {

@@ -3,14 +3,25 @@ import { borderlineInput, certaintyInput, type BorderlinePage, type CertaintySum
 import { appInfoInput, databaseInfoInput, openDatabaseInput, type AppInfo, type DatabaseInfo } from './database.js';
 import { exportRunInput, loadDemoInput, type DemoResult, type ExportResult } from './export.js';
 import type { MovementResult } from './movement.js';
-import { decideReviewInput, renameSegmentInput, reviewQueueInput, type ReviewItem, type ReviewQueuePage } from './review.js';
+import {
+  acceptUnqueuedInput,
+  decideReviewInput,
+  renameSegmentInput,
+  reviewQueueInput,
+  type AcceptUnqueuedResult,
+  type ReviewItem,
+  type ReviewQueuePage,
+} from './review.js';
 import { listRunsInput, modelOptionsInput, runInput, type ModelOptions, type RunDetail, type RunListItem, type RunSummary, type SweepRow } from './runs.js';
 import {
   featureDistributionInput,
   membershipsPageInput,
+  regroupSegmentsInput,
   segmentSampleInput,
   type FeatureDistribution,
   type MembershipsPage,
+  type RegroupResult,
+  type RunSegmentation,
   type SegmentProfile,
   type SegmentSample,
   type SegmentsResult,
@@ -46,6 +57,8 @@ export const apiSchemas = {
   listRuns: listRunsInput,
   runSummary: runInput,
   segments: runInput,
+  segmentation: runInput,
+  regroupSegments: regroupSegmentsInput,
   sweepTable: runInput,
   segmentSample: segmentSampleInput,
   featureDistribution: featureDistributionInput,
@@ -54,6 +67,7 @@ export const apiSchemas = {
   borderline: borderlineInput,
   reviewQueue: reviewQueueInput,
   decideReview: decideReviewInput,
+  acceptUnqueued: acceptUnqueuedInput,
   renameSegment: renameSegmentInput,
   movement: runInput,
   exportRun: exportRunInput,
@@ -70,11 +84,12 @@ export type ApiMethod = keyof typeof apiSchemas;
 export interface TaskResults {
   importFile: ImportResult;
   startRun: RunSummary;
+  regroupSegments: RegroupResult;
   exportRun: ExportResult;
   loadDemo: DemoResult;
 }
 export type LongTaskMethod = keyof TaskResults;
-export const longTaskMethods: readonly LongTaskMethod[] = ['importFile', 'startRun', 'exportRun', 'loadDemo'];
+export const longTaskMethods: readonly LongTaskMethod[] = ['importFile', 'startRun', 'regroupSegments', 'exportRun', 'loadDemo'];
 
 export interface ApiOutputs {
   appInfo: AppInfo;
@@ -90,6 +105,8 @@ export interface ApiOutputs {
   listRuns: RunListItem[];
   runSummary: RunDetail;
   segments: SegmentsResult;
+  segmentation: RunSegmentation;
+  regroupSegments: TaskStarted<'regroupSegments'>;
   sweepTable: SweepRow[];
   segmentSample: SegmentSample;
   featureDistribution: FeatureDistribution;
@@ -98,6 +115,7 @@ export interface ApiOutputs {
   borderline: BorderlinePage;
   reviewQueue: ReviewQueuePage;
   decideReview: ReviewItem;
+  acceptUnqueued: AcceptUnqueuedResult;
   renameSegment: SegmentProfile;
   movement: MovementResult;
   exportRun: TaskStarted<'exportRun'>;

@@ -1,5 +1,7 @@
 import { z } from 'zod';
 import { named, runId } from './fields.js';
+import type { QueueCounts } from './review.js';
+import type { SegmentationMethod } from './segments.js';
 import type { CovarianceType, FeatureTransformSpec, RefreshMode, RunSettings, SelectionCriterion, StoredRunSettings } from './settings.js';
 
 /** The Model screen, `refresh` and `runs`: options, run summaries, the stored runs. */
@@ -30,20 +32,29 @@ export interface RunSummary {
   k: number;
   covariance: CovarianceType;
   bic: number;
+  /** Segments the components are combined into (the length of `segments`). */
+  segmentCount: number;
+  /** How the segmentation was chosen: auto (the entropy change point), level (a number the analyst picked) or hand (merges and splits). */
+  segmentation: SegmentationMethod;
   /** Customers placed in a segment (too-new customers excluded). */
   customers: number;
   tooNew: number;
+  /** Borderline on segments: confidence or margin of the segment posteriors below the run's thresholds. */
   borderline: number;
   atypical: number;
-  /** One entry per segment, in spend order (highest first). */
-  segments: { name: string; customers: number; share: number; revenueShare: number }[];
-  /** Adjusted Rand index against the parent on common customers; null for a first run. */
+  /** One entry per segment, in spend order (highest first), with its key and the components it is made of. */
+  segments: { name: string; key: string; components: number[]; customers: number; share: number; revenueShare: number }[];
+  /** Adjusted Rand index of segments against the parent on common customers; null for a first run. */
   stability: number | null;
+  /** The review queue at the run's capacity: flagged, queued, and counted beyond it by reason. */
+  review: QueueCounts;
+  /** Warnings stored with the run (e.g. a nearly collinear feature set, naming the feature to drop). */
+  warnings: string[];
 }
 
 export const listRunsInput = z.strictObject({});
-/** One stored run: the summary's numbers without the segment table, plus when and how. */
-export interface RunListItem extends Omit<RunSummary, 'segments'> {
+/** One stored run: the summary's numbers without the segment table and the queue, plus when and how. */
+export interface RunListItem extends Omit<RunSummary, 'segments' | 'review' | 'warnings'> {
   createdAt: string;
   asOf: string;
   windowMonths: number;
@@ -68,7 +79,6 @@ export interface RunDetail extends RunSummary {
   criterion: SelectionCriterion;
   /** Parent segments that found no match in a refit. */
   retiredSegments: string[];
-  warnings: string[];
 }
 
 /** One fit of the model-selection table. */

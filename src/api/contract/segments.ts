@@ -1,8 +1,21 @@
 import { z } from 'zod';
 import { named, nonEmpty, pageLimit, pageOffset, runId } from './fields.js';
 import type { ReviewDecision } from './review.js';
+import type { RunSummary } from './runs.js';
+import { MAX_COMPONENTS, type CovarianceType } from './settings.js';
 
-/** The Segments screen: profiles, the scatter sample, distributions, pages of memberships. */
+/**
+ * The Segments screen: profiles, the scatter sample, distributions, pages of memberships; and how
+ * the model's Gaussian components are combined into the segments (the combining tree, the entropy
+ * curve, and the analyst's changes to it: a level, a merge, a split).
+ *
+ * Components and segments (DESIGN.md §5): the information criterion chooses k Gaussian
+ * *components*; they are combined into *segments*, each one or more components. A customer's
+ * posterior for a segment is the sum of its components' posteriors; everything an analyst sees
+ * per customer (segment, confidence, margin, flags, review, movement, names, exports) is per
+ * segment. `segment` fields are segment indices (0-based, stable within a run until it is
+ * regrouped); `component` fields are component indices of the run's model.
+ */
 
 export interface FeatureQuartiles {
   feature: string;
@@ -12,12 +25,36 @@ export interface FeatureQuartiles {
   q3: number;
 }
 
+/**
+ * One measured trait of a segment, relative to all placed customers of the run: the segment's
+ * median of a feature and where that median falls among every placed customer's value. Default
+ * names are built from these (how often, how much per trip, how recently, then the mix).
+ */
+export interface SegmentTrait {
+  feature: string;
+  /** Plain words for the feature ("visit rate"). */
+  label: string;
+  /** The segment's median, original units. */
+  median: number;
+  unit: string;
+  /** Share (0–1) of all placed customers whose value is below the segment's median. */
+  percentile: number;
+  /** The words the name uses for it ("frequent", "large baskets", "recent"). */
+  words: string;
+}
+
 export interface SegmentProfile {
-  /** Index in the model (0-based), stable within a run. */
+  /** Segment index (0-based), stable within a run until the run is regrouped. */
   segment: number;
   /** Key carried across months by matching ("S1", "S2" …), stable across runs. */
   key: string;
   name: string;
+  /** The name built from the segment's traits, shown when the analyst has not renamed it. */
+  defaultName: string;
+  /** Whether `name` is the analyst's own (renames carry over to next month by key). */
+  renamed: boolean;
+  /** The traits the default name is built from, most distinctive first. */
+  traits: SegmentTrait[];
   /** Position in spend order, 1 = highest spend. */
   spendRank: number;
   /** 'matched' carried from the parent, 'new' in a refit without a parent match, 'first' in a first run. */
@@ -29,6 +66,24 @@ export interface SegmentProfile {
   revenueShare: number;
   /** Feature medians and quartiles in original units (EUR, visits …), every feature the run stores that a member has. */
   profile: FeatureQuartiles[];
+  /** The model components the segment is made of (component indices, ascending). */
+  components: number[];
+  /**
+   * The segment as one distribution in the model's transformed space: the sum of its components'
+   * mixture weights, and the mean and covariance (row-major d×d) of its components' mixture (equal
+   * to the component's own for a one-component segment). Each component's own shape is in
+   * `SegmentsResult.components`, for the ellipses.
+   */
+  weight: number;
+  mean: number[];
+  covariance: number[];
+}
+
+/** One Gaussian component of the run's model and the segment it belongs to (an ellipse on the scatter, in its segment's colour). */
+export interface ComponentShape {
+  component: number;
+  /** Index of the segment holding it. */
+  segment: number;
   /** Mixture weight, mean and covariance (row-major d×d) in the model's transformed space. */
   weight: number;
   mean: number[];
@@ -41,6 +96,98 @@ export interface SegmentsResult {
   features: string[];
   /** In spend order (highest first). */
   segments: SegmentProfile[];
+  /** Every component of the model, in component order. */
+  components: ComponentShape[];
+}
+
+/** How a run's segmentation was chosen: the entropy change point, a number of segments the analyst picked, or merges and splits by hand. */
+export const segmentationMethods = ['auto', 'level', 'hand'] as const;
+export type SegmentationMethod = (typeof segmentationMethods)[number];
+
+/** One level of the combining hierarchy (Baudry et al. 2010): the tree and the entropy curve. */
+export interface CombiningLevelSummary {
+  /** Segments at this level: K at the first level (the components themselves), one fewer per merge, 1 at the last. */
+  segmentCount: number;
+  /** Entropy of the level's segment posteriors, −Σᵢ Σ_s t_is log t_is (the curve's y). */
+  entropy: number;
+  /** Customers whose segment at the level above was one of the two merged into this level (0 at the first level). */
+  mergedRows: number;
+  /** Positions in the previous level's `groups` of the two groups merged into this level (first < second); null at the first level. */
+  merged: [number, number] | null;
+  /** Component indices of each group at this level, in the combining order (the merged group takes the first position). */
+  groups: number[][];
+}
+
+/** `segmentation`: how the run's components are combined into its segments, with the whole hierarchy for the screens. */
+export interface RunSegmentation {
+  runId: number;
+  /** Gaussian components of the model (K) and their covariance structure. */
+  components: number;
+  covariance: CovarianceType;
+  method: SegmentationMethod;
+  segmentCount: number;
+  /** The number of segments the entropy curve's change point chooses (what auto gives). */
+  autoSegmentCount: number;
+  /** The change point against the cumulative count of merged customers (the normalised curve), shown beside it. */
+  autoSegmentCountByMergedRows: number;
+  /** The segments now, in index order. */
+  segments: { segment: number; key: string; name: string; components: number[]; customers: number }[];
+  /** From K groups down to 1: levels[0] are the components, levels[K − 1] one segment. */
+  levels: CombiningLevelSummary[];
+  /** The segment count of the level whose grouping is the current one, or null after a merge or split no level has. */
+  currentLevel: number | null;
+}
+
+/** A segment of a run: its index, or its key or name as text. */
+export const segmentReference = z.union([z.number().int().min(0), nonEmpty]);
+
+const componentIndex = z.number().int().min(0).max(MAX_COMPONENTS - 1);
+
+/**
+ * One change of a run's segmentation: a level of the hierarchy (a number of segments, or auto for
+ * the change point), merging two segments, or splitting one back into groups of its components.
+ */
+export const segmentationChange = z.union([
+  z.strictObject({
+    level: named(
+      z.union([z.number().int().min(1).max(MAX_COMPONENTS), z.literal('auto')]),
+      'number of segments (a level of the combining hierarchy), or auto',
+    ),
+  }),
+  z.strictObject({ merge: named(z.tuple([segmentReference, segmentReference]), 'the two segments to merge (index, key or name)') }),
+  z.strictObject({
+    split: z.strictObject({
+      segment: named(segmentReference, 'the segment to split (index, key or name)'),
+      parts: named(z.array(z.array(componentIndex)).min(2), "groups of the segment's components, one per new segment"),
+    }),
+  }),
+]);
+export type SegmentationChange = z.output<typeof segmentationChange>;
+
+export const regroupSegmentsInput = z.strictObject({
+  runId: named(runId, 'the run', '--run'),
+  change: named(segmentationChange, 'the change: {level: n|"auto"}, {merge: [a, b]} or {split: {segment, parts}}'),
+});
+export type RegroupSegmentsInput = z.output<typeof regroupSegmentsInput>;
+
+/**
+ * What a regroup did to the run (applied in place, in one transaction): the run's new summary,
+ * the change in words, and how the segments' keys and names fared. Segments keep their key (and
+ * the analyst's name) when they hold most of an old segment's customers, by the same matching
+ * rule as a refit against last month (see README, "Matching across months").
+ */
+export interface RegroupResult {
+  /** The run as `refresh --json` shows it, after the change. */
+  summary: RunSummary;
+  change: string;
+  /** Keys present before and after. */
+  keptKeys: string[];
+  /** Segments (names as they were) that no longer exist. */
+  retired: string[];
+  /** Segments (new names) that are new. */
+  added: string[];
+  /** Later runs (children) whose movement against this run was recomputed. */
+  laterRunsUpdated: number[];
 }
 
 export const segmentSampleInput = z.strictObject({
@@ -80,7 +227,8 @@ export interface FeatureDistribution {
 
 export const membershipSortKeys = ['spend', 'revenue', 'confidence', 'margin', 'logDensity', 'customerId'] as const;
 export type MembershipSortKey = (typeof membershipSortKeys)[number];
-export const membershipFlags = ['borderline', 'atypical', 'partial', 'tooNew', 'review', 'decided'] as const;
+/** review: flagged for review (queued or counted beyond the capacity); queued: in the capacity-limited queue. */
+export const membershipFlags = ['borderline', 'atypical', 'partial', 'tooNew', 'review', 'queued', 'decided'] as const;
 export type MembershipFlag = (typeof membershipFlags)[number];
 
 export const membershipsPageInput = z.strictObject({
@@ -97,7 +245,7 @@ export type MembershipsQuery = z.output<typeof membershipsPageInput>;
 
 export interface MembershipRow {
   customerId: string;
-  /** Model segment index and name; null for too-new customers. */
+  /** Model segment index (after combining) and name; null for too-new customers. */
   segment: number | null;
   segmentName: string | null;
   /** Final segment (the review decision's where one exists). */
@@ -115,6 +263,10 @@ export interface MembershipRow {
   tooNew: boolean;
   /** Left out of campaigns by a review decision. */
   excluded: boolean;
+  /** Flagged for review (borderline, atypical or a low-confidence mover), whether queued or counted beyond the capacity. */
+  flagged: boolean;
+  /** In the capacity-limited review queue. */
+  queued: boolean;
   /** Net spend in the window, EUR. */
   revenue: number;
   /** Spend per month, EUR (null when the run's features do not include it). */

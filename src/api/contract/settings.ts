@@ -48,21 +48,31 @@ export interface FeatureTransformSpec {
 
 /**
  * Features the model uses when the analyst picks none and the features come from receipts
- * (DESIGN.md §4): how much a month, how often, how much per trip.
+ * (DESIGN.md §4): how often (visit rate), how much per trip (basket) and how recently (days since
+ * the last visit). They describe different behaviour and none is a function of the others; spend
+ * per month is visits × basket, so it is not among them (with both it would make the set nearly
+ * collinear, and full covariances would then fit that thin direction instead of the groups).
  */
-export const defaultModelFeatures: readonly string[] = ['spend_per_month', 'visits_per_month', 'average_basket'];
+export const defaultModelFeatures: readonly string[] = ['visits_per_month', 'average_basket', 'days_since_last_visit'];
+
+/** The mix feature added to the defaults where the receipts carry departments (DESIGN.md §4). */
+export const defaultMixFeature = 'fresh_share';
+
+/** Features that are counts, money or days: skewed to the right, so log1p before the z-score by default (common practice). */
+export const logScaleFeatures: readonly string[] = ['spend_per_month', 'visits_per_month', 'average_basket', 'days_since_last_visit'];
 
 /** Departments whose spend counts as fresh (the fresh-share feature; common practice in grocery reporting). */
 export const defaultFreshCategories: readonly string[] = ['fresh', 'produce', 'fruit', 'vegetables', 'meat', 'fish', 'bakery', 'dairy', 'deli'];
 
 /**
- * The transform a feature gets when none is chosen: log1p then z-score for the skewed money and
- * rate defaults (common practice), z-score alone otherwise and for imported features.
+ * The transform a feature gets when none is chosen: log1p then z-score for the skewed money, rate
+ * and day features computed from receipts (common practice), z-score alone otherwise (shares,
+ * trends, imported features).
  */
 export function defaultTransform(feature: string, source: FeatureSource): FeatureTransformSpec {
   return {
     feature,
-    log1p: source === 'receipts' && defaultModelFeatures.includes(feature),
+    log1p: source === 'receipts' && logScaleFeatures.includes(feature),
     clipLowerPercentile: null,
     clipUpperPercentile: null,
     zScore: true,
@@ -138,6 +148,34 @@ export const modelSettings = {
   ...fitSettings,
 };
 
+/** A component index (0-based) in a segmentation. */
+const componentIndex = z.number().int().min(0).max(MAX_COMPONENTS - 1);
+
+/**
+ * How the Gaussian components become the segments an analyst acts on (DESIGN.md §5): combined
+ * hierarchically by the entropy criterion, down to the number of segments chosen at the entropy
+ * curve's change point ('auto') or given here; or an explicit grouping (what `runs --settings-out`
+ * writes after merges and splits by hand, so `refresh --settings` repeats the month exactly).
+ */
+export const segmentSettings = {
+  segmentCount: named(
+    z.union([z.number().int().min(1).max(MAX_COMPONENTS), z.literal('auto')]).default('auto'),
+    'number of segments the components are combined into, or auto (the change point of the entropy curve)',
+    '--segment-count',
+  ),
+  segmentation: named(
+    z.array(z.array(componentIndex).min(1)).min(1).nullable().optional(),
+    'segments as groups of component indices, e.g. [[0, 2], [1], [3]] (absent: combined by the number of segments)',
+    '--segmentation',
+  ),
+};
+
+/**
+ * What one person can review in a month: our choice, about two working days at a few minutes a
+ * customer (a look at the profile, last month's decision and a note). The analyst sets their own.
+ */
+export const DEFAULT_REVIEW_CAPACITY = 200;
+
 /** Who is flagged and queued for review (DESIGN.md §5, §7). */
 export const flagSettings = {
   borderlineConfidence: named(probability.default(0.7), 'borderline below this confidence', '--borderline-confidence'),
@@ -148,11 +186,28 @@ export const flagSettings = {
     'also queue customers who changed segment with confidence below this (none: off)',
     '--review-movers-below',
   ),
+  reviewCapacity: named(
+    z.number().int().min(0).max(1_000_000).default(DEFAULT_REVIEW_CAPACITY),
+    'customers one person can review this month (the queue holds at most this many, by what a decision is worth; the rest are counted)',
+    '--review-capacity',
+  ),
 };
 
 export const startRunInput = z
-  .strictObject({ ...windowSettings, ...modelSettings, ...flagSettings })
-  .refine((value) => value.kMin <= value.kMax, { message: 'must not exceed kMax (--k-max)', path: ['kMin'] });
+  .strictObject({ ...windowSettings, ...modelSettings, ...segmentSettings, ...flagSettings })
+  .refine((value) => value.kMin <= value.kMax, { message: 'must not exceed kMax (--k-max)', path: ['kMin'] })
+  .refine((value) => value.k === 'auto' || value.segmentCount === 'auto' || value.segmentCount <= value.k, {
+    message: 'must not exceed k (--k): a segment is one or more components',
+    path: ['segmentCount'],
+  })
+  .refine((value) => !value.segmentation || value.segmentCount === 'auto' || value.segmentCount === value.segmentation.length, {
+    message: 'must be auto or the number of groups the segmentation lists',
+    path: ['segmentCount'],
+  })
+  .refine((value) => !value.segmentation || new Set(value.segmentation.flat()).size === value.segmentation.flat().length, {
+    message: 'may name each component in one group only',
+    path: ['segmentation'],
+  });
 
 /** A run's settings as the caller sends them (defaults may be left out). */
 export type StartRunInput = z.input<typeof startRunInput>;
@@ -177,18 +232,26 @@ export type StoredRunSettings = Omit<ExplicitRunSettings, 'parentRunId'> & { par
 /** What the data say about feature defaults (asked of the database only when needed). */
 export interface FeatureData {
   hasReceipts: () => boolean;
+  /** Whether the receipts carry departments (so the fresh share is known). */
+  hasDepartments: () => boolean;
   importedFeatureNames: () => string[];
+}
+
+/** The default features for receipts: the three of `defaultModelFeatures`, plus the fresh share where the receipts carry departments. */
+export function defaultReceiptFeatures(data: Pick<FeatureData, 'hasDepartments'>): string[] {
+  return data.hasDepartments() ? [...defaultModelFeatures, defaultMixFeature] : [...defaultModelFeatures];
 }
 
 /**
  * Makes the data-dependent defaults explicit: the source (receipts when the database has any,
- * else the imported feature table), the features (the defaults above for receipts, every
- * imported feature otherwise) and each feature's transform where one was left out.
+ * else the imported feature table), the features (the defaults above for receipts, with the fresh
+ * share where the receipts carry departments; every imported feature otherwise) and each
+ * feature's transform where one was left out.
  */
 export function explicitRunSettings(settings: RunSettings, data: FeatureData): ExplicitRunSettings {
   const source = settings.source ?? (data.hasReceipts() ? 'receipts' : 'imported');
   const chosen: z.output<typeof transformSpecInput>[] =
-    settings.features ?? (source === 'receipts' ? defaultModelFeatures : data.importedFeatureNames()).map((feature) => ({ feature }));
+    settings.features ?? (source === 'receipts' ? defaultReceiptFeatures(data) : data.importedFeatureNames()).map((feature) => ({ feature }));
   const features = chosen.map((spec): FeatureTransformSpec => {
     const fallback = defaultTransform(spec.feature, source);
     return {

@@ -5,12 +5,13 @@ import { startRunInput, type RunSummary, type StartRunInput } from '../../api/co
 import { InputError } from '../../errors.js';
 import { requireExistingDatabase, withApi } from '../api-client.js';
 import { runCommand, type RegisterCommand } from '../run-command.js';
-import { addSchemaOptions, inputFromFlags, numberOrText, schemaOptions } from '../schema-options.js';
+import { addSchemaOptions, componentGroups, inputFromFlags, numberOrText, schemaOptions } from '../schema-options.js';
 
 interface RefreshCliOptions {
   db?: string;
   settings?: string;
   features?: string;
+  segmentation?: string;
   transform: string[];
   json?: boolean;
   [flag: string]: unknown;
@@ -18,21 +19,37 @@ interface RefreshCliOptions {
 
 const collect = (value: string, previous: string[]) => [...previous, value];
 
-/** Every setting of a run as a flag (src/api/contract/settings.ts), except the features, which take two. */
-const settingFlags = schemaOptions(startRunInput.shape, ['features']);
+/**
+ * Every setting of a run as a flag (src/api/contract/settings.ts), except the features, which take
+ * two, and the segmentation, a list of lists written "0,2;1;3".
+ */
+const settingFlags = schemaOptions(startRunInput.shape, ['features', 'segmentation']);
 
 const percent = (share: number) => `${(share * 100).toFixed(1)}%`;
 
 export function describeRun(summary: RunSummary): string {
+  const { review } = summary;
+  const leftOut = review.leftOut;
+  const reasons = [`borderline ${leftOut.borderline}`, `atypical ${leftOut.atypical}`, ...(leftOut.mover > 0 ? [`movers ${leftOut.mover}`] : [])].join(', ');
   return [
-    `Run ${summary.runId}${summary.parentRunId !== null ? ` (parent ${summary.parentRunId})` : ''}: k = ${summary.k}, ${summary.covariance} covariance, BIC ${summary.bic.toFixed(1)}`,
+    `Run ${summary.runId}${summary.parentRunId !== null ? ` (parent ${summary.parentRunId})` : ''}: k = ${summary.k} ${summary.covariance} components ` +
+      `combined into ${summary.segmentCount} segment${summary.segmentCount === 1 ? '' : 's'} (${segmentationWords[summary.segmentation]}), BIC ${summary.bic.toFixed(1)}`,
     `  ${summary.customers} customers placed, ${summary.tooNew} too new to place; ${summary.borderline} borderline, ${summary.atypical} atypical`,
     ...summary.segments.map(
       (segment) => `  ${segment.name}: ${segment.customers} customers (${percent(segment.share)}), ${percent(segment.revenueShare)} of revenue`,
     ),
+    `  review: ${review.queued} queued (capacity ${review.capacity}) of ${review.flagged} flagged` +
+      (leftOut.customers > 0 ? `; ${leftOut.customers} counted, not queued (${reasons})` : ''),
+    ...summary.warnings.map((warning) => `  warning: ${warning}`),
     `  stability against the parent (adjusted Rand index): ${summary.stability === null ? 'n/a (first run)' : summary.stability.toFixed(3)}`,
   ].join('\n');
 }
+
+const segmentationWords: Record<RunSummary['segmentation'], string> = {
+  auto: 'the entropy change point',
+  level: 'a chosen number of segments',
+  hand: 'merged and split by hand',
+};
 
 /** A run's settings from a JSON file (as `runs --settings-out` writes them): an object, or a clear refusal naming the file. */
 function readSettingsFile(path: string): Record<string, unknown> {
@@ -98,6 +115,7 @@ function runInput(options: RefreshCliOptions): Record<string, unknown> {
   const fromFlags = inputFromFlags(settingFlags, options);
   const features = featuresFromFlags(options.features, options.transform);
   if (features) fromFlags.features = features;
+  if (options.segmentation !== undefined) fromFlags.segmentation = options.segmentation.trim() === 'none' ? null : componentGroups(options.segmentation);
   if (!options.settings) return fromFlags;
   const file = resolve(options.settings);
   const fromFile = readSettingsFile(file);
@@ -120,9 +138,16 @@ export const registerRefresh: RegisterCommand = (program, io, setExitCode) => {
     .option('--db <file>', 'the Spendmix database')
     .option('--settings <file.json>', 'run settings as one JSON object (as "runs --settings-out" writes); flags given override it');
   addSchemaOptions(command, settingFlags)
-    .option('--features <a,b>', 'model features, comma-separated (default: spend_per_month, visits_per_month, average_basket from receipts; every imported feature otherwise)')
-    .option('--transform <feature=steps>', `a listed feature's transform, steps from ${transformSteps} (repeatable; default log1p,z for the money and rate defaults, z otherwise)`, collect, [])
-    .option('--json', 'print one JSON object {runId, parentRunId, k, covariance, bic, customers, tooNew, borderline, atypical, segments, stability}')
+    .option(
+      '--features <a,b>',
+      'model features, comma-separated (default from receipts: visits_per_month, average_basket, days_since_last_visit, and fresh_share where receipts carry departments; every imported feature otherwise)',
+    )
+    .option('--transform <feature=steps>', `a listed feature's transform, steps from ${transformSteps} (repeatable; default log1p,z for the money, rate and day features, z otherwise)`, collect, [])
+    .option('--segmentation <groups>', 'segments as groups of component indices, groups separated by ";" (e.g. "0,2;1;3"; none: combined by --segment-count)')
+    .option(
+      '--json',
+      'print one JSON object {runId, parentRunId, k, covariance, bic, segmentCount, segmentation, customers, tooNew, borderline, atypical, segments, stability, review, warnings}',
+    )
     .action(async (options: RefreshCliOptions) => {
       const json = Boolean(options.json);
       setExitCode(

@@ -36,7 +36,6 @@ function describeDetail(detail: RunDetail): string {
     `  features: ${detail.features.map((spec) => spec.feature).join(', ')}`,
     `  k ${settings.k === 'auto' ? `auto (${settings.kMin} to ${settings.kMax})` : settings.k}, covariance ${settings.covariance}, ${settings.criterion.toUpperCase()}, ` +
       `${settings.restarts} restarts, seed ${settings.seed}`,
-    ...detail.warnings.map((warning) => `  warning: ${warning}`),
   ].join('\n');
 }
 

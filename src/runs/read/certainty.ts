@@ -3,6 +3,7 @@ import type { CertaintyQuery, CertaintySummary } from '../../api/contract.js';
 import { InputError } from '../../errors.js';
 import { quantileOfSorted, sortedFinite } from '../../features/quantiles.js';
 import { isBorderline, type FlagThresholds } from '../flags.js';
+import { queueCounts } from './review-counts.js';
 import { derivedFromRun, holdsDerived, storedRun } from './stored-run.js';
 
 /**
@@ -20,9 +21,9 @@ import { derivedFromRun, holdsDerived, storedRun } from './stored-run.js';
  * - atypical: the sorted log densities; the percentile's cut is the same quantile the flag rule
  *   takes, and the count below it is one binary search.
  *
- * A stored run's memberships never change (review decisions and segment names live in other
- * tables), so a summary stays valid for as long as its run does; a cheap fingerprint of the runs
- * row catches a run id that was freed and taken by a new run.
+ * A stored run's memberships change only when its segments are regrouped, which bumps the run's
+ * revision; the summary is kept with the run's entry (./stored-run.ts), whose fingerprint
+ * includes the revision, so a regrouped run gets a new summary.
  */
 
 /** Grid steps per unit: the sliders move in steps of 0.01 (renderer/src/screens/Certainty.tsx). */
@@ -255,5 +256,6 @@ export function certaintySummary(db: Database, query: CertaintyQuery): Certainty
     borderline: borderlineCount(summary, query),
     atypical,
     atypicalLogDensityBelow: cut,
+    queue: queueCounts(db, query.runId),
   };
 }

@@ -9,6 +9,7 @@ import type { BorderlineWhy, MembershipRow, ReviewAction, ReviewDecision } from 
 import { transformValue } from '../../features/transforms.js';
 import { decodeFloat64 } from '../blobs.js';
 import { finalSegmentKey } from '../review-rules.js';
+import type { StoredAtypicalTerm } from '../atypical.js';
 import { explainBorderline } from '../why.js';
 import type { RunSegments } from './run-segments.js';
 import { runModel, storedRun } from './stored-run.js';
@@ -40,12 +41,16 @@ interface MembershipSqlRow extends DecisionColumns {
   revenue_cents: number;
   spend_per_month: number | null;
   features: Buffer;
+  queued: number;
+  review_value: number | null;
+  atypical_reason: string | null;
   marketing_consent?: 0 | 1 | null;
 }
 
 const columns = `
   m.customer_id, m.segment_index, m.confidence, m.margin, m.second_index, m.second_probability, m.log_density,
   m.borderline, m.atypical, m.partial, m.too_new, m.review, m.previous_key, m.revenue_cents, m.spend_per_month, m.features,
+  m.queued, m.review_value, m.atypical_reason,
   d.action, d.segment_key, d.note, d.reviewer, d.decided_at, d.carried_from_run_id`;
 const from = `
   FROM run_memberships m
@@ -54,8 +59,12 @@ const from = `
 /** One customer of a run: the contract's row plus what only the core reads. */
 export interface MembershipRecord {
   membership: MembershipRow;
-  /** Why the customer is queued, as the review column's bits (0 = not queued). */
+  /** Why the customer is flagged for review, as the review column's bits (0 = not flagged). */
   reviewMask: number;
+  /** What a decision is worth (the queue's order); null when not flagged. */
+  reviewValue: number | null;
+  /** Why an atypical customer fits no segment (stored terms); null otherwise. */
+  atypicalTerms: StoredAtypicalTerm[] | null;
   /** The customer's segment key in the parent run, if placed there. */
   previousKey: string | null;
   /** Stored features in original units, in the run's stored order. */
@@ -110,11 +119,15 @@ function toRecord(row: MembershipSqlRow, segments: RunSegments): MembershipRecor
       partial: row.partial === 1,
       tooNew: row.too_new === 1,
       excluded: final.excluded,
+      flagged: row.review > 0,
+      queued: row.queued === 1,
       revenue: row.revenue_cents / 100,
       spendPerMonth: row.spend_per_month,
       decision,
     },
     reviewMask: row.review,
+    reviewValue: row.review_value,
+    atypicalTerms: row.atypical_reason === null ? null : (JSON.parse(row.atypical_reason) as StoredAtypicalTerm[]),
     previousKey: row.previous_key,
     features: decodeFloat64(row.features),
     marketingConsent: row.marketing_consent ?? null,
@@ -167,8 +180,9 @@ export function countMemberships(db: Database, runId: number, selection: Pick<Me
 }
 
 /**
- * Why a placed customer sits between their top two segments, from the run's model (parsed once
- * per connection) and the customer's stored features; null for too-new customers.
+ * Why a placed customer sits between their top two segments (each the mixture of its components),
+ * from the run's model (parsed once per connection) and the customer's stored features; null for
+ * too-new customers and when the run has one segment.
  */
 export function borderlineWhy(db: Database, segments: RunSegments, record: MembershipRecord): BorderlineWhy | null {
   const { segment, secondSegment } = record.membership;
@@ -177,6 +191,9 @@ export function borderlineWhy(db: Database, segments: RunSegments, record: Membe
   const model = runModel(db, segments.runId);
   // Model features are stored first, in model order.
   const x = run.features.map((name, j) => transformValue(name, run.transforms[name], record.features[j]));
-  const names = Array.from({ length: model.components }, (_, c) => segments.nameOf(c) ?? `segment ${c}`);
-  return explainBorderline(model, x, segment, secondSegment, run.features, names);
+  const whySegment = (index: number) => {
+    const stored = segments.list.find((candidate) => candidate.index === index);
+    return { components: stored?.components ?? [], name: stored?.name ?? `segment ${index}` };
+  };
+  return explainBorderline(model, x, whySegment(segment), whySegment(secondSegment), run.features);
 }

@@ -21,6 +21,7 @@ const flagConditions: Record<MembershipFlag, string> = {
   partial: 'm.partial = 1',
   tooNew: 'm.too_new = 1',
   review: 'm.review > 0',
+  queued: 'm.queued = 1',
   decided: 'd.action IS NOT NULL',
 };
 

@@ -1,6 +1,7 @@
 /** One run's summary and detail (the Model screen, `refresh --json`, `runs --run ID --settings-out`). */
 import type { Database } from 'better-sqlite3';
 import type { RunDetail, RunSummary } from '../../api/contract.js';
+import { queueCounts } from './review-counts.js';
 import { runSegments } from './run-segments.js';
 import { storedRun } from './stored-run.js';
 
@@ -15,12 +16,23 @@ export function getRunSummary(db: Database, runId: number): RunSummary {
     k: run.k,
     covariance: run.covariance,
     bic: run.bic,
+    segmentCount: segments.length,
+    segmentation: run.segmentation.method,
     customers: run.customers,
     tooNew: run.tooNew,
     borderline: run.borderline,
     atypical: run.atypical,
-    segments: segments.map((segment) => ({ name: segment.name, customers: segment.customers, share: segment.share, revenueShare: segment.revenueShare })),
+    segments: segments.map((segment) => ({
+      name: segment.name,
+      key: segment.key,
+      components: segment.components,
+      customers: segment.customers,
+      share: segment.share,
+      revenueShare: segment.revenueShare,
+    })),
     stability: run.stability,
+    review: queueCounts(db, runId),
+    warnings: run.warnings,
   };
 }
 
@@ -40,6 +52,5 @@ export function getRunDetail(db: Database, runId: number): RunDetail {
     icl: run.icl,
     criterion: run.criterion,
     retiredSegments: run.retired.map((segment) => segment.name),
-    warnings: run.warnings,
   };
 }

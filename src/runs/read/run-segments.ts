@@ -3,22 +3,22 @@
  * rename them: by index, by key and by name, with the profile JSON parsed only when asked for.
  */
 import type { Database } from 'better-sqlite3';
-import type { SegmentProfile } from '../../api/contract.js';
+import type { SegmentProfile, SegmentTrait } from '../../api/contract.js';
 import { InputError } from '../../errors.js';
 import type { StoredQuartiles } from '../profiles.js';
 
-/** A segment as stored: the profile's own numbers, by model index, with revenue in cents. */
-export type StoredSegment = Pick<SegmentProfile, 'key' | 'name' | 'spendRank' | 'origin' | 'customers' | 'share' | 'revenueShare'> & {
+/** A segment as stored: the profile's own numbers, by segment index, with revenue in cents. */
+export type StoredSegment = Pick<
+  SegmentProfile,
+  'key' | 'name' | 'defaultName' | 'renamed' | 'spendRank' | 'origin' | 'customers' | 'share' | 'revenueShare' | 'components'
+> & {
   index: number;
   revenueCents: number;
 };
 
-/** The profile column: quartiles of every stored feature, and the component in the model's space. */
+/** The profile column: quartiles of every stored feature in original units. */
 export interface StoredProfile {
   features: Record<string, StoredQuartiles | null>;
-  weight: number;
-  transformedMean: number[];
-  transformedStdDev: number[];
 }
 
 interface SegmentRow {
@@ -32,6 +32,10 @@ interface SegmentRow {
   revenue_cents: number;
   revenue_share: number;
   profile: string;
+  components: string;
+  default_name: string;
+  renamed: number;
+  traits: string;
 }
 
 export interface RunSegments {
@@ -44,6 +48,9 @@ export interface RunSegments {
   indexOfKey: ReadonlyMap<string, number>;
   keys: ReadonlySet<string>;
   profileOf(index: number): StoredProfile;
+  traitsOf(index: number): SegmentTrait[];
+  /** Segment index of each model component. */
+  segmentOfComponent: readonly number[];
   /** A segment by index, or by key, name or index written as text; InputError listing the run's segments otherwise. */
   find(reference: number | string): StoredSegment;
 }
@@ -54,6 +61,9 @@ export function runSegments(db: Database, runId: number): RunSegments {
     index: row.segment_index,
     key: row.segment_key,
     name: row.name,
+    defaultName: row.default_name,
+    renamed: row.renamed === 1,
+    components: JSON.parse(row.components) as number[],
     spendRank: row.spend_rank,
     origin: row.origin,
     customers: row.customers,
@@ -63,6 +73,8 @@ export function runSegments(db: Database, runId: number): RunSegments {
   }));
   const byIndex = new Map(list.map((segment) => [segment.index, segment]));
   const profiles = new Map<number, StoredProfile>();
+  const segmentOfComponent: number[] = [];
+  for (const segment of list) for (const component of segment.components) segmentOfComponent[component] = segment.index;
   return {
     runId,
     list,
@@ -75,11 +87,16 @@ export function runSegments(db: Database, runId: number): RunSegments {
       let profile = profiles.get(index);
       if (!profile) {
         const row = rows.find((candidate) => candidate.segment_index === index);
-        profile = row ? (JSON.parse(row.profile) as StoredProfile) : { features: {}, weight: 0, transformedMean: [], transformedStdDev: [] };
+        profile = row ? (JSON.parse(row.profile) as StoredProfile) : { features: {} };
         profiles.set(index, profile);
       }
       return profile;
     },
+    traitsOf(index) {
+      const row = rows.find((candidate) => candidate.segment_index === index);
+      return row ? (JSON.parse(row.traits) as SegmentTrait[]) : [];
+    },
+    segmentOfComponent,
     find(reference) {
       const found = list.find((segment) =>
         typeof reference === 'number'

@@ -1,6 +1,6 @@
 /** The stored runs, newest first (the Model screen's run picker, `runs`). */
 import type { Database } from 'better-sqlite3';
-import type { CovarianceType, RefreshMode, RunListItem } from '../../api/contract.js';
+import type { CovarianceType, RefreshMode, RunListItem, SegmentationMethod } from '../../api/contract.js';
 
 interface RunListRow {
   run_id: number;
@@ -17,12 +17,16 @@ interface RunListRow {
   as_of: string;
   window_months: number;
   mode: RefreshMode;
+  /** Null for runs stored before segments were made of components (one segment per component). */
+  method: SegmentationMethod | null;
+  segment_count: number;
 }
 
 export function listRuns(db: Database): RunListItem[] {
   const rows = db
     .prepare(
-      `SELECT run_id, parent_run_id, k, covariance, bic, customers, too_new, borderline, atypical, stability, created_at, as_of, window_months, mode
+      `SELECT run_id, parent_run_id, k, covariance, bic, customers, too_new, borderline, atypical, stability, created_at, as_of, window_months, mode,
+              json_extract(segmentation, '$.method') AS method, ifnull(json_array_length(segmentation, '$.segments'), k) AS segment_count
          FROM runs ORDER BY run_id DESC`,
     )
     .all() as RunListRow[];
@@ -32,6 +36,8 @@ export function listRuns(db: Database): RunListItem[] {
     k: row.k,
     covariance: row.covariance,
     bic: row.bic,
+    segmentCount: row.segment_count,
+    segmentation: row.method ?? 'level',
     customers: row.customers,
     tooNew: row.too_new,
     borderline: row.borderline,

@@ -2,15 +2,17 @@
  * A stored run as the reads need it, kept per database connection: the runs row (settings,
  * features, fitted transforms, numbers) parsed once, the model parsed once when a screen first
  * needs it, and room for what a screen derives from the whole run (the Certainty summary). A
- * stored run never changes after it is written (names and decisions live in other tables), so an
- * entry stays valid for as long as its run does; a cheap fingerprint of the row, checked on every
- * use, catches a run that was deleted or whose id was freed and taken by a new run.
+ * stored run changes only by a regroup of its segments (names and decisions live in other
+ * tables), which bumps the row's revision; a cheap fingerprint of the row (revision included),
+ * checked on every use, catches a regrouped run, and a run that was deleted or whose id was freed
+ * and taken by a new run.
  */
 import type { Database } from 'better-sqlite3';
 import type { CovarianceType, FeatureSource, FeatureTransformSpec, InitMethod, RefreshMode, SelectionCriterion, StoredRunSettings } from '../../api/contract.js';
 import { InputError } from '../../errors.js';
 import type { FeatureTransform } from '../../features/transforms.js';
 import { modelFromJSON, type MixtureModel } from '../../model/index.js';
+import type { StoredSegmentation } from '../types.js';
 
 export interface StoredRun {
   runId: number;
@@ -36,10 +38,14 @@ export interface StoredRun {
   tooNew: number;
   borderline: number;
   atypical: number;
+  /** The log-density cut below which customers are atypical (null when the percentile is 0). */
+  atypicalCut: number | null;
   stability: number | null;
   warnings: string[];
   /** Parent segments without a match in a refit. */
   retired: { key: string; name: string }[];
+  /** How the components are combined into segments. */
+  segmentation: StoredSegmentation;
 }
 
 /** The runs row without its large columns (model, sweep, movement: read where needed). */
@@ -65,13 +71,16 @@ interface RunRow {
   too_new: number;
   borderline: number;
   atypical: number;
+  atypical_log_density_below: number | null;
   stability: number | null;
   warnings: string;
   retired: string;
+  segmentation: string | null;
 }
 
 const runColumns = `run_id, parent_run_id, created_at, as_of, window_months, mode, source, settings, features, stored_features,
-  transforms, criterion, k, covariance, log_likelihood, bic, icl, customers, too_new, borderline, atypical, stability, warnings, retired`;
+  transforms, criterion, k, covariance, log_likelihood, bic, icl, customers, too_new, borderline, atypical, atypical_log_density_below,
+  stability, warnings, retired, segmentation`;
 
 /** The specification part of a fitted transform, as the contract names it. */
 export function transformSpecOf(feature: string, transform: FeatureTransform): FeatureTransformSpec {
@@ -86,13 +95,17 @@ export function transformSpecOf(feature: string, transform: FeatureTransform): F
  * names with a separate transforms object, which the columns replace.
  */
 function settingsOf(row: RunRow, features: string[], transforms: Record<string, FeatureTransform>): StoredRunSettings {
-  const { transforms: _oldTransforms, features: _features, ...stored } = JSON.parse(row.settings) as Omit<StoredRunSettings, 'init'> & {
+  const { transforms: _oldTransforms, features: _features, ...stored } = JSON.parse(row.settings) as Omit<StoredRunSettings, 'init' | 'segmentCount' | 'reviewCapacity'> & {
     init?: InitMethod;
+    segmentCount?: StoredRunSettings['segmentCount'];
+    reviewCapacity?: number;
     transforms?: unknown;
   };
   return {
     ...stored,
     init: stored.init ?? 'kmeans',
+    segmentCount: stored.segmentCount ?? row.k,
+    reviewCapacity: stored.reviewCapacity ?? row.borderline + row.atypical,
     source: row.source,
     parentRunId: row.parent_run_id,
     features: features.map((feature) => transformSpecOf(feature, transforms[feature])),
@@ -124,9 +137,23 @@ function toStoredRun(row: RunRow): StoredRun {
     tooNew: row.too_new,
     borderline: row.borderline,
     atypical: row.atypical,
+    atypicalCut: row.atypical_log_density_below,
     stability: row.stability,
     warnings: JSON.parse(row.warnings) as string[],
     retired: JSON.parse(row.retired) as { key: string; name: string }[],
+    segmentation: segmentationOfRow(row),
+  };
+}
+
+/** The stored segmentation; runs stored before segments were made of components have one segment per component. */
+function segmentationOfRow(row: RunRow): StoredSegmentation {
+  if (row.segmentation !== null) return JSON.parse(row.segmentation) as StoredSegmentation;
+  return {
+    method: 'level',
+    segments: Array.from({ length: row.k }, (_, c) => [c]),
+    autoSegmentCount: null,
+    autoSegmentCountByMergedRows: null,
+    levels: null,
   };
 }
 
@@ -154,7 +181,7 @@ const entriesByConnection = new WeakMap<Database, Map<number, Entry>>();
 
 /** What identifies one stored run beyond its id (an id freed by a deleted run can be reused). */
 function fingerprintOf(db: Database, runId: number): string | null {
-  const row = db.prepare('SELECT created_at, customers, k, log_likelihood FROM runs WHERE run_id = ?').raw().get(runId) as unknown[] | undefined;
+  const row = db.prepare('SELECT created_at, customers, k, log_likelihood, revision FROM runs WHERE run_id = ?').raw().get(runId) as unknown[] | undefined;
   return row ? JSON.stringify(row) : null;
 }
 

@@ -43,11 +43,26 @@ const featureUnits: Record<string, string> = {
 };
 
 const segmentShapes = [
-  { name: 'Tier 1 — highest spend', weight: 0.08, mean: [1.9, 1.3, 1.2], sd: [0.45, 0.5, 0.5], rho: 0.4, spend: 620, visits: 11, basket: 56 },
-  { name: 'Tier 2', weight: 0.27, mean: [0.7, 0.6, 0.3], sd: [0.45, 0.45, 0.5], rho: 0.5, spend: 310, visits: 8, basket: 38 },
-  { name: 'Tier 3', weight: 0.38, mean: [-0.3, -0.1, -0.2], sd: [0.5, 0.55, 0.45], rho: 0.3, spend: 140, visits: 5, basket: 27 },
-  { name: 'Tier 4 — lowest spend', weight: 0.27, mean: [-1.2, -0.9, -0.5], sd: [0.5, 0.55, 0.6], rho: 0.2, spend: 52, visits: 2.4, basket: 21 },
+  { name: 'Very frequent · very large baskets · recent', weight: 0.08, mean: [1.9, 1.3, 1.2], sd: [0.45, 0.5, 0.5], rho: 0.4, spend: 620, visits: 11, basket: 56, percentiles: [0.93, 0.95, 0.2] },
+  { name: 'Frequent · large baskets · recent', weight: 0.27, mean: [0.7, 0.6, 0.3], sd: [0.45, 0.45, 0.5], rho: 0.5, spend: 310, visits: 8, basket: 38, percentiles: [0.74, 0.7, 0.3] },
+  { name: 'Regular · mid-size baskets · less recent', weight: 0.38, mean: [-0.3, -0.1, -0.2], sd: [0.5, 0.55, 0.45], rho: 0.3, spend: 140, visits: 5, basket: 27, percentiles: [0.48, 0.45, 0.5] },
+  { name: 'Rare · small baskets · long absent', weight: 0.27, mean: [-1.2, -0.9, -0.5], sd: [0.5, 0.55, 0.6], rho: 0.2, spend: 52, visits: 2.4, basket: 21, percentiles: [0.15, 0.22, 0.8] },
 ];
+/** Six Gaussian components combined into the four segments: segments 1 and 2 hold two components each. */
+const componentsOfSegment = [[0], [1, 4], [2, 5], [3]];
+const componentShapes = [0, 1, 2, 3, 1, 2].map((segment, c) => {
+  const shape = segmentShapes[segment];
+  const shift = c >= 4 ? 0.35 : c === 1 || c === 2 ? -0.35 : 0;
+  const [sx, sy, sz] = shape.sd.map((sd) => sd * (c === segment && componentsOfSegment[segment].length === 1 ? 1 : 0.8));
+  return {
+    component: c,
+    segment,
+    weight: shape.weight / componentsOfSegment[segment].length,
+    mean: [shape.mean[0] + shift, shape.mean[1] - shift / 2, shape.mean[2] + shift / 3],
+    covariance: [sx * sx, shape.rho * sx * sy, 0.2 * sx * sz, shape.rho * sx * sy, sy * sy, 0.1 * sy * sz, 0.2 * sx * sz, 0.1 * sy * sz, sz * sz],
+  };
+});
+const capacity = 200;
 const totalCustomers = 48_213;
 
 let names = segmentShapes.map((shape) => shape.name);
@@ -60,10 +75,30 @@ function segmentProfiles(): SegmentProfile[] {
     const [sx, sy, sz] = shape.sd;
     const cov = [sx * sx, shape.rho * sx * sy, 0.2 * sx * sz, shape.rho * sx * sy, sy * sy, 0.1 * sy * sz, 0.2 * sx * sz, 0.1 * sy * sz, sz * sz];
     const quart = (median: number, spread: number) => ({ q1: median * (1 - spread), median, q3: median * (1 + spread) });
+    const traitWords = [
+      ['rare', 'infrequent', 'regular', 'frequent', 'very frequent'],
+      ['very small baskets', 'small baskets', 'mid-size baskets', 'large baskets', 'very large baskets'],
+      ['recent', 'recent', 'less recent', 'less recent', 'long absent'],
+    ];
+    const medians = [shape.visits, shape.basket, Math.round(30 / shape.visits)];
+    const traitFeatures = [
+      { feature: 'visitsPerMonth', label: 'visit rate', unit: 'visits per month' },
+      { feature: 'averageBasket', label: 'basket size', unit: 'EUR' },
+      { feature: 'daysSinceLastVisit', label: 'days since last visit', unit: 'days' },
+    ];
     return {
       segment: i,
       key: `s${i + 1}`,
       name: names[i],
+      defaultName: shape.name,
+      renamed: names[i] !== shape.name,
+      traits: traitFeatures.map((trait, t) => ({
+        ...trait,
+        median: medians[t],
+        percentile: shape.percentiles[t],
+        words: traitWords[t][Math.min(4, Math.floor(shape.percentiles[t] * 5))],
+      })),
+      components: componentsOfSegment[i],
       spendRank: i + 1,
       origin: 'first' as const,
       customers,
@@ -130,6 +165,8 @@ const customers: MembershipRow[] = Array.from({ length: 2400 }, (_, n) => {
     partial: false,
     tooNew: false,
     excluded: false,
+    flagged: false,
+    queued: false,
     revenue: segmentShapes[segment].spend * 12 * Math.exp(0.3 * normal()),
     spendPerMonth: segmentShapes[segment].spend * Math.exp(0.3 * normal()),
     decision: null,
@@ -157,8 +194,30 @@ function whyOf(row: MembershipRow): BorderlineRow['why'] {
   };
 }
 
-const queue = customers.filter((row) => row.borderline || row.atypical);
+/** Flagged customers by what a decision is worth (spend × uncertainty); the first `capacity` are the queue. */
+const valueOf = (row: MembershipRow) => row.revenue * (row.borderline ? 1 - (row.confidence ?? 1) : 0.6);
+const flagged = customers.filter((row) => row.borderline || row.atypical).sort((a, b) => valueOf(b) - valueOf(a));
+flagged.forEach((row, position) => Object.assign(row, { flagged: true, queued: position < capacity }));
+const queue = flagged.filter((row) => row.queued);
 const decisions = new Map<string, ReviewDecision>();
+
+function queueCounts(): ApiOutput<'reviewQueue'>['queue'] {
+  const scale = Math.round(totalCustomers / customers.length);
+  const leftOut = flagged.filter((row) => !row.queued);
+  return {
+    capacity,
+    flagged: capacity + leftOut.length * scale,
+    queued: queue.length,
+    leftOut: {
+      customers: leftOut.length * scale,
+      borderline: leftOut.filter((row) => row.borderline).length * scale,
+      atypical: leftOut.filter((row) => row.atypical).length * scale,
+      mover: 0,
+    },
+    leftOutDecided: leftOut.filter((row) => decisions.has(row.customerId)).length * scale,
+    valueCut: valueOf(queue[queue.length - 1]),
+  };
+}
 
 function reviewItem(row: MembershipRow): ReviewItem {
   const decision = decisions.get(row.customerId) ?? null;
@@ -167,7 +226,15 @@ function reviewItem(row: MembershipRow): ReviewItem {
     ...withNames(row),
     decision,
     reasons: [row.borderline ? 'borderline' : null, row.atypical ? 'atypical' : null].filter((r): r is 'borderline' | 'atypical' => r !== null),
+    value: valueOf(row),
+    uncertainty: row.borderline ? 1 - (row.confidence ?? 1) : 0.6,
     why: row.borderline ? whyOf(row) : null,
+    atypicalWhy: row.atypical
+      ? {
+          terms: [{ feature: 'spendPerMonth', label: 'spend per month', unit: 'EUR per month', value: 10_918, direction: 'above', share: 0.9991, extreme: true }],
+          text: 'spend per month EUR 10,918, above 99.9 % of customers',
+        }
+      : null,
     featureComparison: featureNames.map((feature, f) => ({
       feature,
       label: featureLabels[feature],
@@ -207,21 +274,22 @@ function pretendTask<M extends keyof TaskResults>(method: M, result: TaskResults
 const runSettings: ApiOutput<'runSummary'>['settings'] = {
   asOf: '2026-11-30', windowMonths: 12, mode: 'refit', parentRunId: null, source: 'receipts', k: 'auto', kMin: 2, kMax: 8, covariance: 'auto', criterion: 'bic',
   restarts: 5, seed: 0, tol: 1e-3, maxIterations: 200, regularization: 1e-6, init: 'kmeans', borderlineConfidence: 0.7, borderlineMargin: 0.2,
-  atypicalPercentile: 1, reviewMoversBelowConfidence: null, minPurchases: 2, minTenureMonths: 2, freshCategories: ['fresh', 'bakery'],
+  atypicalPercentile: 1, reviewMoversBelowConfidence: null, reviewCapacity: capacity, segmentCount: 'auto', minPurchases: 2, minTenureMonths: 2, freshCategories: ['fresh', 'bakery'],
   features: featureNames.map((feature) => ({ feature, log1p: true, clipLowerPercentile: null, clipUpperPercentile: null, zScore: true })),
 };
 
 function summary(runId: number): ApiOutput<'runSummary'> {
   const profiles = segmentProfiles();
   return {
-    runId, parentRunId: runId > 1 ? runId - 1 : null, k: 4, covariance: 'full', bic: 301_544.2, customers: totalCustomers, tooNew: 1_204,
-    borderline: 5_830, atypical: 482,
-    segments: profiles.map((p) => ({ name: p.name, customers: p.customers, share: p.share, revenueShare: p.revenueShare })),
+    runId, parentRunId: runId > 1 ? runId - 1 : null, k: 6, covariance: 'full', bic: 301_544.2, segmentCount: 4, segmentation: 'auto',
+    customers: totalCustomers, tooNew: 1_204, borderline: 2_630, atypical: 482,
+    segments: profiles.map((p) => ({ name: p.name, key: p.key, components: p.components, customers: p.customers, share: p.share, revenueShare: p.revenueShare })),
     stability: runId > 1 ? 0.812 : null,
+    review: queueCounts(),
+    warnings: ['The features are nearly collinear: spend per month is explained by the others with R² = 0.97; drop spend per month.'],
     asOf: runId > 1 ? '2026-11-30' : '2026-10-31', windowMonths: 12, mode: 'refit', createdAt: '2026-12-01T09:12:00Z', settings: runSettings,
     features: featureNames.map((feature) => ({ feature, log1p: true, clipLowerPercentile: null, clipUpperPercentile: null, zScore: true })),
     storedFeatures: Object.keys(featureLabels), logLikelihood: -150_600.3, icl: 309_870.5, criterion: 'bic', retiredSegments: [],
-    warnings: ['2 of 28 fits were refused for a component too small to estimate its covariance (see the sweep table).'],
   };
 }
 
@@ -238,6 +306,7 @@ function confidenceBins(confidenceCut: number, marginCut: number, atypicalPercen
     runId: 2, customers: totalCustomers,
     confidenceHistogram: bins.map((bin) => ({ ...bin, customers: Math.round(bin.customers * scale) })),
     borderline: Math.round(borderline * scale), atypical: Math.round((atypicalPercentile / 100) * totalCustomers), atypicalLogDensityBelow: -5.84 + atypicalPercentile * 0.3,
+    queue: queueCounts(),
   };
 }
 
@@ -300,11 +369,33 @@ const api: Api = {
   startRun: async () => pretendTask('startRun', { ...summary(3) }, ['features', 'fitting k=2 full', 'fitting k=4 full', 'memberships', 'profiles']),
   listRuns: async () =>
     [2, 1].map((id) => {
-      const { runId, parentRunId, k, covariance, bic, customers, tooNew, borderline, atypical, stability, createdAt, asOf, windowMonths, mode } = summary(id);
-      return { runId, parentRunId, k, covariance, bic, customers, tooNew, borderline, atypical, stability, createdAt, asOf, windowMonths, mode };
+      const { runId, parentRunId, k, covariance, bic, segmentCount, segmentation, customers, tooNew, borderline, atypical, stability, createdAt, asOf, windowMonths, mode } = summary(id);
+      return { runId, parentRunId, k, covariance, bic, segmentCount, segmentation, customers, tooNew, borderline, atypical, stability, createdAt, asOf, windowMonths, mode };
     }),
   runSummary: async (input) => summary(input.runId),
-  segments: async (input) => ({ runId: input.runId, features: featureNames, segments: segmentProfiles() }),
+  segments: async (input) => ({ runId: input.runId, features: featureNames, segments: segmentProfiles(), components: componentShapes }),
+  segmentation: async (input) => {
+    // Entropy falls steeply over the first merges (components of one segment), then flattens: the change point at 4.
+    const levels: ApiOutput<'segmentation'>['levels'] = [
+      { segmentCount: 6, entropy: 9_840, mergedRows: 0, merged: null, groups: [[0], [1], [2], [3], [4], [5]] },
+      { segmentCount: 5, entropy: 6_120, mergedRows: 7_300, merged: [1, 4], groups: [[0], [1, 4], [2], [3], [5]] },
+      { segmentCount: 4, entropy: 2_950, mergedRows: 9_800, merged: [2, 4], groups: [[0], [1, 4], [2, 5], [3]] },
+      { segmentCount: 3, entropy: 2_410, mergedRows: 21_400, merged: [1, 2], groups: [[0], [1, 2, 4, 5], [3]] },
+      { segmentCount: 2, entropy: 1_520, mergedRows: 31_900, merged: [1, 2], groups: [[0], [1, 2, 3, 4, 5]] },
+      { segmentCount: 1, entropy: 0, mergedRows: 45_300, merged: [0, 1], groups: [[0, 1, 2, 3, 4, 5]] },
+    ];
+    return {
+      runId: input.runId, components: 6, covariance: 'full', method: 'auto', segmentCount: 4, autoSegmentCount: 4, autoSegmentCountByMergedRows: 4,
+      segments: segmentProfiles().map((p) => ({ segment: p.segment, key: p.key, name: p.name, components: p.components, customers: p.customers })),
+      levels, currentLevel: 4,
+    };
+  },
+  regroupSegments: async (input) =>
+    pretendTask('regroupSegments', {
+      summary: summary(input.runId),
+      change: 'level' in input.change ? `combined into ${String(input.change.level)} segments` : 'merge' in input.change ? 'merged two segments' : 'split a segment',
+      keptKeys: ['s1', 's2', 's3', 's4'], retired: [], added: [], laterRunsUpdated: [],
+    }, ['reading', 'combining', 'storing']),
   sweepTable: async () => {
     const rows: ApiOutput<'sweepTable'> = [];
     const base: Record<string, number> = { full: 0, diag: 4_200, spherical: 9_800, tied: 2_100 };
@@ -312,9 +403,9 @@ const api: Api = {
       for (let k = 2; k <= 8; k++) {
         // Large full fits leave a component with a handful of customers: lower BIC, but refused.
         const collapsed = covariance === 'full' && k >= 7;
-        const bic = 301_544 + base[covariance] + 2_600 * (k - 4) ** 2 - (k > 4 ? 1_500 * (k - 4) : 0) - (collapsed ? 40_000 : 0);
+        const bic = 301_544 + base[covariance] + 2_600 * (k - 6) ** 2 - (collapsed ? 40_000 : 0);
         const refused = collapsed ? `component ${k} has ${k === 7 ? '3.2' : '1.0'} effective members; a full covariance in 3 features needs at least 4` : null;
-        rows.push({ k, covariance, logLikelihood: -bic / 2, bic, aic: bic - 300, icl: bic + 6_000 + 900 * k, parameterCount: k * 10, converged: true, iterations: 40 + k, warnings: [], refused, chosen: covariance === 'full' && k === 4 });
+        rows.push({ k, covariance, logLikelihood: -bic / 2, bic, aic: bic - 300, icl: bic + 6_000 + 900 * k, parameterCount: k * 10, converged: true, iterations: 40 + k, warnings: [], refused, chosen: covariance === 'full' && k === 6 });
       }
     }
     return rows;
@@ -354,13 +445,26 @@ const api: Api = {
   },
   reviewQueue: async (input) => {
     const status = input.status ?? 'all';
-    const rows = queue.filter((row) => status === 'all' || (status === 'done') === decisions.has(row.customerId));
+    const scope = input.scope ?? 'queued';
+    const inScope = flagged.filter((row) => scope === 'flagged' || (scope === 'queued') === row.queued);
+    const rows = inScope.filter((row) => status === 'all' || (status === 'done') === decisions.has(row.customerId));
     const offset = input.offset ?? 0;
-    return { runId: input.runId, total: rows.length, done: decisions.size, offset, rows: rows.slice(offset, offset + (input.limit ?? 100)).map(reviewItem) };
+    return {
+      runId: input.runId, total: rows.length, done: inScope.filter((row) => decisions.has(row.customerId)).length, offset,
+      rows: rows.slice(offset, offset + (input.limit ?? 100)).map(reviewItem), queue: queueCounts(),
+    };
+  },
+  acceptUnqueued: async (input) => {
+    const open = flagged.filter((row) => !row.queued && !decisions.has(row.customerId));
+    const already = flagged.filter((row) => !row.queued).length - open.length;
+    for (const row of open) {
+      decisions.set(row.customerId, { action: 'keep', segmentKey: `s${(row.segment ?? 0) + 1}`, segmentName: names[row.segment ?? 0], note: input.note || null, reviewer: input.reviewer || 'analyst', decidedAt: new Date().toISOString(), carriedFromRunId: null });
+    }
+    return { runId: input.runId, accepted: open.length, alreadyDecided: already, queue: queueCounts() };
   },
   decideReview: async (input) => {
-    const row = queue.find((item) => item.customerId === input.customerId);
-    if (!row) throw Object.assign(new Error(`No customer ${input.customerId} in the review queue.`), { kind: 'input' });
+    const row = flagged.find((item) => item.customerId === input.customerId);
+    if (!row) throw Object.assign(new Error(`Customer ${input.customerId} is not flagged for review.`), { kind: 'input' });
     const segment = input.action === 'move' ? input.segment ?? 0 : row.segment ?? 0;
     const target = typeof segment === 'number' ? segment : Number(segment);
     decisions.set(row.customerId, { action: input.action, segmentKey: input.action === 'exclude' ? null : `s${target + 1}`, segmentName: input.action === 'exclude' ? null : names[target], note: input.note ?? null, reviewer: 'analyst', decidedAt: new Date().toISOString(), carriedFromRunId: null });
@@ -382,7 +486,7 @@ const api: Api = {
       [3, 97, 1_310, 10_950],
     ],
     common: 46_416, entered: 1_797, left: 1_486, stability: 0.812,
-    warnings: [{ segmentKey: 's2', segmentName: 'Tier 2', kind: 'mean-shift', feature: 'averageBasket', amount: 0.56, message: 'Tier 2: average basket moved 0.56 standard deviations (from €35.10 to €38.40).' }],
+    warnings: [{ segmentKey: 's2', segmentName: names[1], kind: 'mean-shift', feature: 'averageBasket', amount: 0.56, message: `${names[1]}: basket size moved 0.56 standard deviations up since last month.` }],
     retired: [], added: [],
   }),
   exportRun: async (input) => pretendTask('exportRun', { out: input.out, sheets: ['Overview', 'Customers', 'Review', 'Movement'], customersExported: 39_882, suppressedNoConsent: 6_944 }, ['overview', 'writing customers', 'review', 'movement']),
