@@ -114,3 +114,13 @@ export function formatInUnit(value: number, unit: string, format: Formatters): s
       return `${format.decimal(value, 2)} ${unit}`;
   }
 }
+
+/** The text with its first letter in capitals (a sentence built from a phrase). */
+export function capitalise(text: string): string {
+  return text.charAt(0).toUpperCase() + text.slice(1);
+}
+
+/** "1 segment", "3 segments": a count with its noun in the right number. */
+export function countOf(count: number, singular: string, format: Formatters, plural = `${singular}s`): string {
+  return `${format.count(count)} ${count === 1 ? singular : plural}`;
+}

@@ -33,6 +33,9 @@ export interface ModelForm {
   kMax: string;
   /** One structure, or 'auto' to sweep all four. */
   covariance: CovarianceType | 'auto';
+  /** Segments the components are combined into: the entropy curve's change point, or a number. */
+  segmentMode: 'auto' | 'fixed';
+  segmentCount: string;
   criterion: 'bic' | 'icl';
   restarts: string;
   seed: string;
@@ -50,6 +53,8 @@ export interface ModelForm {
   /** Also queue customers who changed segment with confidence below `moversBelow`. */
   moversOn: boolean;
   moversBelow: string;
+  /** Customers one person can review this month. */
+  reviewCapacity: string;
   carried: CarriedSettings;
 }
 
@@ -82,6 +87,8 @@ export function formFromSettings(options: ModelOptions, settings: RunSettings, a
     kMin: text(settings.kMin),
     kMax: text(settings.kMax),
     covariance: settings.covariance,
+    segmentMode: settings.segmentCount === 'auto' ? 'auto' : 'fixed',
+    segmentCount: settings.segmentCount === 'auto' ? '4' : String(settings.segmentCount),
     criterion: settings.criterion,
     restarts: text(settings.restarts),
     seed: text(settings.seed),
@@ -97,6 +104,7 @@ export function formFromSettings(options: ModelOptions, settings: RunSettings, a
     minTenureMonths: text(settings.minTenureMonths),
     moversOn: settings.reviewMoversBelowConfidence !== null,
     moversBelow: text(settings.reviewMoversBelowConfidence ?? 0.6),
+    reviewCapacity: text(settings.reviewCapacity),
     carried: { source: settings.source },
   };
 }
@@ -155,6 +163,9 @@ export function toStartRunInput(form: ModelForm): { input: ApiInput<'startRun'>;
     kMin: number('kMin'),
     kMax: number('kMax'),
     covariance: form.covariance,
+    // The grouping itself is not sent: a run's segments are changed after the fit (regroup), and a
+    // grouping of last month's components means nothing to a new fit.
+    segmentCount: form.segmentMode === 'auto' ? 'auto' : number('segmentCount'),
     criterion: form.criterion,
     restarts: number('restarts'),
     seed: number('seed'),
@@ -170,6 +181,7 @@ export function toStartRunInput(form: ModelForm): { input: ApiInput<'startRun'>;
     minPurchases: number('minPurchases'),
     minTenureMonths: number('minTenureMonths'),
     reviewMoversBelowConfidence: form.moversOn ? number('moversBelow') : null,
+    reviewCapacity: number('reviewCapacity'),
   };
   return { input, errors };
 }

@@ -1,7 +1,8 @@
 /*
  * Model screen: the settings form (model/SettingsForm.tsx), fit progress, the run's warnings,
- * the model choice (model/SweepPanel.tsx). Test ids: screen-model, model-task (with -bar,
- * -cancel, -dismiss), model-warnings.
+ * the model choice (model/SweepPanel.tsx), and how the components combine into segments
+ * (model/CombiningPanel.tsx). Test ids: screen-model, model-task (with -bar, -cancel, -dismiss),
+ * model-result, model-warnings.
  */
 import { useEffect, useState } from 'react';
 import type { ModelOptions, RunDetail, RunSummary } from '../../../src/api/contract.js';
@@ -9,9 +10,11 @@ import { useApi, useFormat, useLoad, useTask } from '../app/client-context.js';
 import { useWorkspace } from '../app/workspace.js';
 import { structureLabels } from '../charts/model-charts.js';
 import { Loading } from '../components/Notice.js';
+import { countOf } from '../lib/format.js';
 import { TaskPanel } from '../components/TaskPanel.js';
 import { errorsFromIssues, formFromSettings, toStartRunInput, type FormErrors, type ModelForm } from '../lib/model-form.js';
 import { SettingsForm } from './model/SettingsForm.js';
+import { CombiningPanel } from './model/CombiningPanel.js';
 import { SweepPanel } from './model/SweepPanel.js';
 
 export function ModelScreen() {
@@ -22,15 +25,24 @@ export function ModelScreen() {
   // it, while the outcome stays on screen.
   const task = useTask<'startRun'>(() => refreshDatabase(true));
   const current = run.data && run.data.runId === runId ? run.data : null;
+  const reloadRun = run.reload;
   // Without a run the as-of date comes from the database summary, so wait for that too.
   if (!modelOptions || (runId !== null && !current && !run.error) || (runId === null && !database)) {
     return <section className="screen" data-testid="screen-model"><h1>Model</h1><Loading what="model settings" /></section>;
   }
   const asOf = current?.asOf ?? database?.lastDataDate ?? '';
-  return <ModelView key={`${runId}`} options={modelOptions} previous={current} asOf={asOf} task={task} />;
+  return <ModelView key={`${runId}`} options={modelOptions} previous={current} asOf={asOf} task={task} onRegrouped={reloadRun} />;
 }
 
-function ModelView({ options, previous, asOf, task }: { options: ModelOptions; previous: RunDetail | null; asOf: string; task: ReturnType<typeof useTask<'startRun'>> }) {
+interface ModelViewProps {
+  options: ModelOptions;
+  previous: RunDetail | null;
+  asOf: string;
+  task: ReturnType<typeof useTask<'startRun'>>;
+  onRegrouped: () => void;
+}
+
+function ModelView({ options, previous, asOf, task, onRegrouped }: ModelViewProps) {
   const api = useApi();
   const format = useFormat();
   const { runId } = useWorkspace();
@@ -69,11 +81,20 @@ function ModelView({ options, previous, asOf, task }: { options: ModelOptions; p
             onCancel={task.cancel}
             onDismiss={task.dismiss}
             describeResult={(result) => (
-              <p>
-                Run #{result.runId}: {result.segments.length} segments from {result.k} components ({structureLabels[result.covariance]}),{' '}
-                {format.count(result.customers)} customers placed, {format.count(result.tooNew)} too new, {format.count(result.borderline)} borderline,{' '}
-                {format.count(result.atypical)} atypical.
-              </p>
+              <div data-testid="model-result">
+                <p>
+                  Run #{result.runId}: {countOf(result.segmentCount, 'segment', format)} from {countOf(result.k, 'component', format)} ({structureLabels[result.covariance]}),{' '}
+                  {format.count(result.customers)} customers placed, {format.count(result.tooNew)} too new, {format.count(result.borderline)} borderline,{' '}
+                  {format.count(result.atypical)} atypical; {format.count(result.review.queued)} of {format.count(result.review.flagged)} flagged in the review queue.
+                </p>
+                {result.warnings.length ? (
+                  <ul className="warnings">
+                    {result.warnings.map((warning) => (
+                      <li key={warning}>{warning}</li>
+                    ))}
+                  </ul>
+                ) : null}
+              </div>
             )}
           />
           {previous && previous.warnings.length ? (
@@ -87,6 +108,7 @@ function ModelView({ options, previous, asOf, task }: { options: ModelOptions; p
             </div>
           ) : null}
           <SweepPanel runId={runId} criterion={previous?.criterion ?? 'bic'} />
+          {runId !== null ? <CombiningPanel runId={runId} onRegrouped={onRegrouped} /> : null}
         </div>
       </div>
     </section>

@@ -15,14 +15,12 @@ import { segmentIndex, useWorkspace } from '../app/workspace.js';
 import { colourOf, distributionOption, scatterOption } from '../charts/segment-charts.js';
 import { Chart } from '../components/Chart.js';
 import { ErrorNote, Loading } from '../components/Notice.js';
-import { axisUnit, formatInUnit, sampleCaption } from '../lib/format.js';
+import { axisUnit, capitalise, formatInUnit, sampleCaption } from '../lib/format.js';
 import { toApiError } from '../lib/task-state.js';
 import { RunScreen } from './NoRun.js';
 
 /** Points the scatter asks the core for; the core draws a seeded random sample of this size. */
 const scatterSampleSize = 5000;
-
-const capitalise = (text: string) => text.charAt(0).toUpperCase() + text.slice(1);
 
 export function SegmentsScreen() {
   const { segments } = useWorkspace();

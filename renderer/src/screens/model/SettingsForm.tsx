@@ -3,9 +3,10 @@
  * model-as-of, model-window, model-mode, model-min-purchases, model-min-tenure,
  * model-fresh-categories, model-feature-<feature>, model-transform-<feature>-<log1p|clip|zScore>,
  * model-clip-lower-<feature>, model-clip-upper-<feature>, model-k-mode, model-k, model-k-min,
- * model-k-max, model-criterion, model-covariance, model-restarts, model-seed, model-init,
- * model-tol, model-max-iter, model-reg, model-borderline-confidence, model-borderline-margin,
- * model-atypical, model-movers, model-movers-below, model-start.
+ * model-k-max, model-criterion, model-covariance, model-segment-mode, model-segment-count,
+ * model-restarts, model-seed, model-init, model-tol, model-max-iter, model-reg,
+ * model-borderline-confidence, model-borderline-margin, model-atypical, model-movers,
+ * model-movers-below, model-review-capacity, model-start.
  */
 import type { CovarianceType, InitMethod, ModelOptions } from '../../../../src/api/contract.js';
 import { useWorkspace } from '../../app/workspace.js';
@@ -175,6 +176,24 @@ export function SettingsForm({ options, form, errors, running, onChange, onSubmi
       </fieldset>
 
       <fieldset>
+        <legend>Segments</legend>
+        <div className="form-grid">
+          <label className="field">
+            <span>number of segments</span>
+            <select value={form.segmentMode} onChange={(e) => set('segmentMode', e.target.value as ModelForm['segmentMode'])} data-testid="model-segment-mode">
+              <option value="auto">automatic (entropy)</option>
+              <option value="fixed">fixed number</option>
+            </select>
+          </label>
+          {form.segmentMode === 'fixed' ? textInput('segmentCount', 'model-segment-count', 'segments', 'at most the number of components') : null}
+        </div>
+        <p className="hint">
+          Components that overlap are combined, two at a time, where combining them makes customers' memberships most certain (the entropy
+          criterion). After the fit you can pick another level, or merge and split segments by hand.
+        </p>
+      </fieldset>
+
+      <fieldset>
         <legend>Fitting</legend>
         <div className="form-grid">
           {textInput('restarts', 'model-restarts', 'restarts', 'best log-likelihood kept')}
@@ -203,9 +222,9 @@ export function SettingsForm({ options, form, errors, running, onChange, onSubmi
           {textInput('borderlineMargin', 'model-borderline-margin', 'or margin below')}
           {textInput('atypicalPercentile', 'model-atypical', 'atypical below density percentile')}
           <div className="field">
-            <label className="check">
+            <label className="check check-inline">
               <input type="checkbox" checked={form.moversOn} onChange={(e) => set('moversOn', e.target.checked)} data-testid="model-movers" />
-              also flag movers less sure than
+              <span>also flag movers below confidence</span>
             </label>
             <input
               inputMode="decimal"
@@ -218,6 +237,7 @@ export function SettingsForm({ options, form, errors, running, onChange, onSubmi
             />
             {field('moversBelow')}
           </div>
+          {textInput('reviewCapacity', 'model-review-capacity', 'review capacity (customers)', 'what one person can review this month')}
         </div>
       </fieldset>
       {field('form')}
