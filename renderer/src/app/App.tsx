@@ -170,7 +170,7 @@ export function App() {
               {runs.length === 0 ? <option value="">no runs yet</option> : null}
               {sortedRuns.map((run) => (
                 <option key={run.runId} value={run.runId}>
-                  #{run.runId} · as of {format.date(run.asOf)} · {run.segmentCount} segments of k = {run.k} {run.covariance} · {run.mode}
+                  #{run.runId} · {format.date(run.asOf)} · {run.segmentCount} segments, k = {run.k} {run.covariance} · {run.mode}
                 </option>
               ))}
             </select>
