@@ -230,7 +230,8 @@ function residualSquares(x: number[], y: number[]): number {
 // ---------------------------------------------------------------------------------------------
 // hand operations
 
-function checkSegmentation(segmentation: Segmentation): void {
+/** Refuses a segmentation that is not a partition of the components 0 … K − 1 into non-empty segments, naming what is wrong. */
+export function checkSegmentation(segmentation: Segmentation): void {
   const { components: k, segments } = segmentation;
   const seen = new Uint8Array(k);
   for (const members of segments) {

@@ -23,6 +23,7 @@ export {
   segmentPosteriors,
   classify,
   segmentationAtLevel,
+  checkSegmentation,
   mergeSegments,
   splitSegment,
   type Segmentation,
@@ -45,6 +46,6 @@ export {
   type ComponentMatching,
 } from './matching.js';
 export { contingencyTable, adjustedRandIndex, adjustedRandIndexFromTable, type ContingencyTable } from './agreement.js';
-export { fitMixtureParallel, sweepMixtures } from './parallel.js';
+export { fitMixtureParallel, sweepMixtures, everyFitRefused } from './parallel.js';
 export { parseNumericCsv, membershipsHeader, membershipsLines, type NumericCsv } from './matrix-csv.js';
 export { restartStream, type RandomStream } from './random.js';

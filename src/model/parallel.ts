@@ -250,7 +250,7 @@ export async function fitMixtureParallel(data: DataMatrix, options: FitOptions &
  * The error when no fit of a sweep may compete: what was wrong with the simplest one, and what
  * to change.
  */
-function everyFitRefused(table: SweepResult['table']): InputError {
+export function everyFitRefused(table: SweepResult['table']): InputError {
   const first = table[0];
   return new InputError(
     `Every fit was refused: each has a component too small to estimate its covariance ` +

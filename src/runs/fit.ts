@@ -8,6 +8,7 @@ import type { ExplicitRunSettings } from '../api/contract.js';
 import { InputError } from '../errors.js';
 import {
   covarianceTypes,
+  everyFitRefused,
   fitMixtureParallel,
   sweepMixtures,
   sweepRowOf,
@@ -55,8 +56,9 @@ export async function fitForRun(
   };
   if (kMin === kMax && structures.length === 1) {
     const result = await fitMixtureParallel(data, { ...common, components: kMin, covarianceType: structures[0] });
-    const warnings = result.refused ? [...result.warnings, `This fit would be refused in a choice of k: ${result.refused}.`] : result.warnings;
-    return { model: result.model, sweep: [sweepRowOf(result)], warnings };
+    // A collapsed component is no segment to act on: the one fit asked for is refused as a sweep's would be.
+    if (result.refused) throw everyFitRefused([sweepRowOf(result)]);
+    return { model: result.model, sweep: [sweepRowOf(result)], warnings: result.warnings };
   }
   const sweep = await sweepMixtures(data, { ...common, componentRange: [kMin, kMax], covarianceTypes: structures, criterion: settings.criterion });
   return { model: sweep.best.model, sweep: sweep.table, warnings: sweep.best.warnings };

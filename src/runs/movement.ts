@@ -6,7 +6,9 @@
  */
 import { adjustedRandIndex } from '../model/index.js';
 import { featureLabel } from '../features/definitions.js';
+import { transformValue } from '../features/transforms.js';
 import type { DriftWarning, MovementResult } from '../api/contract.js';
+import type { ParentRun } from './parent.js';
 
 /**
  * Movement as stored with a run (the runs table's movement column): segments by index, key and
@@ -179,4 +181,57 @@ export function driftWarnings(
     }
   }
   return warnings;
+}
+
+/** A run's placement as movement needs it. */
+export interface RunPlacement {
+  /** Every customer of the run: segment index, −1 when not placed (too new). */
+  segmentOf: ReadonlyMap<string, number>;
+  segments: readonly { index: number; key: string; name: string; origin: 'first' | 'matched' | 'new' }[];
+  /** Share of the run's placed customers per segment index. */
+  shares: readonly number[];
+  /**
+   * Stored features in original units of the placed customers: `columns[j][p]` of feature
+   * `features[j]` for the p-th placed customer, whose segment is `labels[p]`.
+   */
+  features: readonly string[];
+  columns: readonly Float64Array[];
+  labels: Int32Array;
+}
+
+/**
+ * Movement of a run against its parent: the count matrix, entered and left, the adjusted Rand
+ * index on common customers, drift warnings (the run's segment means in the parent's transformed
+ * space against the parent members' spread), and the parent segments without a continuation.
+ */
+export function movementAgainst(parent: ParentRun, current: RunPlacement): StoredMovement {
+  const counted = countMovement(parent.segmentOf, current.segmentOf, parent.segments.length, current.segments.length);
+  const columns = parent.features.map((name) => {
+    const j = current.features.indexOf(name);
+    return Float64Array.from(current.labels, (_, p) => (j >= 0 ? transformValue(name, parent.transforms[name], current.columns[j][p]) : NaN));
+  });
+  const now = segmentMoments(columns, current.labels, current.segments.length);
+  const warnings = driftWarnings(
+    parent.features,
+    parent.segments.map((segment) => ({
+      ...segment,
+      means: parent.moments.means[segment.index],
+      standardDeviations: parent.moments.standardDeviations[segment.index],
+    })),
+    current.segments.map((segment) => ({ key: segment.key, name: segment.name, share: current.shares[segment.index], means: now.means[segment.index] })),
+  );
+  const currentKeys = new Set(current.segments.map((segment) => segment.key));
+  return {
+    parentRunId: parent.runId,
+    parentSegments: parent.segments.map(({ index, key, name }) => ({ index, key, name })),
+    currentSegments: current.segments.map(({ index, key, name }) => ({ index, key, name })),
+    counts: counted.counts,
+    common: counted.common,
+    entered: counted.entered,
+    left: counted.left,
+    adjustedRandIndex: counted.adjustedRandIndex,
+    warnings,
+    retired: parent.segments.filter((segment) => !currentKeys.has(segment.key)).map(({ key, name }) => ({ key, name })),
+    added: current.segments.filter((segment) => segment.origin === 'new').map(({ key, name }) => ({ key, name })),
+  };
 }

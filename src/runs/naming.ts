@@ -1,14 +1,27 @@
 /**
- * Segment keys and names. Segments are named in spend order ("Tier 1 — highest spend", …,
- * "Tier k — lowest spend"); a key ("S1", "S2", …) identifies a segment across months so that a
- * refit can carry its name (including the analyst's renames) over to the matched new segment.
+ * Segment keys and default names (DESIGN.md §6). A key ("S1", "S2", …) identifies a segment
+ * across months and regroups, so that its name — the analyst's rename included — carries over.
+ *
+ * Default names describe a segment's measured traits relative to ALL placed customers of the run,
+ * in plain words: how often (visit rate), how much per trip (basket size), how recently (days
+ * since the last visit), e.g. "Frequent · large baskets · recent". A trait's position is the share
+ * of placed customers whose value lies below the segment's median, cut into five bands. Names are
+ * unique within a run: segments whose words coincide get the next most distinctive trait added
+ * (the one whose median lies furthest from the middle of all customers), then their spend rank.
+ * Nothing here names a customer type from any known scheme; the words only restate measurements.
  */
+import type { SegmentTrait } from '../api/contract.js';
+import { featureLabel, featureUnit } from '../features/definitions.js';
 
 export interface NamedSegment {
-  /** Model component index in this run. */
+  /** Segment index in this run. */
   index: number;
   key: string;
+  /** What the analyst sees: their rename, or the default name. */
   name: string;
+  /** The name built from the traits. */
+  defaultName: string;
+  renamed: boolean;
   /** 1 = highest mean spend. */
   spendRank: number;
   origin: 'first' | 'matched' | 'new';
@@ -27,13 +40,6 @@ export function spendRanks(meanSpend: readonly number[]): number[] {
   return ranks;
 }
 
-export function defaultTierName(rank: number, k: number): string {
-  if (k === 1) return 'Tier 1 — all customers';
-  if (rank === 1) return 'Tier 1 — highest spend';
-  if (rank === k) return `Tier ${k} — lowest spend`;
-  return `Tier ${rank}`;
-}
-
 export function segmentKey(number: number): string {
   return `S${number}`;
 }
@@ -44,53 +50,167 @@ export function keyNumber(key: string): number {
   return match ? Number(match[1]) : 0;
 }
 
-/** A first run: keys S1..Sk and names both in spend order. */
-export function nameFirstRun(meanSpend: readonly number[]): NamedSegment[] {
-  const ranks = spendRanks(meanSpend);
-  const k = meanSpend.length;
-  return ranks.map((rank, index) => ({ index, key: segmentKey(rank), name: defaultTierName(rank, k), spendRank: rank, origin: 'first' }));
+/** Words for five bands of a trait's position (share of customers below the segment's median), lowest band first. */
+const bandWords: Record<string, readonly [string, string, string, string, string]> = {
+  visits_per_month: ['rare', 'infrequent', 'regular', 'frequent', 'very frequent'],
+  average_basket: ['very small baskets', 'small baskets', 'mid-size baskets', 'large baskets', 'very large baskets'],
+  days_since_last_visit: ['very recent', 'recent', 'fairly recent', 'not recent', 'long absent'],
+  fresh_share: ['very little fresh', 'little fresh', 'average fresh share', 'fresh-heavy', 'very fresh-heavy'],
+  spend_per_month: ['very low spend', 'low spend', 'mid spend', 'high spend', 'very high spend'],
+};
+
+/** The features whose words make the name, in the order they are said: how often, how much per trip, how recently. */
+export const NAME_TRAITS: readonly string[] = ['visits_per_month', 'average_basket', 'days_since_last_visit'];
+
+function band(percentile: number): 0 | 1 | 2 | 3 | 4 {
+  return percentile < 0.2 ? 0 : percentile < 0.4 ? 1 : percentile < 0.6 ? 2 : percentile < 0.8 ? 3 : 4;
 }
 
-/** A name not yet taken: the wanted one, or it with " (new)", " (new 2)", … appended. */
+/** The words for a trait: the feature's own five, or "very low … very high" and its label. */
+export function traitWords(feature: string, percentile: number): string {
+  const words = bandWords[feature];
+  if (words) return words[band(percentile)];
+  const level = ['very low', 'low', 'mid', 'high', 'very high'][band(percentile)];
+  return `${level} ${featureLabel(feature)}`;
+}
+
+/** Share of the sorted values strictly below x (NaN for an empty list). */
+function shareBelow(sorted: Float64Array, x: number): number {
+  let low = 0;
+  let high = sorted.length;
+  while (low < high) {
+    const middle = (low + high) >>> 1;
+    if (sorted[middle] < x) low = middle + 1;
+    else high = middle;
+  }
+  return sorted.length === 0 ? NaN : low / sorted.length;
+}
+
+/**
+ * A segment's traits: for each feature the segment has a median of, that median and the share of
+ * all placed customers below it. The name's traits come first (in the order said), then the rest
+ * by how far their median lies from the middle of all customers.
+ */
+export function segmentTraits(
+  medians: Readonly<Record<string, number | null>>,
+  sortedByFeature: ReadonlyMap<string, Float64Array>,
+  candidates: readonly string[],
+): SegmentTrait[] {
+  const traits: SegmentTrait[] = [];
+  for (const feature of candidates) {
+    const median = medians[feature];
+    const sorted = sortedByFeature.get(feature);
+    if (median === null || median === undefined || !Number.isFinite(median) || !sorted || sorted.length === 0) continue;
+    const percentile = shareBelow(sorted, median);
+    traits.push({ feature, label: featureLabel(feature), median, unit: featureUnit(feature), percentile, words: traitWords(feature, percentile) });
+  }
+  const inName = (trait: SegmentTrait) => NAME_TRAITS.indexOf(trait.feature);
+  return traits.sort((a, b) => {
+    const [ia, ib] = [inName(a), inName(b)];
+    if (ia >= 0 || ib >= 0) return (ia < 0 ? Infinity : ia) - (ib < 0 ? Infinity : ib);
+    return Math.abs(b.percentile - 0.5) - Math.abs(a.percentile - 0.5);
+  });
+}
+
+/** How many traits a name says before disambiguation: the three of NAME_TRAITS, or the two most distinctive otherwise. */
+function baseTraitCount(traits: readonly SegmentTrait[]): number {
+  const named = traits.filter((trait) => NAME_TRAITS.includes(trait.feature)).length;
+  return named > 0 ? named : Math.min(2, traits.length);
+}
+
+function joinWords(words: readonly string[]): string {
+  const text = words.join(' · ');
+  return text.charAt(0).toUpperCase() + text.slice(1);
+}
+
+/**
+ * Default names for the segments of one run, unique within it: the base traits' words; where
+ * names coincide, each of those segments adds its next trait until they differ, then its spend
+ * rank. A segment with no trait is named by its spend rank alone.
+ */
+export function defaultNames(traitsBySegment: readonly SegmentTrait[][], ranks: readonly number[]): string[] {
+  const used = traitsBySegment.map(baseTraitCount);
+  const nameOf = (s: number) => {
+    const words = traitsBySegment[s].slice(0, used[s]).map((trait) => trait.words);
+    return words.length > 0 ? joinWords(words) : `Spend rank ${ranks[s]}`;
+  };
+  const names = traitsBySegment.map((_, s) => nameOf(s));
+  for (;;) {
+    const clashes = clashingSegments(names);
+    if (clashes.length === 0) return names;
+    let grown = false;
+    for (const s of clashes) {
+      if (used[s] < traitsBySegment[s].length) {
+        used[s]++;
+        names[s] = nameOf(s);
+        grown = true;
+      }
+    }
+    if (!grown) {
+      for (const s of clashes) names[s] = `${nameOf(s)} · spend rank ${ranks[s]}`;
+      return names;
+    }
+  }
+}
+
+function clashingSegments(names: readonly string[]): number[] {
+  const count = new Map<string, number>();
+  for (const name of names) count.set(name, (count.get(name) ?? 0) + 1);
+  return names.flatMap((name, s) => ((count.get(name) ?? 0) > 1 ? [s] : []));
+}
+
+/** A name not yet taken: the wanted one, or it with " (2)", " (3)", … appended. */
 export function uniqueName(wanted: string, taken: ReadonlySet<string>): string {
   if (!taken.has(wanted)) return wanted;
-  for (let attempt = 1; ; attempt++) {
-    const candidate = attempt === 1 ? `${wanted} (new)` : `${wanted} (new ${attempt})`;
+  for (let attempt = 2; ; attempt++) {
+    const candidate = `${wanted} (${attempt})`;
     if (!taken.has(candidate)) return candidate;
   }
 }
 
+/** A segment of the run before (last month's, or this run's before a regroup) that a new segment may continue. */
+export interface EarlierSegment {
+  key: string;
+  name: string;
+  renamed: boolean;
+  /** The origin a segment continuing it takes ('matched' for last month's segments; its own for a regrouped run's). */
+  origin: NamedSegment['origin'];
+}
+
 /**
- * A refit: matched segments take their parent's key and name; unmatched new segments get fresh
- * keys (numbers above every key used so far, `nextKeyNumber` onwards) and their tier name by
- * spend rank, made unique against the carried names. Returns the segments and the retired ones.
+ * Keys and names of this run's segments. `continues[s]` is the earlier segment segment s
+ * continues (by the matching rule, ./carry-keys.ts), or null. A continuing segment keeps the
+ * earlier key and origin, and the earlier name where the analyst had renamed it; every other
+ * name is the default. New segments get fresh keys (`nextKeyNumber` onwards) in spend order and
+ * `originOfNew` ('first' in a run without a parent, else 'new'). Renames win over defaults when
+ * names clash; a clashing default gets a number.
  */
-export function carryNames(
-  parentSegments: readonly { index: number; key: string; name: string }[],
-  pairs: readonly { parent: number; child: number }[],
-  childMeanSpend: readonly number[],
+export function nameSegments(
+  defaults: readonly string[],
+  ranks: readonly number[],
+  continues: readonly (EarlierSegment | null)[],
   nextKeyNumber: number,
-): { segments: NamedSegment[]; retired: { key: string; name: string }[] } {
-  const ranks = spendRanks(childMeanSpend);
-  const k = childMeanSpend.length;
-  const parentByIndex = new Map(parentSegments.map((segment) => [segment.index, segment]));
-  const segments = new Array<NamedSegment>(k);
-  const matchedParents = new Set<number>();
-  for (const { parent, child } of pairs) {
-    const source = parentByIndex.get(parent);
-    if (!source) continue;
-    matchedParents.add(parent);
-    segments[child] = { index: child, key: source.key, name: source.name, spendRank: ranks[child], origin: 'matched' };
-  }
-  const taken = new Set(segments.filter(Boolean).map((segment) => segment.name));
+  originOfNew: 'first' | 'new',
+): NamedSegment[] {
+  const segments = new Array<NamedSegment>(defaults.length);
+  const renamedNames = new Set(continues.flatMap((earlier) => (earlier?.renamed ? [earlier.name] : [])));
+  const taken = new Set<string>(renamedNames);
+  const order = ranks.map((rank, index) => ({ rank, index })).sort((a, b) => a.rank - b.rank);
   let next = nextKeyNumber;
-  // New segments in spend order so their keys read in the same order as their tiers.
-  const unmatched = ranks.map((rank, index) => ({ rank, index })).filter(({ index }) => !segments[index]).sort((a, b) => a.rank - b.rank);
-  for (const { rank, index } of unmatched) {
-    const name = uniqueName(defaultTierName(rank, k), taken);
+  for (const { rank, index } of order) {
+    const earlier = continues[index];
+    const renamed = earlier?.renamed === true;
+    const name = renamed ? earlier!.name : uniqueName(defaults[index], taken);
     taken.add(name);
-    segments[index] = { index, key: segmentKey(next++), name, spendRank: rank, origin: 'new' };
+    segments[index] = {
+      index,
+      key: earlier ? earlier.key : segmentKey(next++),
+      name,
+      defaultName: defaults[index],
+      renamed,
+      spendRank: rank,
+      origin: earlier ? earlier.origin : originOfNew,
+    };
   }
-  const retired = parentSegments.filter((segment) => !matchedParents.has(segment.index)).map(({ key, name }) => ({ key, name }));
-  return { segments, retired };
+  return segments;
 }

@@ -9,7 +9,7 @@ import { transformValue, type FeatureTransform } from '../features/transforms.js
 import { modelFromJSON, type MixtureModel } from '../model/index.js';
 import { decodeFloat64 } from './blobs.js';
 import { segmentMoments, type SegmentMoments } from './movement.js';
-import type { ReviewAction } from '../api/contract.js';
+import type { ReviewAction, SegmentationMethod } from '../api/contract.js';
 
 export interface ParentDecision {
   customerId: string;
@@ -28,12 +28,15 @@ export interface ParentRun {
   features: string[];
   transforms: Record<string, FeatureTransform>;
   model: MixtureModel;
-  segments: { index: number; key: string; name: string; share: number }[];
-  /** Customer → model segment index (-1 when too new there). */
+  /** Its segments (index = segment index), each with its components. */
+  segments: { index: number; key: string; name: string; renamed: boolean; share: number; components: number[] }[];
+  /** Customer → segment index (-1 when too new there). */
   segmentOf: Map<string, number>;
   /** Members' moments per segment over the model features, in the parent's transformed space. */
   moments: SegmentMoments;
   decisions: ParentDecision[];
+  /** How its segmentation was chosen (a rescore keeps it). */
+  segmentation: { method: SegmentationMethod };
 }
 
 interface RunRow {
@@ -43,6 +46,13 @@ interface RunRow {
   stored_features: string;
   transforms: string;
   model: string;
+  method: SegmentationMethod | null;
+}
+
+/** The customer's segment key in the parent run, or null when not placed there (or without a parent). */
+export function previousKeyOf(parent: ParentRun | null, customerId: string): string | null {
+  const before = parent?.segmentOf.get(customerId);
+  return before === undefined || before < 0 ? null : (parent!.segments[before]?.key ?? null);
 }
 
 /** The latest run with an as-of date before `asOf` (ties: the newest run), or null. */
@@ -54,7 +64,9 @@ export function latestEarlierRunId(db: Database, asOf: string): number | null {
 }
 
 export function loadParentRun(db: Database, runId: number): ParentRun {
-  const row = db.prepare('SELECT run_id, as_of, features, stored_features, transforms, model FROM runs WHERE run_id = ?').get(runId) as
+  const row = db
+    .prepare("SELECT run_id, as_of, features, stored_features, transforms, model, json_extract(segmentation, '$.method') AS method FROM runs WHERE run_id = ?")
+    .get(runId) as
     | RunRow
     | undefined;
   if (!row) {
@@ -66,13 +78,17 @@ export function loadParentRun(db: Database, runId: number): ParentRun {
   const transforms = JSON.parse(row.transforms) as Record<string, FeatureTransform>;
   const model = modelFromJSON(JSON.parse(row.model));
   const segments = (
-    db.prepare('SELECT segment_index, segment_key, name, share FROM run_segments WHERE run_id = ? ORDER BY segment_index').all(runId) as {
-      segment_index: number;
-      segment_key: string;
-      name: string;
-      share: number;
-    }[]
-  ).map((segment) => ({ index: segment.segment_index, key: segment.segment_key, name: segment.name, share: segment.share }));
+    db
+      .prepare('SELECT segment_index, segment_key, name, renamed, share, components FROM run_segments WHERE run_id = ? ORDER BY segment_index')
+      .all(runId) as { segment_index: number; segment_key: string; name: string; renamed: number; share: number; components: string }[]
+  ).map((segment) => ({
+    index: segment.segment_index,
+    key: segment.segment_key,
+    name: segment.name,
+    renamed: segment.renamed === 1,
+    share: segment.share,
+    components: JSON.parse(segment.components) as number[],
+  }));
 
   const positions = features.map((feature) => storedFeatures.indexOf(feature));
   const segmentOf = new Map<string, number>();
@@ -91,7 +107,7 @@ export function loadParentRun(db: Database, runId: number): ParentRun {
   const moments = segmentMoments(
     columns.map((column) => Float64Array.from(column)),
     Int32Array.from(labels),
-    model.components,
+    segments.length,
   );
   const decisions = (
     db
@@ -116,5 +132,5 @@ export function loadParentRun(db: Database, runId: number): ParentRun {
     decidedAt: decision.decided_at,
     originRunId: decision.carried_from_run_id ?? runId,
   }));
-  return { runId, asOf: row.as_of, features, transforms, model, segments, segmentOf, moments, decisions };
+  return { runId, asOf: row.as_of, features, transforms, model, segments, segmentOf, moments, decisions, segmentation: { method: row.method ?? 'level' } };
 }

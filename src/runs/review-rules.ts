@@ -44,6 +44,19 @@ export function reviewValue(revenueEur: number, uncertainty: number): number {
   return Math.max(0, revenueEur) * uncertainty;
 }
 
+/**
+ * The capacity-limited queue: of the flagged customers (mask > 0), the `capacity` whose decision
+ * is worth most (ties: the smaller customer id first, as the queue lists them); 1 marks them.
+ */
+export function queueByValue(mask: Uint8Array, value: Float64Array, customerIds: readonly string[], capacity: number): Uint8Array {
+  const flagged: number[] = [];
+  for (let p = 0; p < mask.length; p++) if (mask[p] > 0) flagged.push(p);
+  flagged.sort((a, b) => value[b] - value[a] || (customerIds[a] < customerIds[b] ? -1 : customerIds[a] > customerIds[b] ? 1 : 0));
+  const queued = new Uint8Array(mask.length);
+  for (const p of flagged.slice(0, capacity)) queued[p] = 1;
+  return queued;
+}
+
 /** A mover worth a look: placed in a different segment (by key) than last month, and unsure now. */
 export function isLowConfidenceMover(previousKey: string | null, currentKey: string, confidence: number, threshold: number | null): boolean {
   return threshold !== null && previousKey !== null && previousKey !== currentKey && confidence < threshold;

@@ -1,8 +1,10 @@
 /**
- * A segmentation run end to end (DESIGN.md §4–§7): features → transforms → fit (or the parent's
- * model for a rescore) → memberships and flags → segment names (spend order, or carried from the
- * parent by matching) → profiles → movement → one transaction that stores it all. Everything is
- * computed before anything is written, so bad input or a cancel stores nothing.
+ * A segmentation run end to end (DESIGN.md §4–§7): features → transforms → a check of the feature
+ * set (constant or collinear features) → fit (or the parent's model for a rescore) → component
+ * posteriors → components combined into segments (the entropy criterion; ./combine.ts) → segment
+ * memberships, flags, names, profiles, movement and the review queue (./segmenting.ts) → one
+ * transaction that stores it all. Everything is computed before anything is written, so bad input
+ * or a cancel stores nothing.
  *
  * The settings arrive validated and explicit (src/api/contract/settings.ts holds their limits and
  * defaults; `explicitRunSettings` makes the data-dependent choices): nothing here defaults them.
@@ -11,20 +13,30 @@ import type { Database } from 'better-sqlite3';
 import type { ExplicitRunSettings, RunSummary, StoredRunSettings } from '../api/contract.js';
 import { InputError, throwIfAborted } from '../errors.js';
 import { checkAsOfInData, computeReceiptFeatures, loadImportedFeatures, type FeatureTable } from '../features/compute.js';
-import { fitTransform, transformValue, untransformValue, type FeatureTransform } from '../features/transforms.js';
+import { fitTransform, transformValue, type FeatureTransform } from '../features/transforms.js';
 import { featureWindow } from '../features/window.js';
-import { bayesianInformationCriterion, integratedCompletedLikelihood, parameterCount, matchComponents, scoreRows, type GaussianComponent, type DataMatrix, type MixtureModel } from '../model/index.js';
-import { computeFlags } from './flags.js';
+import {
+  bayesianInformationCriterion,
+  combineComponents,
+  integratedCompletedLikelihood,
+  parameterCount,
+  scoreRows,
+  type DataMatrix,
+  type MixtureModel,
+  type Segmentation,
+} from '../model/index.js';
+import { atypicalTerms, type StoredAtypicalTerm } from './atypical.js';
+import { chosenSegmentation, storedSegmentation } from './combine.js';
+import { checkFeatureSet } from './feature-check.js';
 import { fitForRun, type StoredSweepRow } from './fit.js';
-import { countMovement, driftWarnings, segmentMoments, type StoredMovement } from './movement.js';
-import { carryNames, keyNumber, nameFirstRun, type NamedSegment } from './naming.js';
-import { latestEarlierRunId, loadParentRun, type ParentRun } from './parent.js';
+import { keyNumber } from './naming.js';
+import { latestEarlierRunId, loadParentRun, previousKeyOf, type ParentRun } from './parent.js';
 import { persistRun, type CarriedDecision } from './persist.js';
 import { getRunSummary } from './read/run-detail.js';
 import { transformSpecOf } from './read/stored-run.js';
-import { segmentProfiles } from './profiles.js';
-import { carriesOver, isLowConfidenceMover, reviewMask } from './review-rules.js';
-import type { RunOptions, RunProgress } from './types.js';
+import { carriesOver } from './review-rules.js';
+import { segmentPlaced, type EarlierSegments, type PlacedCustomers } from './segmenting.js';
+import type { RunOptions, RunProgress, StoredSegmentation } from './types.js';
 
 /** Runs a segmentation and stores it; resolves to the `refresh --json` summary. */
 export async function runSegmentation(db: Database, input: ExplicitRunSettings, options: RunOptions = {}): Promise<RunSummary> {
@@ -60,10 +72,12 @@ export async function runSegmentation(db: Database, input: ExplicitRunSettings, 
   report('transform', 0, features.length, 'Transforming features');
   const transforms = fittedTransforms(settings, features, featureColumns, placedRows, parent);
   const data = transformedMatrix(features, transforms, featureColumns, placedRows);
+  // A rescore applies the parent's model as it is; a refit checks the feature set first.
+  const featureWarnings = settings.mode === 'rescore' ? [] : checkFeatureSet(data, features);
 
   let model: MixtureModel;
   let sweep: StoredSweepRow[] = [];
-  let warnings: string[] = [];
+  let warnings: string[] = [...featureWarnings];
   if (settings.mode === 'rescore') {
     model = parent!.model;
   } else {
@@ -71,57 +85,64 @@ export async function runSegmentation(db: Database, input: ExplicitRunSettings, 
     const fitted = await fitForRun(data, settings, { signal, onProgress: (fit) => report('fit', 0, 0, 'Fitting mixtures', { fit }) });
     model = fitted.model;
     sweep = fitted.sweep;
-    warnings = fitted.warnings;
+    warnings = [...featureWarnings, ...fitted.warnings];
   }
   throwIfAborted(signal);
 
   report('score', 0, placedRows.length, 'Scoring customers');
-  const memberships = scoreRows(model, data);
+  const scores = scoreRows(model, data);
   const k = model.components;
   let logLikelihood = 0;
   let sumLogTop = 0;
-  for (let i = 0; i < memberships.rows; i++) {
-    logLikelihood += memberships.logDensity[i];
-    sumLogTop += Math.log(memberships.confidence[i]);
+  for (let i = 0; i < scores.rows; i++) {
+    logLikelihood += scores.logDensity[i];
+    sumLogTop += Math.log(scores.confidence[i]);
   }
-  const bic = bayesianInformationCriterion(logLikelihood, parameterCount(k, model.dimensions, model.covarianceType), memberships.rows);
+  const bic = bayesianInformationCriterion(logLikelihood, parameterCount(k, model.dimensions, model.covarianceType), scores.rows);
   const icl = integratedCompletedLikelihood(bic, sumLogTop);
-  const flags = computeFlags(memberships.confidence, memberships.margin, memberships.logDensity, settings);
 
-  // Hard labels over every customer of the table (-1 = too new).
-  const labels = new Int32Array(table.customerIds.length).fill(-1);
-  placedRows.forEach((row, p) => (labels[row] = memberships.topSegment[p]));
-
-  report('profiles', 0, k, 'Naming segments and building profiles');
-  const meanSpend = meanSpendPerSegment(table, labels, k);
-  const { segments, retired } = nameSegments(db, settings, parent, model, transforms, features, data, memberships.topSegment, meanSpend);
-  const profiles = segmentProfiles(table.names, table.columns, table.revenueCents, labels, k);
+  report('combine', 0, 1, `Combining ${k} components into segments`);
+  const hierarchy = combineComponents(scores.posteriors, scores.rows, k);
+  const { segmentation, method } =
+    settings.mode === 'rescore' ? parentSegmentation(parent!, k) : chosenSegmentation(hierarchy, settings);
+  const stored: StoredSegmentation = storedSegmentation(hierarchy, segmentation, method);
   throwIfAborted(signal);
 
-  const keyOfIndex = segments.map((segment) => segment.key);
-  const keysInRun = new Set(keyOfIndex);
-  let movement: StoredMovement | null = null;
-  if (parent) {
-    report('movement', 0, 1, `Comparing with run ${parent.runId}`);
-    movement = movementAgainstParent(parent, table, labels, segments, profiles.map((p) => p.share), retired);
-  }
-
-  const review = new Uint8Array(placedRows.length);
-  const previousKeys: (string | null)[] = new Array(table.customerIds.length).fill(null);
-  if (parent) {
-    table.customerIds.forEach((customerId, i) => {
-      const before = parent.segmentOf.get(customerId);
-      if (before !== undefined && before >= 0) previousKeys[i] = parent.segments[before]?.key ?? null;
-    });
-  }
-  placedRows.forEach((row, p) => {
-    const mover = isLowConfidenceMover(previousKeys[row], keyOfIndex[labels[row]], memberships.confidence[p], settings.reviewMoversBelowConfidence);
-    review[p] = reviewMask(flags.borderline[p] === 1, flags.atypical[p] === 1, mover);
+  report('profiles', 0, segmentation.segments.length, 'Naming segments and building profiles');
+  const storedFeatures = [...features, ...table.names.filter((name) => !features.includes(name))];
+  const placed: PlacedCustomers = {
+    customerIds: placedRows.map((row) => table.customerIds[row]),
+    revenueCents: Float64Array.from(placedRows, (row) => table.revenueCents[row]),
+    features: storedFeatures,
+    columns: storedFeatures.map((name) => {
+      const column = table.columns[table.names.indexOf(name)];
+      return Float64Array.from(placedRows, (row) => column[row]);
+    }),
+    posteriors: scores.posteriors,
+    components: k,
+    logDensity: scores.logDensity,
+  };
+  const outcome = segmentPlaced({
+    placed,
+    notPlaced: table.customerIds.filter((_, i) => table.tooNew[i]),
+    segmentation,
+    requireMembers: settings.mode !== 'rescore' && method !== 'auto',
+    modelFeatures: features,
+    thresholds: settings,
+    reviewMoversBelowConfidence: settings.reviewMoversBelowConfidence,
+    reviewCapacity: settings.reviewCapacity,
+    earlier: earlierSegments(settings, parent),
+    parent,
+    nextKeyNumber: nextKeyNumber(db),
   });
+  if (parent) report('movement', 1, 1, `Compared with run ${parent.runId}`);
+  const atypicalReasons = atypicalReasonsOf(placed, features, outcome.flags.atypical, outcome.sortedByFeature);
+  throwIfAborted(signal);
 
+  const keysInRun = new Set(outcome.segments.map((segment) => segment.key));
   const carried: CarriedDecision[] = [];
   if (parent) {
-    const placedIds = new Set(placedRows.map((row) => table.customerIds[row]));
+    const placedIds = new Set(placed.customerIds);
     for (const decision of parent.decisions) {
       if (placedIds.has(decision.customerId) && carriesOver(decision, keysInRun)) carried.push(decision);
     }
@@ -129,13 +150,16 @@ export async function runSegmentation(db: Database, input: ExplicitRunSettings, 
 
   throwIfAborted(signal);
   report('store', 0, table.customerIds.length, 'Storing the run');
-  const stored: StoredRunSettings = {
+  const storedSettings: StoredRunSettings = {
     ...settings,
     source: table.source,
     features: features.map((feature) => transformSpecOf(feature, transforms[feature])),
+    // What repeats the month exactly: the grouping itself after hand edits, the count otherwise.
+    segmentCount: method === 'auto' ? 'auto' : segmentation.segments.length,
+    segmentation: method === 'hand' ? segmentation.segments.map((group) => [...group]) : null,
   };
   const runId = persistRun(db, {
-    settings: stored,
+    settings: storedSettings,
     features,
     transforms,
     table,
@@ -146,20 +170,47 @@ export async function runSegmentation(db: Database, input: ExplicitRunSettings, 
     bic,
     icl,
     placedRows,
-    memberships,
-    flags,
-    review,
-    previousKeys,
-    segments,
-    profiles,
-    retired,
-    movement,
+    scores,
+    outcome,
+    segmentation: stored,
+    previousKeys: table.customerIds.map((customerId) => previousKeyOf(parent, customerId)),
+    atypicalReasons,
     warnings,
     carried,
     onProgress: (done) => report('store', done, table.customerIds.length, 'Storing the run'),
   });
-
   return getRunSummary(db, runId);
+}
+
+/** A rescore keeps the parent's grouping of its components (the same model) and how it was chosen. */
+function parentSegmentation(parent: ParentRun, components: number): { segmentation: Segmentation; method: StoredSegmentation['method'] } {
+  return { segmentation: { components, segments: parent.segments.map((segment) => [...segment.components]) }, method: parent.segmentation.method };
+}
+
+/** Which earlier segments the new ones may continue: the parent's own (rescore), by shared customers (refit), none (first run). */
+function earlierSegments(settings: RunningSettings, parent: ParentRun | null): EarlierSegments {
+  if (!parent) return null;
+  const segments = parent.segments.map(({ index, key, name, renamed }) => ({ index, key, name, renamed, origin: 'matched' as const }));
+  return settings.mode === 'rescore' ? { kind: 'same', segments } : { kind: 'members', segments, segmentOf: parent.segmentOf };
+}
+
+/** The number after every segment key used so far in the database, so a new segment's key is never one used before. */
+export function nextKeyNumber(db: Database): number {
+  const usedKeys = db.prepare('SELECT segment_key FROM run_segments').pluck().all() as string[];
+  return 1 + Math.max(0, ...usedKeys.map(keyNumber));
+}
+
+/** The features an atypical customer's reason may name: the model's, and spend per month for the money it means. */
+function atypicalReasonsOf(
+  placed: PlacedCustomers,
+  modelFeatures: readonly string[],
+  atypical: Uint8Array,
+  sortedByFeature: ReadonlyMap<string, Float64Array>,
+): (StoredAtypicalTerm[] | null)[] {
+  const candidates = [...new Set([...modelFeatures, 'spend_per_month'])].filter((feature) => placed.features.includes(feature));
+  const sorted = candidates.map((feature) => ({ feature, sorted: sortedByFeature.get(feature)! }));
+  const columns = candidates.map((feature) => placed.columns[placed.features.indexOf(feature)]);
+  return Array.from(atypical, (flag, p) => (flag ? atypicalTerms(columns.map((column) => column[p]), sorted) : null));
 }
 
 type RunningSettings = ExplicitRunSettings & { parentRunId: number | null };
@@ -219,138 +270,3 @@ function transformedMatrix(
   return { values, rows: rows.length, cols: d, columnNames: features };
 }
 
-/** Mean spend per month of each segment's members (net window spend when spend is not a feature). */
-function meanSpendPerSegment(table: FeatureTable, labels: Int32Array, k: number): number[] {
-  const spendColumn = table.names.indexOf('spend_per_month');
-  const spend = spendColumn >= 0 ? table.columns[spendColumn] : table.revenueCents;
-  const sums = new Array<number>(k).fill(0);
-  const counts = new Array<number>(k).fill(0);
-  for (let i = 0; i < labels.length; i++) {
-    if (labels[i] < 0 || Number.isNaN(spend[i])) continue;
-    sums[labels[i]] += spend[i];
-    counts[labels[i]]++;
-  }
-  return sums.map((sum, s) => (counts[s] > 0 ? sum / counts[s] : NaN));
-}
-
-/** Keys and names: the parent's for a rescore, carried by matching in a refit, spend order otherwise. */
-function nameSegments(
-  db: Database,
-  settings: RunningSettings,
-  parent: ParentRun | null,
-  model: MixtureModel,
-  transforms: Record<string, FeatureTransform>,
-  features: readonly string[],
-  data: DataMatrix,
-  topSegment: Int32Array,
-  meanSpend: number[],
-): { segments: NamedSegment[]; retired: { key: string; name: string }[] } {
-  if (!parent) return { segments: nameFirstRun(meanSpend), retired: [] };
-  if (settings.mode === 'rescore') {
-    const fresh = nameFirstRun(meanSpend);
-    return {
-      segments: parent.segments.map((segment) => ({ ...segment, spendRank: fresh[segment.index].spendRank, origin: 'matched' as const })),
-      retired: [],
-    };
-  }
-  const parentComponents = componentsOf(parent.model);
-  const childComponents = childInParentSpace(model, transforms, features, data, topSegment, parent);
-  const matching = matchComponents(parentComponents, childComponents);
-  const usedKeys = db.prepare('SELECT segment_key FROM run_segments').pluck().all() as string[];
-  const nextKey = 1 + Math.max(0, ...usedKeys.map(keyNumber));
-  return carryNames(parent.segments, matching.pairs, meanSpend, nextKey);
-}
-
-function componentsOf(model: MixtureModel): GaussianComponent[] {
-  const { components: k, dimensions: d } = model;
-  return Array.from({ length: k }, (_, c) => ({
-    mean: model.means.slice(c * d, (c + 1) * d),
-    covariance: model.covariances.slice(c * d * d, (c + 1) * d * d),
-  }));
-}
-
-/**
- * The new model's components expressed in the parent's transformed space. With the same features
- * and log choices the map between the two z-scored spaces is affine per feature
- * (x_parent = a x_child + b), so means and covariances map exactly (clipping only bounds the
- * tails). Otherwise the components are the new segments' members' means and variances computed
- * after the parent's transforms.
- */
-function childInParentSpace(
-  model: MixtureModel,
-  transforms: Record<string, FeatureTransform>,
-  features: readonly string[],
-  data: DataMatrix,
-  topSegment: Int32Array,
-  parent: ParentRun,
-): GaussianComponent[] {
-  const sameSpace =
-    features.length === parent.features.length &&
-    features.every((name, j) => name === parent.features[j] && transforms[name].log1p === parent.transforms[name].log1p);
-  const d = parent.features.length;
-  if (sameSpace) {
-    const scale = features.map((name) => transforms[name].fitted!.standardDeviation / parent.transforms[name].fitted!.standardDeviation);
-    const shift = features.map(
-      (name) => (transforms[name].fitted!.mean - parent.transforms[name].fitted!.mean) / parent.transforms[name].fitted!.standardDeviation,
-    );
-    return componentsOf(model).map(({ mean, covariance }) => ({
-      mean: Float64Array.from(mean, (value, j) => scale[j] * value + shift[j]),
-      covariance: Float64Array.from(covariance, (value, index) => scale[Math.floor(index / d)] * scale[index % d] * value),
-    }));
-  }
-  // Back to original units per feature, then into the parent's space.
-  const columns = parent.features.map((name) => {
-    const j = features.indexOf(name);
-    return Float64Array.from({ length: data.rows }, (_, i) => {
-      const original = j >= 0 ? untransformValue(transforms[name], data.values[i * data.cols + j]) : NaN;
-      return transformValue(name, parent.transforms[name], original);
-    });
-  });
-  const moments = segmentMoments(columns, topSegment, model.components);
-  return moments.means.map((mean, c) => {
-    const covariance = new Float64Array(d * d);
-    for (let j = 0; j < d; j++) covariance[j * d + j] = Math.max(moments.standardDeviations[c][j] ** 2, 1e-6) || 1;
-    return { mean: Float64Array.from(mean, (value) => (Number.isFinite(value) ? value : 0)), covariance };
-  });
-}
-
-function movementAgainstParent(
-  parent: ParentRun,
-  table: FeatureTable,
-  labels: Int32Array,
-  segments: readonly NamedSegment[],
-  shares: readonly number[],
-  retired: { key: string; name: string }[],
-): StoredMovement {
-  const current = new Map<string, number>();
-  table.customerIds.forEach((customerId, i) => current.set(customerId, labels[i]));
-  const counted = countMovement(parent.segmentOf, current, parent.model.components, segments.length);
-  // Current members' means in the parent's transformed space, against the parent members' spread.
-  const columns = parent.features.map((name) => {
-    const values = table.columns[table.names.indexOf(name)];
-    return Float64Array.from(values, (value, i) => (labels[i] >= 0 ? transformValue(name, parent.transforms[name], value) : NaN));
-  });
-  const now = segmentMoments(columns, labels, segments.length);
-  const warnings = driftWarnings(
-    parent.features,
-    parent.segments.map((segment) => ({
-      ...segment,
-      means: parent.moments.means[segment.index],
-      standardDeviations: parent.moments.standardDeviations[segment.index],
-    })),
-    segments.map((segment) => ({ key: segment.key, name: segment.name, share: shares[segment.index], means: now.means[segment.index] })),
-  );
-  return {
-    parentRunId: parent.runId,
-    parentSegments: parent.segments.map(({ index, key, name }) => ({ index, key, name })),
-    currentSegments: segments.map(({ index, key, name }) => ({ index, key, name })),
-    counts: counted.counts,
-    common: counted.common,
-    entered: counted.entered,
-    left: counted.left,
-    adjustedRandIndex: counted.adjustedRandIndex,
-    warnings,
-    retired,
-    added: segments.filter((segment) => segment.origin === 'new').map(({ key, name }) => ({ key, name })),
-  };
-}

@@ -13,7 +13,7 @@ import type { FitProgress } from '../model/index.js';
 
 /** Progress of a run: its phase and, during fitting, the engine's own report. */
 export interface RunProgress {
-  phase: 'features' | 'transform' | 'fit' | 'score' | 'profiles' | 'movement' | 'store';
+  phase: 'features' | 'transform' | 'fit' | 'score' | 'combine' | 'profiles' | 'movement' | 'store';
   /** Units done and total in this phase (0/0 when not countable). */
   done: number;
   total: number;

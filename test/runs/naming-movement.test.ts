@@ -1,35 +1,95 @@
 import { describe, expect, it } from 'vitest';
-import { carryNames, defaultTierName, nameFirstRun, spendRanks, uniqueName } from '../../src/runs/naming.js';
+import { defaultNames, nameSegments, segmentTraits, spendRanks, traitWords, uniqueName } from '../../src/runs/naming.js';
+import { continuations } from '../../src/runs/carry-keys.js';
 import { countMovement, driftWarnings, segmentMoments } from '../../src/runs/movement.js';
 import { carriesOver, finalSegmentKey, isLowConfidenceMover, reviewMask, reviewReasons } from '../../src/runs/review-rules.js';
 import { computeFlags } from '../../src/runs/flags.js';
 
-describe('segment names in spend order', () => {
+/** Ten placed customers' values of the three name traits (sorted), 0.5 … 9.5 apart so percentiles are tenths. */
+const sorted = new Map(
+  ['visits_per_month', 'average_basket', 'days_since_last_visit'].map((feature) => [feature, Float64Array.from({ length: 10 }, (_, i) => i + 1)]),
+);
+
+describe('segment names from measured traits', () => {
   it('ranks by mean spend, empty segments last', () => {
     expect(spendRanks([50, 300, NaN, 120])).toEqual([3, 1, 4, 2]);
-    expect(nameFirstRun([50, 300, 120]).map((s) => [s.key, s.name])).toEqual([
-      ['S3', 'Tier 3 — lowest spend'],
-      ['S1', 'Tier 1 — highest spend'],
-      ['S2', 'Tier 2'],
-    ]);
-    expect(defaultTierName(1, 1)).toBe('Tier 1 — all customers');
   });
 
-  it('carries matched names, names new segments uniquely, reports retired ones', () => {
-    const parent = [
-      { index: 0, key: 'S1', name: 'Big baskets' },
-      { index: 1, key: 'S2', name: 'Tier 2' },
-      { index: 2, key: 'S3', name: 'Tier 3 — lowest spend' },
-    ];
-    // Child 0 ↔ parent 2, child 2 ↔ parent 1, child 1 new; parent 0 retired. Child spend: 10, 500, 80.
-    const { segments, retired } = carryNames(parent, [{ parent: 2, child: 0 }, { parent: 1, child: 2 }], [10, 500, 80], 4);
-    expect(segments.map((s) => [s.key, s.name, s.origin, s.spendRank])).toEqual([
-      ['S3', 'Tier 3 — lowest spend', 'matched', 3],
-      ['S4', 'Tier 1 — highest spend', 'new', 1],
-      ['S2', 'Tier 2', 'matched', 2],
+  it('places each trait median among all customers and says it in five bands, in the order how often · per trip · how recently', () => {
+    // Medians 9.5 (9 of 10 below → 0.9), 2.5 (0.2), 1 (0.0); fresh share is not stored here, so it is left out.
+    const traits = segmentTraits(
+      { days_since_last_visit: 1, average_basket: 2.5, visits_per_month: 9.5, fresh_share: 0.3 },
+      sorted,
+      ['days_since_last_visit', 'fresh_share', 'average_basket', 'visits_per_month'],
+    );
+    expect(traits.map((t) => [t.feature, t.percentile, t.words])).toEqual([
+      ['visits_per_month', 0.9, 'very frequent'],
+      ['average_basket', 0.2, 'small baskets'],
+      ['days_since_last_visit', 0, 'very recent'],
     ]);
-    expect(retired).toEqual([{ key: 'S1', name: 'Big baskets' }]);
-    expect(uniqueName('Tier 2', new Set(['Tier 2', 'Tier 2 (new)']))).toBe('Tier 2 (new 2)');
+    expect(traits[0].label).toBe('visit rate');
+    expect(traitWords('average_basket', 0.79)).toBe('large baskets');
+    expect(traitWords('spend_per_month', 0.1)).toBe('very low spend');
+    const names = defaultNames([traits], [1]);
+    expect(names).toEqual(['Very frequent · small baskets · very recent']);
+    // No word of a named customer scheme, only restated measurements.
+    expect(names[0]).not.toMatch(/champion|loyal|risk|hibernat|tier/i);
+  });
+
+  it('makes clashing names unique by the next trait, then by spend rank', () => {
+    const candidates = ['visits_per_month', 'average_basket', 'days_since_last_visit', 'spend_per_month'];
+    const withSpend = new Map([...sorted, ['spend_per_month', Float64Array.from({ length: 10 }, (_, i) => 10 * (i + 1))]]);
+    const a = segmentTraits({ visits_per_month: 9.5, average_basket: 9.5, days_since_last_visit: 1, spend_per_month: 95 }, withSpend, candidates);
+    const b = segmentTraits({ visits_per_month: 9.5, average_basket: 9.5, days_since_last_visit: 1, spend_per_month: 45 }, withSpend, candidates);
+    const c = segmentTraits({ visits_per_month: 9.5, average_basket: 9.5, days_since_last_visit: 1, spend_per_month: 47 }, withSpend, candidates);
+    expect(defaultNames([a, b], [1, 2])).toEqual([
+      'Very frequent · very large baskets · very recent · very high spend',
+      'Very frequent · very large baskets · very recent · mid spend',
+    ]);
+    // b and c agree on every trait: the spend rank tells them apart; a differs by its spend word.
+    expect(defaultNames([a, b, c], [1, 3, 2])).toEqual([
+      'Very frequent · very large baskets · very recent · very high spend',
+      'Very frequent · very large baskets · very recent · mid spend · spend rank 3',
+      'Very frequent · very large baskets · very recent · mid spend · spend rank 2',
+    ]);
+    expect(defaultNames([[]], [4])).toEqual(['Spend rank 4']);
+  });
+
+  it('keys: continuing segments keep key, origin and renames; new ones get fresh keys in spend order', () => {
+    const continues = [
+      { key: 'S2', name: 'Weekend regulars', renamed: true, origin: 'matched' as const },
+      null,
+      { key: 'S1', name: 'Old default', renamed: false, origin: 'matched' as const },
+      null,
+    ];
+    const named = nameSegments(['Rare · small baskets', 'Frequent · large baskets', 'Regular', 'Weekend regulars'], [3, 1, 2, 4], continues, 7, 'new');
+    expect(named.map((s) => [s.key, s.name, s.defaultName, s.renamed, s.origin, s.spendRank])).toEqual([
+      ['S2', 'Weekend regulars', 'Rare · small baskets', true, 'matched', 3],
+      ['S7', 'Frequent · large baskets', 'Frequent · large baskets', false, 'new', 1],
+      // Not renamed: the new default replaces the old one.
+      ['S1', 'Regular', 'Regular', false, 'matched', 2],
+      // A default that clashes with a kept rename gets a number.
+      ['S8', 'Weekend regulars (2)', 'Weekend regulars', false, 'new', 4],
+    ]);
+    expect(uniqueName('Regular', new Set(['Regular', 'Regular (2)']))).toBe('Regular (3)');
+    const first = nameSegments(['A', 'B'], [2, 1], [null, null], 1, 'first');
+    expect(first.map((s) => [s.key, s.origin])).toEqual([['S2', 'first'], ['S1', 'first']]);
+  });
+
+  it('continuation: Hungarian pairing on shared customers, a pair counts only with half of either side', () => {
+    // Best assignment (unique): earlier 0 ↔ current 1 (90), earlier 1 ↔ current 0 (30), earlier 2 ↔ current 2 (10) = 130.
+    // Earlier 1 → current 0: 30 of its 55 (over half) continues; earlier 2 → current 2: 10 of its 100 and 10 of
+    // current 2's 40: under half of both, so current 2 is new and earlier 2 retired.
+    const counts = [
+      [5, 90, 5],
+      [30, 0, 25],
+      [10, 80, 10],
+    ];
+    expect(continuations(counts, 3)).toEqual([1, 0, null]);
+    // Earlier 0 spreads evenly: its best pair (current 0, 20 customers) is a third of it and 20 of current 0's 70.
+    expect(continuations([[20, 20, 20], [25, 40, 0], [25, 0, 40]], 3)).toEqual([null, 1, 2]);
+    // More current segments than earlier ones: the extra one is new.
+    expect(continuations([[10, 0], [0, 1]], 3)).toEqual([0, 1, null]);
   });
 });
 

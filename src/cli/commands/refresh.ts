@@ -5,6 +5,7 @@ import { startRunInput, type RunSummary, type StartRunInput } from '../../api/co
 import { InputError } from '../../errors.js';
 import { requireExistingDatabase, withApi } from '../api-client.js';
 import { runCommand, type RegisterCommand } from '../run-command.js';
+import { describeQueueCounts, segmentationWords } from '../segment-words.js';
 import { addSchemaOptions, componentGroups, inputFromFlags, numberOrText, schemaOptions } from '../schema-options.js';
 
 interface RefreshCliOptions {
@@ -28,9 +29,6 @@ const settingFlags = schemaOptions(startRunInput.shape, ['features', 'segmentati
 const percent = (share: number) => `${(share * 100).toFixed(1)}%`;
 
 export function describeRun(summary: RunSummary): string {
-  const { review } = summary;
-  const leftOut = review.leftOut;
-  const reasons = [`borderline ${leftOut.borderline}`, `atypical ${leftOut.atypical}`, ...(leftOut.mover > 0 ? [`movers ${leftOut.mover}`] : [])].join(', ');
   return [
     `Run ${summary.runId}${summary.parentRunId !== null ? ` (parent ${summary.parentRunId})` : ''}: k = ${summary.k} ${summary.covariance} components ` +
       `combined into ${summary.segmentCount} segment${summary.segmentCount === 1 ? '' : 's'} (${segmentationWords[summary.segmentation]}), BIC ${summary.bic.toFixed(1)}`,
@@ -38,18 +36,12 @@ export function describeRun(summary: RunSummary): string {
     ...summary.segments.map(
       (segment) => `  ${segment.name}: ${segment.customers} customers (${percent(segment.share)}), ${percent(segment.revenueShare)} of revenue`,
     ),
-    `  review: ${review.queued} queued (capacity ${review.capacity}) of ${review.flagged} flagged` +
-      (leftOut.customers > 0 ? `; ${leftOut.customers} counted, not queued (${reasons})` : ''),
+    `  review ${describeQueueCounts(summary.review)}`,
     ...summary.warnings.map((warning) => `  warning: ${warning}`),
     `  stability against the parent (adjusted Rand index): ${summary.stability === null ? 'n/a (first run)' : summary.stability.toFixed(3)}`,
   ].join('\n');
 }
 
-const segmentationWords: Record<RunSummary['segmentation'], string> = {
-  auto: 'the entropy change point',
-  level: 'a chosen number of segments',
-  hand: 'merged and split by hand',
-};
 
 /** A run's settings from a JSON file (as `runs --settings-out` writes them): an object, or a clear refusal naming the file. */
 function readSettingsFile(path: string): Record<string, unknown> {
