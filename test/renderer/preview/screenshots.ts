@@ -58,6 +58,14 @@ for (const screen of screens) {
   const file = join(outDir, `${screen.id}.png`);
   await page.screenshot({ path: file, fullPage: true });
   console.log(`saved ${file}`);
+  if (screen.id === 'review') {
+    // The next queued customer is only atypical: the detail gives the extreme features instead of the borderline sentence.
+    await page.keyboard.press('j');
+    await page.waitForSelector('[data-testid="review-atypical-why"]', { timeout: 10_000 });
+    const atypical = join(outDir, 'review-atypical.png');
+    await page.screenshot({ path: atypical, fullPage: true });
+    console.log(`saved ${atypical}`);
+  }
 }
 
 // The Export screen once more with the CSV choices open (dialect, raw ids and its warning).
