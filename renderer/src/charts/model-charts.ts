@@ -69,7 +69,7 @@ export function criterionOption(rows: SweepRow[], criterion: 'bic' | 'icl', form
         `${params.seriesName}, k = ${params.value[0]}: ${criterion.toUpperCase()} ${params.value[1] === null ? '—' : format.decimal(params.value[1], 1)}` +
         (params.data.refused ? `<br>refused: ${escapeHtml(params.data.refused)}` : ''),
     },
-    xAxis: valueAxis('number of segments k', { minInterval: 1, scale: false, min: 'dataMin', max: 'dataMax' }),
+    xAxis: valueAxis('number of components k', { minInterval: 1, scale: false, min: 'dataMin', max: 'dataMax' }),
     yAxis: valueAxis(`${criterion.toUpperCase()} (lower is better)`, {
       nameGap: 70,
       axisLabel: { color: ui.inkSoft, formatter: (v: number) => format.count(v) },
