@@ -34,6 +34,8 @@ const scopeLabel: Record<ReviewScope, string> = {
 const actionLabel: Record<ReviewAction, string> = { keep: 'kept', move: 'moved', exclude: 'excluded' };
 
 const reasonsText = (item: ReviewItem) => item.reasons.map((reason) => reasonLabel[reason]).join(', ');
+/** The table's narrow column: the reasons' short names (the detail gives them in full). */
+const reasonsShort = (item: ReviewItem) => item.reasons.join(', ');
 
 /** "kept", "moved → Tier 2", "excluded", with the note when there is one. */
 function decisionText(decision: ReviewItem['decision']): string {
@@ -142,7 +144,7 @@ function ReviewView({ runId }: { runId: number }) {
   const columns: Column<ReviewItem>[] = [
     { key: 'state', header: '', width: '1.2rem', render: (row) => (row.decision ? <span className="done-mark" aria-label="done">✓</span> : null) },
     { key: 'id', header: 'customer', width: '6.5rem', render: (row) => <code>{row.customerId}</code> },
-    { key: 'reason', header: 'reason', width: 'minmax(7rem, 1fr)', render: (row) => reasonsText(row) },
+    { key: 'reason', header: 'reason', width: 'minmax(7rem, 1fr)', render: (row) => <span title={reasonsText(row)}>{reasonsShort(row)}</span> },
     { key: 'stake', header: 'at stake', width: '5.5rem', align: 'right', render: (row) => format.euros(row.revenue) },
     { key: 'worth', header: 'worth', width: '5.5rem', align: 'right', render: (row) => format.eurosPrecise(row.value) },
     { key: 'top', header: 'model says', width: 'minmax(8rem, 1.2fr)', render: (row) => <SegmentChip segment={byIndex.get(row.segment ?? -1)} fallback={row.segmentName ?? '—'} /> },
