@@ -14,6 +14,7 @@ export function renameSegment(db: Database, input: RenameSegmentInput): SegmentP
   const target = segments.find(input.segment);
   const clash = segments.list.find((segment) => segment.name === name && segment.index !== target.index);
   if (clash) throw new InputError(`Run ${runId} already has a segment named "${name}" (segment ${clash.index}); pick another name.`);
-  db.prepare('UPDATE run_segments SET name = ? WHERE run_id = ? AND segment_index = ?').run(name, runId, target.index);
+  // The name is the analyst's own (and carries over by key) unless it is the trait-built default again.
+  db.prepare('UPDATE run_segments SET name = ?, renamed = (? <> default_name) WHERE run_id = ? AND segment_index = ?').run(name, name, runId, target.index);
   return segmentProfile(db, runId, target.index);
 }

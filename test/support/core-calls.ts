@@ -6,9 +6,11 @@
 import type { z } from 'zod';
 import { parseInput } from '../../src/api/api-errors.js';
 import {
+  acceptUnqueuedInput,
   borderlineInput,
   decideReviewInput,
   membershipsPageInput,
+  regroupSegmentsInput,
   renameSegmentInput,
   reviewQueueInput,
   startRunInput,
@@ -20,7 +22,8 @@ import { borderlinePage } from '../../src/runs/read/borderline.js';
 import { membershipsPage } from '../../src/runs/read/memberships.js';
 import { reviewQueuePage } from '../../src/runs/read/review-queue.js';
 import { renameSegment } from '../../src/runs/rename-segment.js';
-import { decideReview } from '../../src/runs/review-decisions.js';
+import { acceptUnqueued, decideReview } from '../../src/runs/review-decisions.js';
+import { regroupSegments } from '../../src/runs/regroup.js';
 import { runSegmentation } from '../../src/runs/run.js';
 import type { RunOptions } from '../../src/runs/types.js';
 import type { Database } from '../../src/store/database.js';
@@ -54,3 +57,6 @@ export function wholeQueue(db: Database, runId: number) {
     if (rows.length >= page.total || page.rows.length === 0) return rows;
   }
 }
+
+export const regroup = (db: Database, input: z.input<typeof regroupSegmentsInput>) => regroupSegments(db, parseInput('regroupSegments', regroupSegmentsInput, input));
+export const acceptRest = (db: Database, input: z.input<typeof acceptUnqueuedInput>) => acceptUnqueued(db, parseInput('acceptUnqueued', acceptUnqueuedInput, input));
