@@ -108,7 +108,16 @@ function ModelView({ options, previous, asOf, task, onRegrouped }: ModelViewProp
             </div>
           ) : null}
           <SweepPanel runId={runId} criterion={previous?.criterion ?? 'bic'} />
-          {runId !== null ? <CombiningPanel runId={runId} onRegrouped={onRegrouped} /> : null}
+          {runId !== null ? (
+            <CombiningPanel
+              runId={runId}
+              onRegrouped={() => {
+                // The fit's outcome no longer describes the run's segments; the regroup says what it changed.
+                if (task.view.state === 'done') task.dismiss();
+                onRegrouped();
+              }}
+            />
+          ) : null}
         </div>
       </div>
     </section>
