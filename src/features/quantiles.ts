@@ -27,3 +27,15 @@ export function quantileOfSorted(sorted: ArrayLike<number>, p: number): number {
 export function quantile(values: ArrayLike<number>, p: number): number {
   return quantileOfSorted(sortedFinite(values), p);
 }
+
+/** How many values of an ascending array lie strictly below x (binary search). */
+export function countBelowSorted(sorted: ArrayLike<number>, x: number): number {
+  let low = 0;
+  let high = sorted.length;
+  while (low < high) {
+    const middle = (low + high) >>> 1;
+    if (sorted[middle] < x) low = middle + 1;
+    else high = middle;
+  }
+  return low;
+}

@@ -13,7 +13,7 @@ export * from './types.js';
 export { parameterCount, bayesianInformationCriterion, akaikeInformationCriterion, integratedCompletedLikelihood } from './criteria.js';
 export { modelToJSON, modelFromJSON } from './serialize.js';
 export { fitMixture, sweepRowOf } from './em.js';
-export { scoreRows, imputeMissing } from './score.js';
+export { scoreRows, imputeMissing, topTwo } from './score.js';
 export { componentLogDensity, marginalLogDensity } from './gaussian.js';
 export { RELATIVE_VARIANCE_FLOOR } from './validity.js';
 export { AGGLOMERATION_SAMPLE } from './agglomeration.js';

@@ -7,6 +7,7 @@
  */
 import type { AtypicalTerm, AtypicalWhy } from '../api/contract.js';
 import { featureLabel, featureUnit, featureValueWords } from '../features/definitions.js';
+import { countBelowSorted } from '../features/quantiles.js';
 
 /** A share beyond this is extreme on its own (the 2.5 % tails on each side). */
 export const EXTREME_SHARE = 0.975;
@@ -21,18 +22,6 @@ export type StoredAtypicalTerm = Omit<AtypicalTerm, 'label' | 'unit'>;
 export interface SortedFeature {
   feature: string;
   sorted: Float64Array;
-}
-
-/** Values strictly below x in an ascending array (binary search). */
-function countBelow(sorted: Float64Array, x: number): number {
-  let low = 0;
-  let high = sorted.length;
-  while (low < high) {
-    const middle = (low + high) >>> 1;
-    if (sorted[middle] < x) low = middle + 1;
-    else high = middle;
-  }
-  return low;
 }
 
 /** Values strictly above x. */
@@ -57,7 +46,7 @@ export function atypicalTerms(values: readonly number[], features: readonly Sort
   features.forEach(({ feature, sorted }, j) => {
     const value = values[j];
     if (!Number.isFinite(value) || sorted.length === 0) return;
-    const above = countBelow(sorted, value) / sorted.length;
+    const above = countBelowSorted(sorted, value) / sorted.length;
     const below = countAbove(sorted, value) / sorted.length;
     const direction = above >= below ? 'above' : 'below';
     const share = Math.max(above, below);

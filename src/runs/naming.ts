@@ -12,6 +12,7 @@
  */
 import type { SegmentTrait } from '../api/contract.js';
 import { featureLabel, featureUnit } from '../features/definitions.js';
+import { countBelowSorted } from '../features/quantiles.js';
 
 export interface NamedSegment {
   /** Segment index in this run. */
@@ -76,14 +77,7 @@ export function traitWords(feature: string, percentile: number): string {
 
 /** Share of the sorted values strictly below x (NaN for an empty list). */
 function shareBelow(sorted: Float64Array, x: number): number {
-  let low = 0;
-  let high = sorted.length;
-  while (low < high) {
-    const middle = (low + high) >>> 1;
-    if (sorted[middle] < x) low = middle + 1;
-    else high = middle;
-  }
-  return sorted.length === 0 ? NaN : low / sorted.length;
+  return sorted.length === 0 ? NaN : countBelowSorted(sorted, x) / sorted.length;
 }
 
 /**

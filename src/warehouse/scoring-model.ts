@@ -12,8 +12,7 @@ import { modelFromJSON, type MixtureModel } from '../model/index.js';
 
 /**
  * The component → segment map: `ofComponent[c]` is the segment index of mixture component c, and
- * `names[s]` the name of segment s. Runs store one segment per component today; a run that
- * combines components into segments supplies the combination here and nothing else changes.
+ * `names[s]` the name of segment s, as the run's segment rows store them.
  */
 export interface ComponentSegments {
   names: string[];
@@ -110,7 +109,7 @@ function parseJson<T>(runId: number, what: string, text: string | null): T {
   }
 }
 
-/** The scoring model of a stored run (segments: one per component, as runs store them today). */
+/** The scoring model of a stored run, with its segments as the run combines its components. */
 export function readScoringModel(db: Database, runId: number): ScoringModel {
   const row = db
     .prepare('SELECT features, transforms, model, settings, atypical_log_density_below FROM runs WHERE run_id = ?')
@@ -131,17 +130,34 @@ export function readScoringModel(db: Database, runId: number): ScoringModel {
   const transforms = parseJson<Record<string, FeatureTransform>>(runId, 'transforms', row.transforms);
   const settings = parseJson<{ borderlineConfidence?: number; borderlineMargin?: number }>(runId, 'settings', row.settings);
   if (!Array.isArray(features) || features.some((name) => typeof name !== 'string')) refuse(runId, 'its feature list is not a list of names.');
-  const names = db.prepare('SELECT segment_index, name FROM run_segments WHERE run_id = ? ORDER BY segment_index').all(runId) as {
+  const stored = db.prepare('SELECT segment_index, name, components FROM run_segments WHERE run_id = ? ORDER BY segment_index').all(runId) as {
     segment_index: number;
     name: string;
+    components: string;
   }[];
-  const byComponent = Array.from({ length: model.components }, (_, c) => names.find((segment) => segment.segment_index === c)?.name ?? '');
+  // The run's segmentation: each segment row lists its components; a component no segment lists keeps −1 and is refused by the check.
+  const ofComponent = new Array<number>(model.components).fill(-1);
+  for (const segment of stored) {
+    let components: unknown;
+    try {
+      components = JSON.parse(segment.components);
+    } catch {
+      refuse(runId, `segment ${segment.segment_index + 1} has no readable list of components.`);
+    }
+    if (!Array.isArray(components)) refuse(runId, `segment ${segment.segment_index + 1} has no list of components.`);
+    for (const c of components as unknown[]) {
+      if (!Number.isInteger(c) || (c as number) < 0 || (c as number) >= model.components) refuse(runId, `segment ${segment.segment_index + 1} names a component the model does not have.`);
+      if (ofComponent[c as number] !== -1) refuse(runId, `component ${(c as number) + 1} is in two segments.`);
+      ofComponent[c as number] = segment.segment_index;
+    }
+  }
+  const names = Array.from({ length: stored.length }, (_, s) => stored.find((segment) => segment.segment_index === s)?.name ?? '');
   return checkScoringModel({
     runId,
     features,
     transforms: features.map((name) => transforms?.[name]),
     model,
-    segments: componentsAsSegments(byComponent),
+    segments: { names, ofComponent },
     thresholds: {
       borderlineConfidence: settings.borderlineConfidence ?? NaN,
       borderlineMargin: settings.borderlineMargin ?? NaN,

@@ -109,16 +109,23 @@ describe('handlers on the core, tasks on worker threads', () => {
 
     const detail = await call('runSummary', { runId });
     expect(detail.settings).toMatchObject({ asOf: '2026-11-30', kMin: 2, kMax: 3, covariance: 'diag' });
-    expect(detail.features.map((feature) => feature.feature)).toEqual(['spend_per_month', 'visits_per_month', 'average_basket']);
+    // No features asked for: the run takes the database's default set.
+    const options = await call('modelOptions', {});
+    expect(detail.features.map((feature) => feature.feature)).toEqual(options.features.filter((feature) => feature.inDefaultSet).map((feature) => feature.name));
 
     const segments = await call('segments', { runId });
-    expect(segments.segments).toHaveLength(summary.k);
+    expect(segments.segments).toHaveLength(summary.segmentCount);
+    expect(segments.components).toHaveLength(summary.k);
+    expect(segments.segments.flatMap((segment) => segment.components).sort()).toEqual(segments.components.map((shape) => shape.component).sort());
     const d = segments.features.length;
     for (const segment of segments.segments) {
       expect(segment.mean).toHaveLength(d);
       expect(segment.covariance).toHaveLength(d * d);
-      // A diagonal structure: off-diagonal covariances are zero.
-      expect(segment.covariance[1]).toBe(0);
+    }
+    for (const shape of segments.components) {
+      expect(segments.segments.find((segment) => segment.segment === shape.segment)!.components).toContain(shape.component);
+      // A diagonal structure: each component's off-diagonal covariances are zero.
+      expect(shape.covariance[1]).toBe(0);
     }
     expect(segments.segments.reduce((sum, segment) => sum + segment.customers, 0)).toBe(summary.customers);
 

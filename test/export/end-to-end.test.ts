@@ -171,8 +171,18 @@ describe('export of a real run of the demo sample', () => {
     const result = await cli('export', '--db', dbPath, '--run', 'latest', '--out', out, '--csv-dialect', 'semicolon', '--csv-raw-ids', '--json');
     expect(result.code, result.stderr).toBe(0);
     const lines = readFileSync(out, 'utf8').split('\r\n');
-    expect(lines[0]).toBe('\uFEFFCustomer id;Final segment;Model segment;Confidence;Second segment;Second probability;Flags;Review decision;Marketing consent;Spend in window (EUR);Spend per month (EUR per month);Visit rate (visits per month);Basket size (EUR)');
-    expect(lines[1].split(';')[3]).toMatch(/^0,\d{4}$/);
+    const header = lines[0].split(';');
+    expect(header.slice(0, 10)).toEqual([
+      '\uFEFFCustomer id', 'Final segment', 'Model segment', 'Confidence', 'Second segment', 'Second probability', 'Flags', 'Review decision', 'Marketing consent',
+      'Spend in window (EUR)',
+    ]);
+    // Then the run's model features and spend per month, each labelled with its unit.
+    const features = JSON.parse(db.prepare('SELECT features FROM runs WHERE run_id = ?').pluck().get(runId) as string) as string[];
+    expect(header.slice(10)).toHaveLength(features.length + (features.includes('spend_per_month') ? 0 : 1));
+    expect(header).toContain('Spend per month (EUR per month)');
+    expect(header).toContain('Visit rate (visits per month)');
+    // A confidence with a decimal comma (a segment's posterior can round to 1).
+    expect(lines[1].split(';')[3]).toMatch(/^[01],\d{4}$/);
     expect(lines[1].split(';')[9]).toMatch(/^-?\d+,\d\d$/);
     const viaTask = join(outDir, 'task.csv');
     await runLongTask({ method: 'exportRun', dbPath, input: exportRunInput.parse({ runId, out: viaTask, format: 'csv', csvDialect: 'semicolon', csvRawIds: true }) }, { signal: new AbortController().signal, onProgress: () => {} });
@@ -189,7 +199,8 @@ describe('export of a real run of the demo sample', () => {
     expect(unknownRun.stderr).toMatch(/There is no run 99; runs in this database: 1, 2/);
     const unknownSegment = await cli('export', '--db', dbPath, '--run', 'latest', '--out', join(outDir, 'x.xlsx'), '--segments', 'Platinum');
     expect(unknownSegment.code).toBe(2);
-    expect(unknownSegment.stderr).toMatch(/No segment named "Platinum" in this run\. The segments are: "Tier 1 — highest spend"/);
+    expect(unknownSegment.stderr).toMatch(/No segment named "Platinum" in this run\. The segments are: "/);
+    for (const name of db.prepare('SELECT name FROM run_segments WHERE run_id = ?').pluck().all(runId) as string[]) expect(unknownSegment.stderr).toContain(`"${name}"`);
     const missingFolder = await cli('export', '--db', dbPath, '--run', 'latest', '--out', join(outDir, 'no', 'x.xlsx'));
     expect(missingFolder.code).toBe(2);
     expect(missingFolder.stderr).toMatch(/does not exist/);

@@ -17,9 +17,13 @@ describe('refresh, runs, review', () => {
     const first = await cli('refresh', '--db', demo.path, '--as-of', '2026-10-31', '--k', '4', '--covariance', 'diag', '--restarts', '2', '--json');
     expect(first.code).toBe(0);
     const summary = JSON.parse(first.stdout);
-    expect(Object.keys(summary)).toEqual(['runId', 'parentRunId', 'k', 'covariance', 'bic', 'customers', 'tooNew', 'borderline', 'atypical', 'segments', 'stability']);
-    expect(summary).toMatchObject({ runId: 1, parentRunId: null, k: 4, covariance: 'diag', stability: null });
-    expect(Object.keys(summary.segments[0])).toEqual(['name', 'customers', 'share', 'revenueShare']);
+    expect(Object.keys(summary)).toEqual([
+      'runId', 'parentRunId', 'k', 'covariance', 'bic', 'segmentCount', 'segmentation', 'customers', 'tooNew', 'borderline', 'atypical',
+      'segments', 'stability', 'review', 'warnings',
+    ]);
+    expect(summary).toMatchObject({ runId: 1, parentRunId: null, k: 4, covariance: 'diag', segmentation: 'auto', stability: null });
+    expect(summary.segmentCount).toBe(summary.segments.length);
+    expect(Object.keys(summary.segments[0])).toEqual(['name', 'key', 'components', 'customers', 'share', 'revenueShare']);
     expect(summary.segments.reduce((total: number, segment: { customers: number }) => total + segment.customers, 0)).toBe(summary.customers);
     expect(first.stdout.trim().split('\n')).toHaveLength(1);
 
@@ -32,7 +36,7 @@ describe('refresh, runs, review', () => {
 
     const rescore = await cli('refresh', '--db', demo.path, '--as-of', '2026-11-30', '--mode', 'rescore', '--parent', '1');
     expect(rescore.code).toBe(0);
-    expect(rescore.stdout).toMatch(/^Run 3 \(parent 1\): k = 4, diag covariance/);
+    expect(rescore.stdout).toMatch(/^Run 3 \(parent 1\): k = 4 diag components combined into \d+ segments? \(the entropy change point\)/);
   });
 
   it('runs lists them newest first', async () => {
@@ -61,6 +65,49 @@ describe('refresh, runs, review', () => {
     expect(human.code).toBe(0);
   });
 
+  it('segments: the combining tree, a level, a merge and a split, through the same API calls', async () => {
+    const tree = JSON.parse((await cli('segments', '--db', demo.path, '--run', '2', 'tree', '--json')).stdout);
+    expect(tree).toMatchObject({ runId: 2, components: expect.any(Number), levels: expect.any(Array) });
+    expect(tree.levels).toHaveLength(tree.components);
+    const level = await cli('segments', '--db', demo.path, '--run', '2', 'level', String(tree.components), '--json');
+    expect(level.code, level.stderr).toBe(0);
+    const regrouped = JSON.parse(level.stdout);
+    expect(regrouped.summary).toMatchObject({ segmentCount: tree.components, segmentation: 'level' });
+    const [a, b] = regrouped.summary.segments;
+    const merged = await cli('segments', '--db', demo.path, '--run', '2', 'merge', a.key, b.key);
+    expect(merged.code, merged.stderr).toBe(0);
+    expect(merged.stdout).toMatch(new RegExp(`^Run 2: merged "${a.name}" and "${b.name}"; now ${tree.components - 1} segments?`));
+    const parts = [a.components, b.components].map((group: number[]) => group.join(',')).join(';');
+    const split = await cli('segments', '--db', demo.path, '--run', '2', 'split', a.key, '--parts', parts, '--json');
+    expect(split.code, split.stderr).toBe(0);
+    expect(JSON.parse(split.stdout).summary.segmentCount).toBe(tree.components);
+    const itself = await cli('segments', '--db', demo.path, '--run', '2', 'merge', a.key, a.key);
+    expect(itself.code).toBe(2);
+    expect(itself.stderr).toMatch(/^spendmix: Cannot merge segment \d+ with itself/);
+    const tooMany = await cli('segments', '--db', demo.path, '--run', '2', 'level', String(tree.components + 1));
+    expect(tooMany.code).toBe(2);
+    expect(tooMany.stderr).toMatch(/components/);
+  });
+
+  it('review: the queue at a capacity, the rest on request, and accept-rest', async () => {
+    const month = await cli('refresh', '--db', demo.path, '--as-of', '2026-11-30', '--k', '4', '--covariance', 'diag', '--restarts', '1', '--segment-count', '4', '--review-capacity', '3', '--borderline-confidence', '0.95', '--json');
+    expect(month.code, month.stderr).toBe(0);
+    const runId = String(JSON.parse(month.stdout).runId);
+    const queue = JSON.parse((await cli('review', '--db', demo.path, '--run', runId, 'list', '--json')).stdout);
+    expect(queue.total).toBe(3);
+    expect(queue.queue).toMatchObject({ capacity: 3, queued: 3 });
+    const rest = JSON.parse((await cli('review', '--db', demo.path, '--run', runId, 'list', '--scope', 'unqueued', '--limit', '500', '--json')).stdout);
+    expect(rest.total).toBe(queue.queue.flagged - 3);
+    expect(rest.total).toBeGreaterThan(0);
+    const human = await cli('review', '--db', demo.path, '--run', runId, 'list');
+    expect(human.stdout).toContain(`queue: 3 of ${queue.queue.flagged} flagged (capacity 3); ${rest.total} counted, not queued (`);
+    const accepted = await cli('review', '--db', demo.path, '--run', runId, 'accept-rest', '--reviewer', 'tester', '--json');
+    expect(accepted.code, accepted.stderr).toBe(0);
+    expect(JSON.parse(accepted.stdout)).toMatchObject({ accepted: rest.total, alreadyDecided: 0 });
+    const again = await cli('review', '--db', demo.path, '--run', runId, 'accept-rest');
+    expect(again.stdout).toMatch(new RegExp(`kept the model's segment for 0 flagged customers beyond the capacity \\(${rest.total} already had a decision`));
+  });
+
   it('bad input exits 2 with a message and stores nothing', async () => {
     const cases: string[][] = [
       ['refresh', '--db', demo.path, '--as-of', '2030-01-31'],
@@ -80,6 +127,6 @@ describe('refresh, runs, review', () => {
       expect(result.code, argv.join(' ')).toBe(2);
       expect(result.stderr).toMatch(/^spendmix: /);
     }
-    expect(JSON.parse((await cli('runs', '--db', demo.path, '--json')).stdout).runs).toHaveLength(3);
+    expect(JSON.parse((await cli('runs', '--db', demo.path, '--json')).stdout).runs).toHaveLength(4);
   });
 });

@@ -19,9 +19,12 @@ import { demoDatabase, type DemoDatabase } from './demo-database.js';
 /**
  * The monthly run on the invented demo chain (3,000 customers, generator seed 2026), checked
  * against the generator's latent profiles (truth.csv) and against the stored numbers themselves.
- * The generator has five spend profiles (demo-data/README.md), so the recovery runs use k = 5;
- * diagonal covariance because the three default features are nearly collinear (spend per month ≈
- * visits × basket), which full covariances fit as a thin direction rather than as the profiles.
+ * The generator has five spend profiles (demo-data/README.md), so the recovery runs use k = 5,
+ * diagonal covariance and five segments (each component its own segment): these checks see the
+ * fitted components; combining them is tested in ./segments-of-components.test.ts. The features are
+ * named here (spend per month, visit rate, basket size: ARI 0.656 against truth.csv at k = 5 on
+ * this chain, measured 2026-12-03, against 0.567 for the default set), so the checks do not move
+ * when the default set is tuned; the defaults' quality is measured by test/bench/segments-against-truth.ts.
  */
 let demo: DemoDatabase;
 let db: Database;
@@ -32,7 +35,17 @@ let movedCustomer: string;
 let moveTargetKey: string;
 let excludedCustomer: string;
 
-const base: StartRunInput = { asOf: '2026-10-31', windowMonths: 12, mode: 'refit', k: 5, covariance: 'diag', parentRunId: null, seed: 3 };
+const base: StartRunInput = {
+  asOf: '2026-10-31',
+  windowMonths: 12,
+  mode: 'refit',
+  k: 5,
+  covariance: 'diag',
+  segmentCount: 5,
+  features: [{ feature: 'spend_per_month' }, { feature: 'visits_per_month' }, { feature: 'average_basket' }],
+  parentRunId: null,
+  seed: 3,
+};
 
 function labelsOf(runId: number): Map<string, number | null> {
   return new Map(allMemberships(db, runId).map((item) => [item.customerId, item.segment]));
@@ -108,14 +121,20 @@ describe('the run against the demo chain', () => {
     const rescored = scoreRows(model, { values: x, rows: stored.length, cols: d });
     let borderline = 0;
     let atypical = 0;
+    const groups = segmentsOf(november.runId)
+      .slice()
+      .sort((a, b) => a.segment - b.segment)
+      .map((segment) => segment.components);
     stored.forEach((member, i) => {
-      const posteriors = decodeFloat64(member.posteriors as Buffer);
+      // A segment's posterior is the sum of its components' posteriors.
+      const components = decodeFloat64(member.posteriors as Buffer);
+      const posteriors = groups.map((group) => group.reduce((total, c) => total + components[c], 0));
       const order = Array.from(posteriors.keys()).sort((a, b) => posteriors[b] - posteriors[a]);
       expect(member.segment_index).toBe(order[0]);
       expect(member.second_index).toBe(order[1]);
-      expect(member.confidence).toBe(posteriors[order[0]]);
+      expect(member.confidence).toBeCloseTo(posteriors[order[0]], 14);
       expect(member.margin).toBeCloseTo(posteriors[order[0]] - posteriors[order[1]], 14);
-      expect(member.second_probability).toBe(posteriors[order[1]]);
+      expect(member.second_probability).toBeCloseTo(posteriors[order[1]], 14);
       expect(member.log_density).toBeCloseTo(rescored.logDensity[i], 9);
       expect(member.borderline).toBe(member.confidence < 0.7 || member.margin < 0.2 ? 1 : 0);
       expect(member.atypical).toBe(member.log_density < row.cut ? 1 : 0);
@@ -145,12 +164,16 @@ describe('the run against the demo chain', () => {
     expect(again.bic).toBe(october.bic);
   });
 
-  it('a refit on the next month keeps the names of matched segments, renames included', () => {
-    const before = new Map(segmentsOf(october.runId).map((segment) => [segment.key, segment.name]));
+  it('a refit on the next month keeps the keys of matched segments and their renames; other names are this month\'s defaults', () => {
+    const before = new Map(segmentsOf(october.runId).map((segment) => [segment.key, segment]));
     const after = segmentsOf(november.runId);
     const matched = after.filter((segment) => segment.origin === 'matched');
     expect(matched.length).toBeGreaterThanOrEqual(4);
-    for (const segment of matched) expect(segment.name).toBe(before.get(segment.key));
+    for (const segment of matched) {
+      const earlier = before.get(segment.key)!;
+      expect(segment.renamed).toBe(earlier.renamed);
+      expect(segment.name).toBe(earlier.renamed ? earlier.name : segment.defaultName);
+    }
     expect(after.map((segment) => segment.name)).toContain('Premium baskets');
     expect(november.parentRunId).toBe(october.runId);
   });
@@ -223,9 +246,11 @@ describe('reading a run', () => {
       expect(item.why.text).toMatch(/fits|common segment|about equally/);
     }
     const queue = reviewQueue(db, { runId: november.runId, limit: 100 });
-    expect(queue.total).toBeGreaterThanOrEqual(november.borderline);
-    const stakes = queue.rows.map((item) => item.revenue);
-    expect([...stakes].sort((a, b) => b - a)).toEqual(stakes);
+    // Every flagged customer is counted; the queue holds the capacity's worth, by spend at stake × uncertainty.
+    expect(queue.queue.flagged).toBeGreaterThanOrEqual(november.borderline);
+    expect(queue.total).toBe(Math.min(queue.queue.flagged, queue.queue.capacity));
+    const worth = queue.rows.map((item) => item.value);
+    expect([...worth].sort((a, b) => b - a)).toEqual(worth);
     expect(queue.rows.some((item) => item.previousSegmentName !== null)).toBe(true);
     expect(queue.rows[0].featureComparison.map((row) => row.feature)).toEqual(['spend_per_month', 'visits_per_month', 'average_basket']);
   });
@@ -247,7 +272,7 @@ describe('reading a run', () => {
   });
 
   it('chooses k and structure by BIC over a sweep and stores the table', async () => {
-    const swept = await runMonth(db, { ...base, k: 'auto', kMin: 2, kMax: 3, covariance: 'auto', restarts: 1 });
+    const swept = await runMonth(db, { ...base, k: 'auto', kMin: 2, kMax: 3, covariance: 'auto', segmentCount: 'auto', restarts: 1 });
     const table = sweepTable(db, swept.runId);
     expect(table).toHaveLength(8);
     const best = table.reduce((a, b) => (b.bic < a.bic ? b : a));
@@ -265,7 +290,7 @@ describe('options of a run', () => {
       { ...base, asOf: '2026-11-30', parentRunId: october.runId, reviewMoversBelowConfidence: 0.95 },
       { onProgress: (progress) => phases.add(progress.phase) },
     );
-    expect([...phases]).toEqual(['features', 'transform', 'fit', 'score', 'profiles', 'movement', 'store']);
+    expect([...phases]).toEqual(['features', 'transform', 'fit', 'score', 'combine', 'profiles', 'movement', 'store']);
     const movers = wholeQueue(db, withMovers.runId).filter((item) => item.reasons.includes('mover'));
     expect(movers.length).toBeGreaterThan(0);
     for (const item of movers) {
@@ -329,7 +354,7 @@ describe('bad input stores nothing', () => {
     db.exec(`SAVEPOINT imported;
       INSERT INTO customer_features (customer_id, feature, value) SELECT customer_id, 'loyalty_points', length(customer_id) * (rowid % 97) FROM customers`);
     try {
-      const imported = await runMonth(db, { ...base, source: 'imported', k: 2 });
+      const imported = await runMonth(db, { ...base, source: 'imported', features: undefined, k: 2, segmentCount: 'auto' });
       expect(storedRun(db, imported.runId).features).toEqual(['loyalty_points']);
       expect(await refusal({ ...base, asOf: '2026-11-30', parentRunId: imported.runId })).toMatch(
         /uses the feature loyalty_points, which the new data does not have/,

@@ -136,7 +136,12 @@ describe('runs and their names', () => {
     broken(`UPDATE runs SET model = json_set(model, '$.weights[0]', 'x') WHERE run_id = ${runId}`, /"weights" must be 3 finite numbers/);
     broken(`UPDATE runs SET transforms = '{}' WHERE run_id = ${runId}`, /transform of feature .* has no usable fitted parameters/);
     broken(`UPDATE runs SET features = '["plain"]' WHERE run_id = ${runId}`, /3 dimension\(s\) but 1 feature name/);
-    broken(`DELETE FROM run_segments WHERE run_id = ${runId} AND segment_index = 2`, /segment 3 has no name/);
+    broken(`UPDATE run_segments SET name = '' WHERE run_id = ${runId} AND segment_index = 0`, /segment 1 has no name/);
+    broken(
+      `DELETE FROM run_segments WHERE run_id = ${runId} AND segment_index = (SELECT max(segment_index) FROM run_segments WHERE run_id = ${runId})`,
+      /component \d+ maps to segment -1/,
+    );
+    broken(`UPDATE run_segments SET components = '[0]' WHERE run_id = ${runId}`, /component 1 is in two segments/);
     broken(`UPDATE runs SET settings = json_set(settings, '$.borderlineConfidence', 7) WHERE run_id = ${runId}`, /borderline thresholds are not probabilities/);
   });
 

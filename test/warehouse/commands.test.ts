@@ -14,7 +14,19 @@ let runId: number;
 
 beforeAll(async () => {
   demo = await demoDatabase('sample');
-  runId = (await runMonth(demo.db, { asOf: '2026-11-30', windowMonths: 12, mode: 'refit', k: 3, covariance: 'diag', parentRunId: null })).runId;
+  // The three spend features the DuckDB table below holds, and each component its own segment.
+  runId = (
+    await runMonth(demo.db, {
+      asOf: '2026-11-30',
+      windowMonths: 12,
+      mode: 'refit',
+      k: 3,
+      covariance: 'diag',
+      segmentCount: 3,
+      features: [{ feature: 'spend_per_month' }, { feature: 'visits_per_month' }, { feature: 'average_basket' }],
+      parentRunId: null,
+    })
+  ).runId;
 }, 300_000);
 
 afterAll(() => demo?.close());

@@ -1,7 +1,7 @@
 import type { Database } from 'better-sqlite3';
 import type { CertaintyQuery, CertaintySummary } from '../../api/contract.js';
 import { InputError } from '../../errors.js';
-import { quantileOfSorted, sortedFinite } from '../../features/quantiles.js';
+import { countBelowSorted, quantileOfSorted, sortedFinite } from '../../features/quantiles.js';
 import { isBorderline, type FlagThresholds } from '../flags.js';
 import { queueCounts } from './review-counts.js';
 import { derivedFromRun, holdsDerived, storedRun } from './stored-run.js';
@@ -202,14 +202,7 @@ export function borderlineCount(summary: RunCertaintySummary, thresholds: Pick<F
 export function atypicalCount(summary: RunCertaintySummary, atypicalPercentile: number): { atypical: number; cut: number } {
   const sorted = summary.sortedLogDensity;
   const cut = atypicalPercentile > 0 ? quantileOfSorted(sorted, atypicalPercentile / 100) : -Infinity;
-  let low = 0;
-  let high = sorted.length;
-  while (low < high) {
-    const middle = (low + high) >>> 1;
-    if (sorted[middle] < cut) low = middle + 1;
-    else high = middle;
-  }
-  return { atypical: low, cut };
+  return { atypical: countBelowSorted(sorted, cut), cut };
 }
 
 /** Placed customers per confidence bin of [0, 1], as the screen's histogram draws them. */
