@@ -10,8 +10,9 @@ import { collectPageErrors, openBrowser, screenshot, serve, type ServedApp } fro
 /**
  * The analyst's month, end to end in Chromium through the browser host (`spendmix serve`): load
  * the demo chain into a fresh database, import one more receipts file with a bad row and read
- * its report, run two refits, open every screen, move a Certainty threshold, decide on two
- * review items, rename a segment, export and read the workbook back. Every wait is on visible
+ * its report, run two refits, regroup the components at another level and back, open every
+ * screen, move a Certainty threshold, decide on two review items, accept the rest of the flagged
+ * customers beyond the review capacity, rename a segment, export and read the workbook back. Every wait is on visible
  * state; no console or page errors are allowed. Screenshots go to test-artifacts/.
  */
 
@@ -47,7 +48,7 @@ function extraReceipts(folder: string): { path: string; badLine: number; rows: n
   return { path, badLine, rows: 40 };
 }
 
-async function runRefit(page: Page, asOf: string): Promise<void> {
+async function runRefit(page: Page, asOf: string, reviewCapacity = 200): Promise<void> {
   await openScreen(page, 'model');
   const dismiss = page.getByTestId('model-task-dismiss');
   if (await dismiss.isVisible()) await dismiss.click();
@@ -58,6 +59,8 @@ async function runRefit(page: Page, asOf: string): Promise<void> {
   await page.getByTestId('model-k-max').fill('4');
   await page.getByTestId('model-covariance').selectOption('full');
   await page.getByTestId('model-restarts').fill('2');
+  await page.getByTestId('model-segment-mode').selectOption('auto');
+  await page.getByTestId('model-review-capacity').fill(String(reviewCapacity));
   const runsBefore = await page.getByTestId('run-picker').locator('option:not([value=""])').count();
   await page.getByTestId('model-start').click();
   // A finished run shows up in the run picker (the Model screen then shows the new run's
@@ -140,9 +143,32 @@ describe('Spendmix in Chromium through the browser host', () => {
   it('runs two monthly refits and shows the information-criterion chart', async () => {
     await runRefit(page, '2026-10-31');
     await page.getByTestId('model-criterion-chart').waitFor({ state: 'visible' });
-    await runRefit(page, '2026-11-30');
+    // A small review capacity, so that some flagged customers are counted but left out of the queue.
+    await runRefit(page, '2026-11-30', 10);
     await expect.poll(() => page.getByTestId('run-picker').locator('option:not([value=""])').count()).toBe(2);
     await screenshot(page, '04-model');
+  });
+
+  it('regroups the run at another level of the combining tree, then back to the automatic choice', async () => {
+    const caption = page.getByTestId('combining-caption');
+    await expect.poll(() => caption.innerText(), { timeout: 30_000 }).toMatch(/combined into \d+ segments?: chosen where the entropy curve bends/);
+    const [, components, automatic] = /^(\d+) components?.*into (\d+) segments?/.exec(await caption.innerText())!.map(Number) as number[];
+    // Any other level: one more segment when the tree has it, else one fewer.
+    const level = automatic < components ? automatic + 1 : automatic - 1;
+    expect(level).toBeGreaterThanOrEqual(1);
+    await page.getByTestId('level-select').selectOption(String(level));
+    await page.getByTestId('level-apply').click();
+    await waitForTask(page, 'regroup-task');
+    await expect.poll(() => page.getByTestId('regroup-result').innerText()).toMatch(new RegExp(`now ${level} segments?`));
+    await expect.poll(() => caption.innerText()).toMatch(new RegExp(`into ${level} segments?: a level picked by hand`));
+    expect(await page.getByTestId('combining-segments').locator('tbody tr').count()).toBe(level);
+    // The run picker re-reads the run list: it says how many segments the run has now.
+    await expect.poll(() => page.getByTestId('run-picker').locator('option:checked').innerText()).toContain(`${level} segment`);
+    await screenshot(page, '04b-model-regrouped');
+    await page.getByTestId('regroup-task-dismiss').click();
+    await page.getByTestId('level-auto').click();
+    await waitForTask(page, 'regroup-task');
+    await expect.poll(() => caption.innerText()).toMatch(new RegExp(`into ${automatic} segments?: chosen where the entropy curve bends`));
   });
 
   it('paints the Segments screen and renames a segment in place', async () => {
@@ -185,6 +211,26 @@ describe('Spendmix in Chromium through the browser host', () => {
     await expect.poll(() => progress.innerText()).toMatch(/^2 of \d/);
     await expect.poll(() => page.locator('[data-testid^="review-row-"].is-done').count()).toBe(2);
     await screenshot(page, '07-review');
+  });
+
+  it('says how many flagged customers were left out of the queue, and accepts the rest', async () => {
+    const counts = page.getByTestId('queue-counts');
+    await expect.poll(() => counts.innerText()).toMatch(/^Queue: 10 of [\d,]+ flagged \(capacity 10\)\.$/);
+    const flagged = Number(/of ([\d,]+) flagged/.exec(await counts.innerText())![1].replace(/,/g, ''));
+    const leftOut = flagged - 10;
+    expect(leftOut).toBeGreaterThan(0);
+    expect(await page.getByTestId('queue-left-out').innerText()).toMatch(new RegExp(`^${leftOut.toLocaleString('en-US')} counted, not queued: .*(borderline|atypical).* worth less than`));
+    await page.getByTestId('review-scope').selectOption('unqueued');
+    const progress = page.getByTestId('review-progress');
+    await expect.poll(() => progress.innerText()).toBe(`0 of ${leftOut.toLocaleString('en-US')} done`);
+    await page.getByTestId('queue-accept-rest').click();
+    await expect.poll(() => page.getByTestId('queue-accepted').innerText()).toBe(`Kept ${leftOut.toLocaleString('en-US')} in the model's segment.`);
+    await expect.poll(() => progress.innerText()).toBe(`${leftOut.toLocaleString('en-US')} of ${leftOut.toLocaleString('en-US')} done`);
+    expect(await page.getByTestId('queue-accept-rest').isDisabled()).toBe(true);
+    // The queue itself is untouched: the two decisions made there, nothing more.
+    await page.getByTestId('review-scope').selectOption('queued');
+    await expect.poll(() => progress.innerText()).toBe('2 of 10 done');
+    await screenshot(page, '07b-review-rest-accepted');
   });
 
   it('shows the movement since last month', async () => {

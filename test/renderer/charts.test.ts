@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import type { MovementResult, SegmentProfile, SegmentSample, SweepRow } from '../../src/api/contract.js';
+import type { ComponentShape, MovementResult, SegmentProfile, SegmentSample, SweepRow } from '../../src/api/contract.js';
 import { confidenceOption } from '../../renderer/src/charts/certainty-charts.js';
 import { bestRow, criterionOption } from '../../renderer/src/charts/model-charts.js';
 import { flowOption, heatmapOption } from '../../renderer/src/charts/movement-charts.js';
@@ -18,6 +18,8 @@ function segment(index: number, spendRank: number, mean: number[], covariance: n
 
 // Two segments in model space; the model's index order differs from spend order on purpose.
 const segments = [segment(0, 2, [0, 0], [1, 0.3, 0.3, 2]), segment(1, 1, [3, 1], [0.5, 0, 0, 0.5])];
+// One component per segment (each segment's own shape), and a two-component variant below.
+const components: ComponentShape[] = segments.map((s) => ({ component: s.segment, segment: s.segment, weight: s.weight, mean: s.mean, covariance: s.covariance }));
 const sample: SegmentSample = {
   runId: 1,
   totalCustomers: 1000,
@@ -35,7 +37,7 @@ describe('Segments charts', () => {
   it('colours a segment by its spend rank, the same in every chart', () => {
     expect(colourOf(segments[1])).toBe(segmentColours[0]);
     expect(colourOf(segments[0])).toBe(segmentColours[1]);
-    const scatter = scatterOption(segments, sample, 0, 1, { x: 'a', y: 'b' }).series as Series[];
+    const scatter = scatterOption(segments, components, sample, 0, 1, { x: 'a', y: 'b' }).series as Series[];
     const distribution = distributionOption(
       segments,
       { runId: 1, feature: 'a', unit: 'EUR', edges: [0, 1, 2], counts: [{ segment: 0, counts: [1, 3] }, { segment: 1, counts: [2, 2] }], customersUsed: 8, totalCustomers: 8 },
@@ -51,7 +53,7 @@ describe('Segments charts', () => {
   });
 
   it('draws each segment\'s points and its 1 and 2 SD ellipses, Tier 1 first', () => {
-    const series = scatterOption(segments, sample, 0, 1, { x: 'a', y: 'b' }).series as Series[];
+    const series = scatterOption(segments, components, sample, 0, 1, { x: 'a', y: 'b' }).series as Series[];
     expect(series.map((s) => `${s.type}:${s.name}`)).toEqual([
       'scatter:Tier 1', 'line:Tier 1', 'line:Tier 1',
       'scatter:Tier 2', 'line:Tier 2', 'line:Tier 2',
@@ -65,8 +67,23 @@ describe('Segments charts', () => {
     for (const [x, y] of series[2].data as [number, number][]) expect(Math.hypot(x - 3, y - 1)).toBeCloseTo(2 * Math.sqrt(0.5), 9);
   });
 
+  it('draws one pair of rings per component, in the colour of its segment', () => {
+    const split: ComponentShape[] = [
+      { component: 0, segment: 0, weight: 0.25, mean: [-1, 0], covariance: [1, 0, 0, 1] },
+      { component: 1, segment: 1, weight: 0.5, mean: [3, 1], covariance: [0.5, 0, 0, 0.5] },
+      { component: 2, segment: 0, weight: 0.25, mean: [1, 0], covariance: [0.25, 0, 0, 0.25] },
+    ];
+    const series = scatterOption(segments, split, sample, 0, 1, { x: 'a', y: 'b' }).series as Series[];
+    const rings = series.filter((s) => s.type === 'line');
+    expect(rings.map((s) => s.name)).toEqual(['Tier 1', 'Tier 1', 'Tier 2', 'Tier 2', 'Tier 2', 'Tier 2']);
+    for (const ring of rings) expect(ring.lineStyle?.color).toBe(colourOf(segments.find((s) => s.name === ring.name)!));
+    // Tier 2's second component: radius √0.25 = 0.5 round (1, 0) at 1 SD.
+    for (const [x, y] of rings[4].data as [number, number][]) expect(Math.hypot(x - 1, y)).toBeCloseTo(0.5, 9);
+    expect(() => scatterOption(segments, [...split, { ...split[0], component: 3, segment: 7 }], sample, 0, 1, { x: 'a', y: 'b' })).toThrow(/belong to no segment/);
+  });
+
   it('refuses feature indexes outside the model', () => {
-    expect(() => scatterOption(segments, sample, 0, 2, { x: 'a', y: 'c' })).toThrow(RangeError);
+    expect(() => scatterOption(segments, components, sample, 0, 2, { x: 'a', y: 'c' })).toThrow(RangeError);
   });
 
   it('shows each distribution as a share of its own segment', () => {

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { axisUnit, formatInUnit, formattersFor, sampleCaption } from '../../renderer/src/lib/format.js';
+import { axisUnit, formatInUnit, formattersFor, sampleCaption, traitText } from '../../renderer/src/lib/format.js';
 
 // Expected strings follow the CLDR conventions Node's ICU implements (from memory): en-GB groups
 // with commas and puts € first; de-DE groups with dots, uses a decimal comma and puts € last
@@ -49,5 +49,12 @@ describe('locale formatting', () => {
     expect(sampleCaption(812, 812, f)).toBe('all 812 customers');
     expect(() => sampleCaption(10, 5, f)).toThrow(RangeError);
     expect(() => sampleCaption(-1, 5, f)).toThrow(RangeError);
+  });
+
+  it('says a segment trait with its value and where it ranks among all customers', () => {
+    const f = formattersFor('en-GB');
+    expect(traitText({ label: 'visit rate', median: 6.1, unit: 'visits per month', percentile: 0.72, words: 'frequent' }, f)).toBe('visit rate 6.1 visits/month — frequent (top 28%)');
+    expect(traitText({ label: 'basket size', median: 21, unit: 'EUR', percentile: 0.22, words: 'small baskets' }, f)).toBe('basket size €21.00 — small baskets (bottom 22%)');
+    expect(traitText({ label: 'days since last visit', median: 3, unit: 'days', percentile: 0.5, words: 'recent' }, f)).toBe('days since last visit 3 days — recent (top 50%)');
   });
 });

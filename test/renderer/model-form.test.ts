@@ -33,6 +33,16 @@ describe('Model settings form', () => {
     expect(input).toMatchObject({ tol: 1e-5, maxIterations: 500, regularization: 1e-4, init: 'random', reviewMoversBelowConfidence: 0.9, freshCategories: ['bakery'] });
   });
 
+  it('sends the segment count (automatic or a number) and the review capacity', () => {
+    const previous: RunSettings = { ...defaults, segmentCount: 3, reviewCapacity: 50 };
+    const form = formFromSettings(options, previous, '2026-11-30');
+    expect([form.segmentMode, form.segmentCount, form.reviewCapacity]).toEqual(['fixed', '3', '50']);
+    expect(toStartRunInput(form).input).toMatchObject({ segmentCount: 3, reviewCapacity: 50 });
+    expect(toStartRunInput({ ...form, segmentMode: 'auto' }).input).toMatchObject({ segmentCount: 'auto' });
+    const { errors } = toStartRunInput({ ...form, segmentCount: 'three', reviewCapacity: '' });
+    expect(Object.keys(errors).sort()).toEqual(['reviewCapacity', 'segmentCount']);
+  });
+
   it('keeps a previous run\'s features, transforms and fixed k', () => {
     const previous: RunSettings = { ...defaults, k: 3, covariance: 'diag', features: [{ feature: 'fresh_share', log1p: false, clipLowerPercentile: 1, clipUpperPercentile: 99, zScore: true }] };
     const form = formFromSettings(options, previous, '2026-10-31');

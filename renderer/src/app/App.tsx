@@ -1,7 +1,7 @@
 import { useCallback, useEffect, useMemo, useState } from 'react';
 import type { AppInfo, DatabaseInfo, ModelOptions, RunListItem, SegmentsResult } from '../../../src/api/contract.js';
 import { formatLocation, parseLocation, screens, type ScreenId } from '../lib/navigation.js';
-import { useApi, useClient, useFormat, useWhenQuiet } from './client-context.js';
+import { useApi, useClient, useFormat, useLoad, useWhenQuiet } from './client-context.js';
 import { WorkspaceContext, type Workspace } from './workspace.js';
 import { SourcesScreen } from '../screens/Sources.js';
 import { ModelScreen } from '../screens/Model.js';
@@ -16,7 +16,7 @@ import type { ApiError } from '../../../src/api/contract.js';
 
 /*
  * Test ids: app-shell, nav-<screen id> (sources, model, segments, certainty, review, movement,
- * export), run-picker, database-summary, screen-<screen id> on each screen's root.
+ * export), run-picker, run-warnings, database-summary, screen-<screen id> on each screen's root.
  */
 /** The top bar's table counts wait until the API has been quiet this long (10 s at most). */
 const summaryQuietMs = 250;
@@ -170,11 +170,12 @@ export function App() {
               {runs.length === 0 ? <option value="">no runs yet</option> : null}
               {sortedRuns.map((run) => (
                 <option key={run.runId} value={run.runId}>
-                  #{run.runId} · as of {format.date(run.asOf)} · k = {run.k} {run.covariance} · {run.mode}
+                  #{run.runId} · {format.date(run.asOf)} · {run.segmentCount} segments, k = {run.k} {run.covariance} · {run.mode}
                 </option>
               ))}
             </select>
           </label>
+          {runId !== null ? <RunWarnings runId={runId} version={segmentsNonce} onOpen={() => setScreen('model')} /> : null}
         </header>
         <nav className="rail" aria-label="Screens">
           <ol>
@@ -209,5 +210,22 @@ export function App() {
         </main>
       </div>
     </WorkspaceContext.Provider>
+  );
+}
+
+/**
+ * The warnings stored with the run in view (e.g. nearly collinear features), beside the run
+ * picker so they are seen on every screen; a click opens the Model screen, which lists them.
+ * Re-read when the run's segments are (a regroup or a review decision may change the run).
+ */
+function RunWarnings({ runId, version, onOpen }: { runId: number; version: number; onOpen: () => void }) {
+  const api = useApi();
+  const summary = useLoad(() => api.runSummary({ runId }), `run-warnings:${runId}:${version}`);
+  const warnings = summary.data && summary.data.runId === runId ? summary.data.warnings : [];
+  if (!warnings.length) return null;
+  return (
+    <button type="button" className="run-warnings" title={warnings.join('\n')} onClick={onOpen} data-testid="run-warnings">
+      {warnings.length === 1 ? '1 warning' : `${warnings.length} warnings`}
+    </button>
   );
 }

@@ -2,7 +2,7 @@ import type { EChartsCoreOption } from 'echarts/core';
 import type { MovementResult } from '../../../src/api/contract.js';
 import type { Formatters } from '../lib/format.js';
 import { ui } from '../lib/palette.js';
-import { baseOption, categoryAxis } from './theme.js';
+import { baseOption, categoryAxis, escapeHtml } from './theme.js';
 
 /** Parent × current counts as a single-hue heatmap (reads the same in any colour vision). */
 export function heatmapOption(movement: MovementResult, format: Formatters): EChartsCoreOption {
@@ -21,7 +21,7 @@ export function heatmapOption(movement: MovementResult, format: Formatters): ECh
       ...(baseOption.tooltip as object),
       formatter: (params: { value: [number, number, number] }) => {
         const [j, i, count] = params.value;
-        return `${movement.parentSegments[i].name} → ${movement.currentSegments[j].name}: ${format.count(count)} customers`;
+        return `${escapeHtml(movement.parentSegments[i].name)} → ${escapeHtml(movement.currentSegments[j].name)}: ${format.count(count)} customers`;
       },
     },
     xAxis: categoryAxis('this run', movement.currentSegments.map((s) => s.name), { nameGap: 72, axisLabel: { interval: 0, rotate: 20, color: ui.inkSoft } }),
@@ -68,8 +68,8 @@ export function flowOption(movement: MovementResult, colourForNode: (node: strin
       trigger: 'item',
       formatter: (params: { dataType: string; data: { source?: string; target?: string; value?: number; name?: string }; value: number }) =>
         params.dataType === 'edge'
-          ? `${params.data.source} → ${params.data.target}: ${format.count(params.value)} customers`
-          : `${params.data.name}`,
+          ? `${escapeHtml(params.data.source ?? '')} → ${escapeHtml(params.data.target ?? '')}: ${format.count(params.value)} customers`
+          : escapeHtml(params.data.name ?? ''),
     },
     series: [
       {

@@ -1,5 +1,5 @@
 import type { EChartsCoreOption } from 'echarts/core';
-import type { FeatureDistribution, SegmentProfile, SegmentSample } from '../../../src/api/contract.js';
+import type { ComponentShape, FeatureDistribution, SegmentProfile, SegmentSample } from '../../../src/api/contract.js';
 import { covarianceEllipse, ellipsePoints } from '../lib/ellipse.js';
 import type { Formatters } from '../lib/format.js';
 import { segmentColour, segmentSymbol, ui } from '../lib/palette.js';
@@ -16,11 +16,13 @@ export function symbolOf(segment: Pick<SegmentProfile, 'spendRank'>): string {
 
 /**
  * Scatter of two model features over the core's sample, one series per segment, with each
- * segment's 1 and 2 SD density ellipses drawn from its mean and covariance (model space, where
- * the mixture is Gaussian).
+ * Gaussian component's 1 and 2 SD density ellipses (model space, where each component is
+ * Gaussian) in the colour of the segment it belongs to: a segment made of several components
+ * shows several rings, which is its real shape; one moment-matched ring would hide it.
  */
 export function scatterOption(
   segments: SegmentProfile[],
+  components: ComponentShape[],
   sample: SegmentSample,
   xIndex: number,
   yIndex: number,
@@ -51,22 +53,26 @@ export function scatterOption(
       largeThreshold: 4000,
       emphasis: { disabled: true },
     });
-    const xx = segment.covariance[xIndex * d + xIndex];
-    const yy = segment.covariance[yIndex * d + yIndex];
-    const xy = segment.covariance[xIndex * d + yIndex];
-    for (const radius of [1, 2]) {
-      series.push({
-        type: 'line',
-        name: segment.name,
-        data: ellipsePoints(segment.mean[xIndex], segment.mean[yIndex], covarianceEllipse(xx, xy, yy, radius)),
-        showSymbol: false,
-        silent: true,
-        lineStyle: { color: colour, width: radius === 1 ? 2 : 1.25, type: radius === 1 ? 'solid' : 'dashed' },
-        z: 5,
-        tooltip: { show: false },
-      });
+    for (const component of components.filter((shape) => shape.segment === segment.segment)) {
+      const xx = component.covariance[xIndex * d + xIndex];
+      const yy = component.covariance[yIndex * d + yIndex];
+      const xy = component.covariance[xIndex * d + yIndex];
+      for (const radius of [1, 2]) {
+        series.push({
+          type: 'line',
+          name: segment.name,
+          data: ellipsePoints(component.mean[xIndex], component.mean[yIndex], covarianceEllipse(xx, xy, yy, radius)),
+          showSymbol: false,
+          silent: true,
+          lineStyle: { color: colour, width: radius === 1 ? 2 : 1.25, type: radius === 1 ? 'solid' : 'dashed' },
+          z: 5,
+          tooltip: { show: false },
+        });
+      }
     }
   }
+  const unplaced = components.filter((shape) => !segments.some((segment) => segment.segment === shape.segment));
+  if (unplaced.length) throw new RangeError(`Components ${unplaced.map((shape) => shape.component).join(', ')} belong to no segment of the run.`);
   return {
     ...baseOption,
     grid: { left: 64, right: 24, top: 48, bottom: 52 },

@@ -37,3 +37,11 @@ export function categoryAxis(name: string, data: (string | number)[], extra: Rec
     ...extra,
   };
 }
+
+/**
+ * Text for a tooltip formatter's HTML: ECharts writes what a formatter returns as markup, and
+ * segment names and reasons are the analyst's or the core's words, never markup.
+ */
+export function escapeHtml(text: string): string {
+  return text.replace(/[&<>"']/g, (character) => `&#${character.charCodeAt(0)};`);
+}

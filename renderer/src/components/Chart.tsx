@@ -10,14 +10,18 @@ interface ChartProps {
   testId: string;
   /** Called once the chart has finished drawing this option (ECharts' `finished` event). */
   onPainted?: () => void;
+  /** Called with the clicked item's data (a point of a series). */
+  onItemClick?: (data: unknown) => void;
 }
 
 /** One ECharts instance bound to a div; resized with its box and disposed on unmount. */
-export function Chart({ option, label, height = 320, testId, onPainted }: ChartProps) {
+export function Chart({ option, label, height = 320, testId, onPainted, onItemClick }: ChartProps) {
   const box = useRef<HTMLDivElement>(null);
   const instance = useRef<ReturnType<typeof echarts.init> | null>(null);
   const painted = useRef(onPainted);
   painted.current = onPainted;
+  const clicked = useRef(onItemClick);
+  clicked.current = onItemClick;
 
   useEffect(() => {
     const element = box.current;
@@ -26,6 +30,7 @@ export function Chart({ option, label, height = 320, testId, onPainted }: ChartP
     instance.current = chart;
     const observer = new ResizeObserver(() => chart.resize());
     observer.observe(element);
+    chart.on('click', (params: { data?: unknown }) => clicked.current?.(params.data));
     return () => {
       observer.disconnect();
       chart.dispose();

@@ -114,3 +114,29 @@ export function formatInUnit(value: number, unit: string, format: Formatters): s
       return `${format.decimal(value, 2)} ${unit}`;
   }
 }
+
+/** The text with its first letter in capitals (a sentence built from a phrase). */
+export function capitalise(text: string): string {
+  return text.charAt(0).toUpperCase() + text.slice(1);
+}
+
+/** "1 segment", "3 segments": a count with its noun in the right number. */
+export function countOf(count: number, singular: string, format: Formatters, plural = `${singular}s`): string {
+  return `${format.count(count)} ${count === 1 ? singular : plural}`;
+}
+
+/**
+ * A segment trait in words: "visit rate 6.1 visits/month — frequent (top 28 %)". The rank says
+ * where the segment's median sits among all placed customers: the top share above it when it is
+ * in the upper half, the bottom share below it otherwise.
+ */
+export function traitText(trait: { label: string; median: number; unit: string; percentile: number; words: string }, format: Formatters): string {
+  const value =
+    trait.unit === 'visits per month'
+      ? `${format.decimal(trait.median, 1)} visits/month`
+      : trait.unit === 'EUR per month'
+        ? `${formatInUnit(trait.median, 'EUR', format)}/month`
+        : formatInUnit(trait.median, trait.unit, format);
+  const rank = trait.percentile >= 0.5 ? `top ${format.percent(1 - trait.percentile, 0)}` : `bottom ${format.percent(trait.percentile, 0)}`;
+  return `${trait.label} ${value} — ${trait.words} (${rank})`;
+}

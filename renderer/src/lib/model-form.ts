@@ -1,4 +1,4 @@
-import type { ApiInput, CovarianceType, FeatureOption, FeatureTransformSpec, ModelOptions, RunSettings } from '../../../src/api/contract.js';
+import type { ApiInput, CovarianceType, FeatureOption, FeatureTransformSpec, InitMethod, ModelOptions, RunSettings } from '../../../src/api/contract.js';
 
 /**
  * The Model screen's settings form. Text boxes hold strings; this turns them into the startRun
@@ -16,8 +16,11 @@ export interface FeatureChoice {
   zScore: boolean;
 }
 
-/** Settings the form does not show (set from the command line or a settings file): kept as they were. */
-export type CarriedSettings = Pick<RunSettings, 'tol' | 'maxIterations' | 'regularization' | 'init' | 'reviewMoversBelowConfidence' | 'freshCategories' | 'source'>;
+/**
+ * Settings the form does not show, kept as they were: where the features come from (the options
+ * list only the features computed from receipts, so the form cannot offer an imported table's).
+ */
+export type CarriedSettings = Pick<RunSettings, 'source'>;
 
 export interface ModelForm {
   asOf: string;
@@ -30,14 +33,28 @@ export interface ModelForm {
   kMax: string;
   /** One structure, or 'auto' to sweep all four. */
   covariance: CovarianceType | 'auto';
+  /** Segments the components are combined into: the entropy curve's change point, or a number. */
+  segmentMode: 'auto' | 'fixed';
+  segmentCount: string;
   criterion: 'bic' | 'icl';
   restarts: string;
   seed: string;
+  init: InitMethod;
+  tol: string;
+  maxIterations: string;
+  regularization: string;
+  /** Departments counted as fresh, comma-separated as typed. */
+  freshCategories: string;
   borderlineConfidence: string;
   borderlineMargin: string;
   atypicalPercentile: string;
   minPurchases: string;
   minTenureMonths: string;
+  /** Also queue customers who changed segment with confidence below `moversBelow`. */
+  moversOn: boolean;
+  moversBelow: string;
+  /** Customers one person can review this month. */
+  reviewCapacity: string;
   carried: CarriedSettings;
 }
 
@@ -70,39 +87,45 @@ export function formFromSettings(options: ModelOptions, settings: RunSettings, a
     kMin: text(settings.kMin),
     kMax: text(settings.kMax),
     covariance: settings.covariance,
+    segmentMode: settings.segmentCount === 'auto' ? 'auto' : 'fixed',
+    segmentCount: settings.segmentCount === 'auto' ? '4' : String(settings.segmentCount),
     criterion: settings.criterion,
     restarts: text(settings.restarts),
     seed: text(settings.seed),
+    init: settings.init,
+    tol: text(settings.tol),
+    maxIterations: text(settings.maxIterations),
+    regularization: text(settings.regularization),
+    freshCategories: settings.freshCategories.join(', '),
     borderlineConfidence: text(settings.borderlineConfidence),
     borderlineMargin: text(settings.borderlineMargin),
     atypicalPercentile: text(settings.atypicalPercentile),
     minPurchases: text(settings.minPurchases),
     minTenureMonths: text(settings.minTenureMonths),
-    carried: {
-      tol: settings.tol,
-      maxIterations: settings.maxIterations,
-      regularization: settings.regularization,
-      init: settings.init,
-      reviewMoversBelowConfidence: settings.reviewMoversBelowConfidence,
-      freshCategories: settings.freshCategories,
-      source: settings.source,
-    },
+    moversOn: settings.reviewMoversBelowConfidence !== null,
+    moversBelow: text(settings.reviewMoversBelowConfidence ?? 0.6),
+    reviewCapacity: text(settings.reviewCapacity),
+    carried: { source: settings.source },
   };
 }
 
 export type FormErrors = Partial<Record<string, string>>;
 
-/** Reads a number typed in any locale's style ("0,7" as well as "0.7"). */
-export function readNumber(raw: string): number | null {
+/**
+ * Reads a number typed in any locale's style ("0,7" as well as "0.7"). Powers of ten ("1e-6")
+ * only where asked for (tolerances): elsewhere "1e3" is more likely a slip than a thousand.
+ */
+export function readNumber(raw: string, { exponent = false } = {}): number | null {
   const trimmed = raw.trim().replace(',', '.');
-  if (!/^-?\d+(\.\d+)?$/.test(trimmed)) return null;
+  const pattern = exponent ? /^-?\d+(\.\d+)?([eE][-+]?\d+)?$/ : /^-?\d+(\.\d+)?$/;
+  if (!pattern.test(trimmed)) return null;
   return Number(trimmed);
 }
 
 export function toStartRunInput(form: ModelForm): { input: ApiInput<'startRun'>; errors: FormErrors } {
   const errors: FormErrors = {};
-  const number = (field: keyof ModelForm & string): number => {
-    const value = readNumber(String(form[field]));
+  const number = (field: keyof ModelForm & string, options?: { exponent: boolean }): number => {
+    const value = readNumber(String(form[field]), options);
     if (value === null) {
       errors[field] = 'enter a number';
       return Number.NaN;
@@ -126,6 +149,10 @@ export function toStartRunInput(form: ModelForm): { input: ApiInput<'startRun'>;
       return { feature: choice.feature, log1p: choice.log1p, clipLowerPercentile, clipUpperPercentile, zScore: choice.zScore };
     });
   if (features.length === 0) errors.features = 'choose at least one feature';
+  const freshCategories = form.freshCategories
+    .split(',')
+    .map((name) => name.trim())
+    .filter(Boolean);
   const input: ApiInput<'startRun'> = {
     ...form.carried,
     asOf: form.asOf,
@@ -136,17 +163,31 @@ export function toStartRunInput(form: ModelForm): { input: ApiInput<'startRun'>;
     kMin: number('kMin'),
     kMax: number('kMax'),
     covariance: form.covariance,
+    // The grouping itself is not sent: a run's segments are changed after the fit (regroup), and a
+    // grouping of last month's components means nothing to a new fit.
+    segmentCount: form.segmentMode === 'auto' ? 'auto' : number('segmentCount'),
     criterion: form.criterion,
     restarts: number('restarts'),
     seed: number('seed'),
+    init: form.init,
+    tol: number('tol', { exponent: true }),
+    maxIterations: number('maxIterations'),
+    regularization: number('regularization', { exponent: true }),
+    // An empty list goes to the core as it is, which says it needs at least one department.
+    freshCategories,
     borderlineConfidence: number('borderlineConfidence'),
     borderlineMargin: number('borderlineMargin'),
     atypicalPercentile: number('atypicalPercentile'),
     minPurchases: number('minPurchases'),
     minTenureMonths: number('minTenureMonths'),
+    reviewMoversBelowConfidence: form.moversOn ? number('moversBelow') : null,
+    reviewCapacity: number('reviewCapacity'),
   };
   return { input, errors };
 }
+
+/** Settings whose form field has another name. */
+const fieldOfSetting: Partial<Record<string, keyof ModelForm>> = { reviewMoversBelowConfidence: 'moversBelow' };
 
 /** Zod issue paths from the core ("features.1.clipPercentile") onto the form's field keys. */
 export function errorsFromIssues(issues: { path: string; message: string }[] | undefined, form: ModelForm): FormErrors {
@@ -158,7 +199,7 @@ export function errorsFromIssues(issues: { path: string; message: string }[] | u
       const choice = selected[Number(parts[1])];
       errors[choice ? `features.${choice.feature}` : 'features'] = issue.message;
     } else {
-      errors[parts[0] || 'form'] = issue.message;
+      errors[fieldOfSetting[parts[0]] ?? (parts[0] || 'form')] = issue.message;
     }
   }
   return errors;

@@ -1,7 +1,8 @@
 /*
  * Certainty screen. Test ids: screen-certainty, slider-borderline-confidence,
  * slider-borderline-margin, slider-atypical-percentile, count-borderline, count-atypical,
- * certainty-histogram, borderline-table, borderline-row-<customer id>, certainty-no-run.
+ * certainty-histogram, queue-summary (see components/QueueSummary.tsx), borderline-table,
+ * borderline-row-<customer id>, certainty-no-run.
  */
 import { useCallback, useEffect, useMemo, useState } from 'react';
 import type { BorderlineRow } from '../../../src/api/contract.js';
@@ -10,6 +11,7 @@ import { segmentIndex, useWorkspace } from '../app/workspace.js';
 import { confidenceOption } from '../charts/certainty-charts.js';
 import { Chart } from '../components/Chart.js';
 import { ErrorNote, Loading } from '../components/Notice.js';
+import { QueueSummary } from '../components/QueueSummary.js';
 import { SegmentChip } from '../components/SegmentChip.js';
 import { VirtualTable, type Column } from '../components/VirtualTable.js';
 import { RunScreen } from './NoRun.js';
@@ -36,7 +38,7 @@ export function CertaintyScreen() {
 function CertaintyView({ runId }: { runId: number }) {
   const api = useApi();
   const format = useFormat();
-  const { runs, segments } = useWorkspace();
+  const { runs, segments, refreshSegments } = useWorkspace();
   const { byIndex } = segmentIndex(segments);
   const run = useLoad(() => api.runSummary({ runId }), `run:${runId}`);
   const stored = run.data?.settings;
@@ -165,6 +167,19 @@ function CertaintyView({ runId }: { runId: number }) {
         </div>
       </div>
       {summary.error ? <ErrorNote error={summary.error} onRetry={summary.reload} /> : null}
+      {shown ? (
+        <>
+          <QueueSummary
+            runId={runId}
+            queue={shown.queue}
+            onAccepted={() => {
+              summary.reload();
+              refreshSegments();
+            }}
+          />
+          <p className="caption">The stored run's review queue, at its own thresholds and capacity; the sliders above do not change it.</p>
+        </>
+      ) : null}
       <div className="panel">
         <h2>Confidence of each customer's segment</h2>
         {histogram ? (

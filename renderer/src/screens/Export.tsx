@@ -3,15 +3,16 @@
  * export-min-confidence, export-include-reviewed, export-format, export-csv-dialect,
  * export-csv-raw-ids, export-csv-raw-ids-warning, export-path, export-choose-path,
  * export-start, export-task (with -bar, -cancel, -dismiss), export-result, export-count-exported,
- * export-count-suppressed, export-upper-bound, export-no-run, export-download (browser: the
+ * export-count-suppressed, export-upper-bound, export-review-state, export-no-run, export-download (browser: the
  * download's state, data-state="saving|saved|failed").
  */
 import { useEffect, useMemo, useState } from 'react';
 import type { CsvDialect, ExportResult } from '../../../src/api/contract.js';
-import { useApi, useClient, useFormat, useTask } from '../app/client-context.js';
+import { useApi, useClient, useFormat, useLoad, useTask } from '../app/client-context.js';
 import { segmentIndex, useWorkspace } from '../app/workspace.js';
 import { SegmentChip } from '../components/SegmentChip.js';
 import { TaskPanel } from '../components/TaskPanel.js';
+import { queueWords } from '../lib/queue-words.js';
 import { NoRun } from './NoRun.js';
 
 export function ExportScreen() {
@@ -55,6 +56,9 @@ function ExportForm({ runId }: { runId: number }) {
   const folder = !inBrowser && database?.path ? database.path.replace(/[^\\/]*$/, '') : '';
   const [out, setOut] = useState(`${folder}${defaultFileName(runId, 'xlsx')}`);
   const [download, setDownload] = useState<{ state: 'saving' | 'saved' | 'failed'; message: string } | null>(null);
+  // Re-read with the segments: a review decision or "accept the rest" elsewhere changes the counts.
+  const run = useLoad(() => api.runSummary({ runId }), `export-run:${runId}:${segments?.segments.map((segment) => `${segment.key}=${segment.customers}`).join(',')}`);
+  const review = run.data?.runId === runId ? queueWords(run.data.review, format) : null;
   const task = useTask<'exportRun'>((result) => {
     if (!inBrowser) return;
     const name = result.out.split(/[\\/]/).pop() ?? result.out;
@@ -172,6 +176,13 @@ function ExportForm({ runId }: { runId: number }) {
               </p>
             ) : null}
           </fieldset>
+        ) : null}
+        {review ? (
+          <p className="note note-warning" data-testid="export-review-state">
+            Review of this run — {review.queue} {review.leftOut}
+            {review.decided ? ` ${review.decided}` : ''} Flagged customers without a decision are listed in the segment the model gives them and
+            marked in the Flags column: their segment is an estimate the model is unsure of.
+          </p>
         ) : null}
         <p className="quiet" data-testid="export-upper-bound">
           At most {format.count(upperBound)} placed customers in the chosen segments; the minimum confidence, review exclusions and

@@ -1,15 +1,16 @@
 /*
- * Review screen. Test ids: screen-review, review-progress (text "D of N done"), review-filter,
- * review-table, review-row-<customer id> (class is-done when decided), review-detail,
+ * Review screen. Test ids: screen-review, review-progress (text "D of N done"), review-scope,
+ * review-filter, queue-summary (see components/QueueSummary.tsx), review-table, review-row-<customer id> (class is-done when decided), review-detail,
  * review-keep, review-move-select, review-move, review-exclude, review-note,
- * review-decision, review-shortcuts, review-no-run.
+ * review-decision, review-worth, review-why, review-atypical-why, review-shortcuts, review-no-run.
  * Keyboard: see reviewShortcutHelp (↓/j, ↑/p, k, 1–9, x, n).
  */
 import { useCallback, useEffect, useRef, useState } from 'react';
-import type { ReviewAction, ReviewItem } from '../../../src/api/contract.js';
+import type { QueueCounts, ReviewAction, ReviewItem, ReviewScope } from '../../../src/api/contract.js';
 import { useApi, useFormat } from '../app/client-context.js';
 import { segmentIndex, useWorkspace } from '../app/workspace.js';
 import { ErrorNote } from '../components/Notice.js';
+import { QueueSummary } from '../components/QueueSummary.js';
 import { SegmentChip } from '../components/SegmentChip.js';
 import { VirtualTable, type Column } from '../components/VirtualTable.js';
 import { formatInUnit } from '../lib/format.js';
@@ -24,9 +25,17 @@ const reasonLabel: Record<ReviewItem['reasons'][number], string> = {
   mover: 'uncertain mover',
 };
 
+const scopeLabel: Record<ReviewScope, string> = {
+  queued: 'the queue',
+  unqueued: 'counted, not queued',
+  flagged: 'every flagged customer',
+};
+
 const actionLabel: Record<ReviewAction, string> = { keep: 'kept', move: 'moved', exclude: 'excluded' };
 
 const reasonsText = (item: ReviewItem) => item.reasons.map((reason) => reasonLabel[reason]).join(', ');
+/** The table's narrow column: the reasons' short names (the detail gives them in full). */
+const reasonsShort = (item: ReviewItem) => item.reasons.join(', ');
 
 /** "kept", "moved → Tier 2", "excluded", with the note when there is one. */
 function decisionText(decision: ReviewItem['decision']): string {
@@ -44,7 +53,9 @@ function ReviewView({ runId }: { runId: number }) {
   const { segments, refreshSegments, featureUnit } = useWorkspace();
   const { byIndex, ordered, nameOf } = segmentIndex(segments);
   const [status, setStatus] = useState<'all' | 'open' | 'done'>('all');
+  const [scope, setScope] = useState<ReviewScope>('queued');
   const [counts, setCounts] = useState<{ total: number; done: number } | null>(null);
+  const [queue, setQueue] = useState<QueueCounts | null>(null);
   const [version, setVersion] = useState(0);
   const [selected, setSelected] = useState<number>(0);
   const [current, setCurrent] = useState<ReviewItem | null>(null);
@@ -56,11 +67,12 @@ function ReviewView({ runId }: { runId: number }) {
 
   const fetchQueue = useCallback(
     (offset: number, limit: number) =>
-      api.reviewQueue({ runId, offset, limit, status }).then((page) => {
+      api.reviewQueue({ runId, offset, limit, status, scope }).then((page) => {
         setCounts({ total: page.total, done: page.done });
+        setQueue(page.queue);
         return page.rows;
       }),
-    [api, runId, status],
+    [api, runId, status, scope],
   );
 
   useEffect(() => {
@@ -131,9 +143,10 @@ function ReviewView({ runId }: { runId: number }) {
 
   const columns: Column<ReviewItem>[] = [
     { key: 'state', header: '', width: '1.2rem', render: (row) => (row.decision ? <span className="done-mark" aria-label="done">✓</span> : null) },
-    { key: 'id', header: 'customer', width: '7rem', render: (row) => <code>{row.customerId}</code> },
-    { key: 'reason', header: 'reason', width: 'minmax(9rem, 1fr)', render: (row) => reasonsText(row) },
-    { key: 'stake', header: 'at stake', width: '6rem', align: 'right', render: (row) => format.euros(row.revenue) },
+    { key: 'id', header: 'customer', width: '6.5rem', render: (row) => <code>{row.customerId}</code> },
+    { key: 'reason', header: 'reason', width: 'minmax(7rem, 1fr)', render: (row) => <span title={reasonsText(row)}>{reasonsShort(row)}</span> },
+    { key: 'stake', header: 'at stake', width: '5.5rem', align: 'right', render: (row) => format.euros(row.revenue) },
+    { key: 'worth', header: 'worth', width: '5.5rem', align: 'right', render: (row) => format.eurosPrecise(row.value) },
     { key: 'top', header: 'model says', width: 'minmax(8rem, 1.2fr)', render: (row) => <SegmentChip segment={byIndex.get(row.segment ?? -1)} fallback={row.segmentName ?? '—'} /> },
     { key: 'decision', header: 'decision', width: 'minmax(6rem, 1fr)', render: (row) => decisionText(row.decision) },
   ];
@@ -142,12 +155,36 @@ function ReviewView({ runId }: { runId: number }) {
     <section className="screen" data-testid="screen-review">
       <header className="screen-head">
         <h1>Review</h1>
-        <p className="lede">Borderline and atypical customers, most spend at stake first. A decision changes the customer's final segment.</p>
+        <p className="lede">
+          Borderline and atypical customers, ordered by what a decision is worth: spend at stake × how unsure the model is. The queue holds as many as
+          one person can review this month; a decision changes the customer's final segment.
+        </p>
       </header>
+      {queue ? (
+        <QueueSummary
+          runId={runId}
+          queue={queue}
+          onAccepted={(next) => {
+            setQueue(next);
+            setVersion((v) => v + 1);
+            refreshSegments();
+          }}
+        />
+      ) : null}
       <div className="review-bar">
         <div className="review-progress" data-testid="review-progress" aria-live="polite">
           {counts ? `${format.count(counts.done)} of ${format.count(counts.total)} done` : '…'}
         </div>
+        <label>
+          list
+          <select value={scope} onChange={(e) => { setScope(e.target.value as ReviewScope); setSelected(0); }} data-testid="review-scope">
+            {(Object.keys(scopeLabel) as ReviewScope[]).map((entry) => (
+              <option key={entry} value={entry}>
+                {scopeLabel[entry]}
+              </option>
+            ))}
+          </select>
+        </label>
         <label>
           show
           <select value={status} onChange={(e) => { setStatus(e.target.value as typeof status); setSelected(0); }} data-testid="review-filter">
@@ -164,7 +201,7 @@ function ReviewView({ runId }: { runId: number }) {
             columns={columns}
             total={total}
             fetchPage={fetchQueue}
-            version={`${status}:${version}`}
+            version={`${scope}:${status}:${version}`}
             testId="review-table"
             label="Review queue"
             rowTestId={(row) => `review-row-${row.customerId}`}
@@ -188,6 +225,11 @@ function ReviewView({ runId }: { runId: number }) {
                 <dt>runner-up</dt>
                 <dd>
                   <SegmentChip segment={byIndex.get(current.secondSegment ?? -1)} /> {current.secondProbability === null ? '' : format.probability(current.secondProbability)}
+                </dd>
+                <dt>worth</dt>
+                <dd data-testid="review-worth">
+                  {format.eurosPrecise(current.value)} = {format.euros(Math.max(0, current.revenue))} at stake × {format.probability(current.uncertainty)} unsure
+                  {current.queued ? '' : ' · not queued (beyond the capacity)'}
                 </dd>
                 <dt>last month</dt>
                 <dd>
@@ -219,7 +261,16 @@ function ReviewView({ runId }: { runId: number }) {
                   })}
                 </tbody>
               </table>
-              {current.why ? <p className="why-line">{current.why.text}</p> : null}
+              {current.why ? (
+                <p className="why-line" data-testid="review-why">
+                  {current.why.text}
+                </p>
+              ) : null}
+              {current.atypicalWhy ? (
+                <p className="why-line atypical-line" data-testid="review-atypical-why">
+                  Fits no segment well: {current.atypicalWhy.text}.
+                </p>
+              ) : null}
               <label className="note-field">
                 note
                 <textarea ref={noteBox} value={note} onChange={(e) => setNote(e.target.value)} rows={2} maxLength={2000} data-testid="review-note" />

@@ -1,9 +1,11 @@
 /*
  * Segments screen. Test ids: screen-segments (data-painted="true" once cards and both charts are
- * drawn), segment-card-<spend rank>, segment-name-<spend rank>, segment-rename-<spend rank>,
- * segment-rename-input, segment-rename-save, segment-rename-cancel, scatter-x, scatter-y,
- * segments-scatter, scatter-caption, distribution-feature, segments-distribution,
- * segments-no-run.
+ * drawn), segment-card-<spend rank>, segment-name-<spend rank>, segment-default-name-<spend rank>,
+ * segment-traits-<spend rank>, segment-components-<spend rank>, segment-rename-<spend rank>,
+ * segment-rename-input, segment-rename-save, segment-rename-cancel, segment-split-<spend rank>,
+ * merge-first, merge-second, merge-apply, regroup-task (with -bar, -cancel, -dismiss),
+ * regroup-result, scatter-x, scatter-y, segments-scatter, scatter-caption, distribution-feature,
+ * segments-distribution, segments-no-run.
  *
  * Paint timing: the screen marks `segments:start` when it mounts and `segments:painted` once
  * every card and chart has drawn, with the measure `segments:paint` between them.
@@ -11,18 +13,17 @@
 import { useCallback, useEffect, useMemo, useRef, useState } from 'react';
 import type { SegmentProfile } from '../../../src/api/contract.js';
 import { useApi, useFormat, useLoad } from '../app/client-context.js';
+import { RegroupPanel, useRegroup } from '../app/regroup.js';
 import { segmentIndex, useWorkspace } from '../app/workspace.js';
 import { colourOf, distributionOption, scatterOption } from '../charts/segment-charts.js';
 import { Chart } from '../components/Chart.js';
 import { ErrorNote, Loading } from '../components/Notice.js';
-import { axisUnit, formatInUnit, sampleCaption } from '../lib/format.js';
+import { axisUnit, capitalise, countOf, formatInUnit, sampleCaption, traitText, type Formatters } from '../lib/format.js';
 import { toApiError } from '../lib/task-state.js';
 import { RunScreen } from './NoRun.js';
 
 /** Points the scatter asks the core for; the core draws a seeded random sample of this size. */
 const scatterSampleSize = 5000;
-
-const capitalise = (text: string) => text.charAt(0).toUpperCase() + text.slice(1);
 
 export function SegmentsScreen() {
   const { segments } = useWorkspace();
@@ -95,9 +96,16 @@ function SegmentsView({ runId }: { runId: number }) {
     `distribution:${runId}:${distributionFeature}`,
   );
 
+  // A merge or split renumbers the run's segments: the sample and the distribution carry segment
+  // indices, so they are read again with the new profiles.
+  const regroup = useRegroup(runId, () => {
+    sample.reload();
+    distribution.reload();
+  });
+
   const scatter = useMemo(() => {
     if (!sample.data || !segments) return null;
-    return scatterOption(segments.segments, sample.data, xIndex, yIndex, {
+    return scatterOption(segments.segments, segments.components, sample.data, xIndex, yIndex, {
       x: `${featureLabel(features[xIndex])} (model scale)`,
       y: `${featureLabel(features[yIndex])} (model scale)`,
     });
@@ -113,12 +121,15 @@ function SegmentsView({ runId }: { runId: number }) {
       <header className="screen-head">
         <h1>Segments</h1>
         <p className="lede">
-          {format.count(ordered.reduce((sum, s) => sum + s.customers, 0))} placed customers in {ordered.length} segments, ordered by spend.
+          {format.count(ordered.reduce((sum, s) => sum + s.customers, 0))} placed customers in {countOf(ordered.length, 'segment', format)} made of{' '}
+          {countOf(segments?.components.length ?? 0, 'Gaussian component', format)}, ordered by spend.
         </p>
       </header>
+      <MergeBar segments={ordered} regroup={regroup} />
+      <RegroupPanel regroup={regroup} format={format} />
       <div className="cards" data-testid="segment-cards">
         {ordered.map((segment) => (
-          <SegmentCard key={segment.segment} runId={runId} segment={segment} />
+          <SegmentCard key={segment.key} runId={runId} segment={segment} regroup={regroup} />
         ))}
       </div>
 
@@ -136,7 +147,8 @@ function SegmentsView({ runId }: { runId: number }) {
             <Chart option={scatter} label="Scatter of customers by segment with density ellipses" height={420} testId="segments-scatter" onPainted={() => notePainted('scatter')} />
             <p className="caption" data-testid="scatter-caption">
               {sampleCaption(sample.data.points.length, sample.data.totalCustomers, format)}. Solid rings: 1 standard deviation of
-              each segment's fitted density; dashed: 2. Axes are the model's transformed scale.
+              each Gaussian component, in the colour of its segment (a segment of several components has several rings); dashed: 2. Axes are
+              the model's transformed scale.
             </p>
           </>
         ) : sample.loading ? (
@@ -175,7 +187,65 @@ function SegmentsView({ runId }: { runId: number }) {
   );
 }
 
-function SegmentCard({ runId, segment }: { runId: number; segment: SegmentProfile }) {
+/** Merge two segments into one (a regroup of the stored run). */
+function MergeBar({ segments, regroup }: { segments: SegmentProfile[]; regroup: ReturnType<typeof useRegroup> }) {
+  const [first, setFirst] = useState('');
+  const [second, setSecond] = useState('');
+  if (segments.length < 2) return null;
+  const known = (key: string) => segments.some((segment) => segment.key === key);
+  const ready = known(first) && known(second) && first !== second;
+  const choose = (value: string, onChange: (key: string) => void, testId: string, other: string) => (
+    <select value={value} onChange={(e) => onChange(e.target.value)} data-testid={testId}>
+      <option value="">choose a segment</option>
+      {segments.map((segment) => (
+        <option key={segment.key} value={segment.key} disabled={segment.key === other}>
+          {segment.name}
+        </option>
+      ))}
+    </select>
+  );
+  return (
+    <div className="regroup-bar">
+      <span className="regroup-bar-title">Merge two segments</span>
+      {choose(first, setFirst, 'merge-first', second)}
+      <span>with</span>
+      {choose(second, setSecond, 'merge-second', first)}
+      <button
+        type="button"
+        className="button"
+        disabled={!ready || regroup.running}
+        onClick={() => {
+          // By index (unambiguous, and current: the profiles are re-read after every regroup).
+          const indexOf = (key: string) => segments.find((segment) => segment.key === key)!.segment;
+          regroup.regroup({ merge: [indexOf(first), indexOf(second)] });
+          setFirst('');
+          setSecond('');
+        }}
+        data-testid="merge-apply"
+      >
+        Merge
+      </button>
+      <span className="hint">
+        Changes this stored run in place; memberships, flags, the review queue and movement are recomputed. A segment made of several components can be
+        split again on its card.
+      </span>
+    </div>
+  );
+}
+
+/** A trait list, most distinctive first. */
+function Traits({ segment, format }: { segment: SegmentProfile; format: Formatters }) {
+  if (!segment.traits.length) return null;
+  return (
+    <ul className="card-traits" data-testid={`segment-traits-${segment.spendRank}`}>
+      {segment.traits.map((trait) => (
+        <li key={trait.feature}>{traitText(trait, format)}</li>
+      ))}
+    </ul>
+  );
+}
+
+function SegmentCard({ runId, segment, regroup }: { runId: number; segment: SegmentProfile; regroup: ReturnType<typeof useRegroup> }) {
   const api = useApi();
   const format = useFormat();
   const { refreshSegments, featureLabel } = useWorkspace();
@@ -246,7 +316,14 @@ function SegmentCard({ runId, segment }: { runId: number; segment: SegmentProfil
           </form>
         ) : (
           <>
-            <h3 data-testid={`segment-name-${rank}`}>{segment.name}</h3>
+            <div className="card-title">
+              <h3 data-testid={`segment-name-${rank}`}>{segment.name}</h3>
+              {segment.renamed ? (
+                <span className="card-default-name" data-testid={`segment-default-name-${rank}`}>
+                  default name: {segment.defaultName}
+                </span>
+              ) : null}
+            </div>
             <button type="button" className="button-quiet" onClick={() => { setDraft(segment.name); setEditing(true); }} data-testid={`segment-rename-${rank}`} aria-label={`Rename ${segment.name}`}>
               Rename
             </button>
@@ -254,6 +331,23 @@ function SegmentCard({ runId, segment }: { runId: number; segment: SegmentProfil
         )}
       </header>
       {problem ? <p className="field-error" role="alert">{problem}</p> : null}
+      <Traits segment={segment} format={format} />
+      <p className="card-components" data-testid={`segment-components-${rank}`}>
+        {segment.components.length === 1 ? 'component ' : 'components '}
+        {segment.components.map((component) => `C${component + 1}`).join(', ')}
+        {segment.components.length > 1 ? (
+          <button
+            type="button"
+            className="button-quiet"
+            disabled={regroup.running}
+            onClick={() => regroup.regroup({ split: { segment: segment.segment, parts: segment.components.map((component) => [component]) } })}
+            data-testid={`segment-split-${rank}`}
+            title="Make one segment of each of its components"
+          >
+            Split into {segment.components.length}
+          </button>
+        ) : null}
+      </p>
       <dl className="card-figures">
         <div>
           <dt>customers</dt>

@@ -401,8 +401,11 @@ const api: Api = {
     const base: Record<string, number> = { full: 0, diag: 4_200, spherical: 9_800, tied: 2_100 };
     for (const covariance of ['full', 'diag', 'spherical', 'tied'] as const) {
       for (let k = 2; k <= 8; k++) {
-        const bic = 301_544 + base[covariance] + 2_600 * (k - 4) ** 2 - (k > 4 ? 1_500 * (k - 4) : 0);
-        rows.push({ k, covariance, logLikelihood: -bic / 2, bic, aic: bic - 300, icl: bic + 6_000 + 900 * k, parameterCount: k * 10, converged: true, iterations: 40 + k, warnings: [], refused: null, chosen: covariance === 'full' && k === 4 });
+        // Large full fits leave a component with a handful of customers: lower BIC, but refused.
+        const collapsed = covariance === 'full' && k >= 7;
+        const bic = 301_544 + base[covariance] + 2_600 * (k - 6) ** 2 - (collapsed ? 40_000 : 0);
+        const refused = collapsed ? `component ${k} has ${k === 7 ? '3.2' : '1.0'} effective members; a full covariance in 3 features needs at least 4` : null;
+        rows.push({ k, covariance, logLikelihood: -bic / 2, bic, aic: bic - 300, icl: bic + 6_000 + 900 * k, parameterCount: k * 10, converged: true, iterations: 40 + k, warnings: [], refused, chosen: covariance === 'full' && k === 6 });
       }
     }
     return rows;

@@ -47,10 +47,25 @@ await page.waitForSelector('[data-testid="app-shell"]');
 for (const screen of screens) {
   await page.click(`[data-testid="nav-${screen.id}"]`);
   await page.waitForSelector(screen.ready, { timeout: 60_000 });
+  if (screen.id === 'segments') {
+    // A renamed segment shows its trait-built default name under the analyst's name.
+    await page.click('[data-testid="segment-rename-2"]');
+    await page.fill('[data-testid="segment-rename-input"]', 'Weekday regulars');
+    await page.click('[data-testid="segment-rename-save"]');
+    await page.waitForSelector('[data-testid="segment-default-name-2"]');
+  }
   await page.waitForTimeout(400);
   const file = join(outDir, `${screen.id}.png`);
   await page.screenshot({ path: file, fullPage: true });
   console.log(`saved ${file}`);
+  if (screen.id === 'review') {
+    // The next queued customer is only atypical: the detail gives the extreme features instead of the borderline sentence.
+    await page.keyboard.press('j');
+    await page.waitForSelector('[data-testid="review-atypical-why"]', { timeout: 10_000 });
+    const atypical = join(outDir, 'review-atypical.png');
+    await page.screenshot({ path: atypical, fullPage: true });
+    console.log(`saved ${atypical}`);
+  }
 }
 
 // The Export screen once more with the CSV choices open (dialect, raw ids and its warning).
