@@ -15,7 +15,7 @@ import { fitTransform, transformValue, untransformValue, type FeatureTransform }
 import { featureWindow } from '../features/window.js';
 import { bayesianInformationCriterion, integratedCompletedLikelihood, parameterCount, matchComponents, scoreRows, type GaussianComponent, type DataMatrix, type MixtureModel } from '../model/index.js';
 import { computeFlags } from './flags.js';
-import { fitForRun, type StoredSweepRow } from './fit.js';
+import { fitForRun, fittingMessage, type StoredSweepRow } from './fit.js';
 import { countMovement, driftWarnings, segmentMoments, type StoredMovement } from './movement.js';
 import { carryNames, keyNumber, nameFirstRun, type NamedSegment } from './naming.js';
 import { latestEarlierRunId, loadParentRun, type ParentRun } from './parent.js';
@@ -66,8 +66,9 @@ export async function runSegmentation(db: Database, input: ExplicitRunSettings, 
   if (settings.mode === 'rescore') {
     model = parent!.model;
   } else {
-    report('fit', 0, 0, 'Fitting mixtures');
-    const fitted = await fitForRun(data, settings, { signal, onProgress: (fit) => report('fit', 0, 0, 'Fitting mixtures', { fit }) });
+    const fitting = fittingMessage(settings.fitSample, data.rows);
+    report('fit', 0, 0, fitting);
+    const fitted = await fitForRun(data, settings, { signal, onProgress: (fit) => report('fit', 0, 0, fitting, { fit }) });
     model = fitted.model;
     sweep = fitted.sweep;
     warnings = fitted.warnings;

@@ -1,6 +1,7 @@
 /** One run's summary and detail (the Model screen, `refresh --json`, `runs --run ID --settings-out`). */
 import type { Database } from 'better-sqlite3';
 import type { RunDetail, RunSummary } from '../../api/contract.js';
+import { fittedCustomerCount } from '../fit.js';
 import { runSegments } from './run-segments.js';
 import { storedRun } from './stored-run.js';
 
@@ -41,5 +42,6 @@ export function getRunDetail(db: Database, runId: number): RunDetail {
     criterion: run.criterion,
     retiredSegments: run.retired.map((segment) => segment.name),
     warnings: run.warnings,
+    fittedOn: run.mode === 'rescore' ? null : fittedCustomerCount(run.settings.fitSample, run.customers),
   };
 }

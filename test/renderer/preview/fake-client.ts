@@ -205,7 +205,7 @@ function pretendTask<M extends keyof TaskResults>(method: M, result: TaskResults
 }
 
 const runSettings: ApiOutput<'runSummary'>['settings'] = {
-  asOf: '2026-11-30', windowMonths: 12, mode: 'refit', parentRunId: null, source: 'receipts', k: 'auto', kMin: 2, kMax: 8, covariance: 'auto', criterion: 'bic',
+  asOf: '2026-11-30', windowMonths: 12, mode: 'refit', parentRunId: null, source: 'receipts', k: 'auto', kMin: 2, kMax: 8, covariance: 'auto', criterion: 'bic', fitSample: null,
   restarts: 5, seed: 0, tol: 1e-3, maxIterations: 200, regularization: 1e-6, init: 'kmeans', borderlineConfidence: 0.7, borderlineMargin: 0.2,
   atypicalPercentile: 1, reviewMoversBelowConfidence: null, minPurchases: 2, minTenureMonths: 2, freshCategories: ['fresh', 'bakery'],
   features: featureNames.map((feature) => ({ feature, log1p: true, clipLowerPercentile: null, clipUpperPercentile: null, zScore: true })),
@@ -221,6 +221,7 @@ function summary(runId: number): ApiOutput<'runSummary'> {
     asOf: runId > 1 ? '2026-11-30' : '2026-10-31', windowMonths: 12, mode: 'refit', createdAt: '2026-12-01T09:12:00Z', settings: runSettings,
     features: featureNames.map((feature) => ({ feature, log1p: true, clipLowerPercentile: null, clipUpperPercentile: null, zScore: true })),
     storedFeatures: Object.keys(featureLabels), logLikelihood: -150_600.3, icl: 309_870.5, criterion: 'bic', retiredSegments: [], warnings: [],
+    fittedOn: totalCustomers,
   };
 }
 
