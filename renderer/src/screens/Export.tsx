@@ -3,7 +3,7 @@
  * export-min-confidence, export-include-reviewed, export-format, export-path, export-choose-path,
  * export-start, export-task (with -bar, -cancel, -dismiss), export-result, export-count-exported,
  * export-count-suppressed, export-upper-bound, export-no-run, export-download (browser: the
- * download's state, data-state="saving|saved|failed").
+ * download's state, data-state="saving|saved|failed"); model-sql… (ScoreInDatabase.tsx).
  */
 import { useEffect, useMemo, useState } from 'react';
 import type { ExportResult } from '../../../src/api/contract.js';
@@ -12,6 +12,7 @@ import { segmentIndex, useWorkspace } from '../app/workspace.js';
 import { SegmentChip } from '../components/SegmentChip.js';
 import { TaskPanel } from '../components/TaskPanel.js';
 import { NoRun } from './NoRun.js';
+import { ScoreInDatabase } from './ScoreInDatabase.js';
 
 export function ExportScreen() {
   const { runId, appInfo } = useWorkspace();
@@ -28,6 +29,7 @@ export function ExportScreen() {
         ))}
       </aside>
       {runId === null ? <NoRun screen="export" /> : <ExportForm key={runId} runId={runId} />}
+      {runId === null ? null : <ScoreInDatabase key={`sql-${runId}`} runId={runId} />}
     </section>
   );
 }
