@@ -50,14 +50,15 @@ describe('text from input files on the terminal', () => {
 
   it('a binary file given as receipts: the refusal shows its bytes escaped, exit 2', () => {
     const receipts = binaryFile('not-receipts.csv');
-    const human = cli('import', '--db', join(folder, 'a.db'), '--receipts', receipts);
+    // Read as Windows-1252, so the bytes reach the header check (as UTF-8 the file is refused before).
+    const human = cli('import', '--db', join(folder, 'a.db'), '--receipts', receipts, '--encoding', 'windows-1252');
     expect(human.code).toBe(2);
     expect(human.stderr).toMatch(/^spendmix: The receipts file lacks required columns/);
     expect(human.stderr).not.toMatch(RAW_CONTROL);
     expect(human.stderr).toMatch(/\\x[01][0-9a-f]/);
     expect(human.stdout).toBe('');
 
-    const json = cli('import', '--db', join(folder, 'a.db'), '--receipts', receipts, '--json');
+    const json = cli('import', '--db', join(folder, 'a.db'), '--receipts', receipts, '--encoding', 'windows-1252', '--json');
     expect(json.code).toBe(2);
     expect(json.stdout).toBe('');
     expect(json.stderr).not.toMatch(RAW_CONTROL);

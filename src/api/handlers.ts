@@ -103,6 +103,8 @@ export const handlers = {
       sheet: input.sheet,
       dateFormat: input.dateOrder,
       decimalComma: input.decimalSeparator === ',',
+      encoding: input.encoding,
+      plausibleDates: input.plausibleDates,
     });
     return { ...preview, mapping: toScreenMapping(preview.mapping) };
   },

@@ -51,6 +51,8 @@ function importOne(db: Database, input: ApiParsedInput<'importFile'>, context: L
       maxRejectedShare: input.rejectionThreshold,
       sheet: input.sheet,
       delimiter: input.delimiter === undefined ? undefined : (delimiterNames[input.delimiter as keyof typeof delimiterNames] ?? input.delimiter),
+      encoding: input.encoding,
+      plausibleDates: input.plausibleDates,
     },
     signal: context.signal,
     onProgress: (progress) =>

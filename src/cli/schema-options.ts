@@ -29,7 +29,14 @@ export function flagValue(schema: z.ZodType, raw: string): unknown {
 
 function describeField(schema: z.ZodType, words: string): string {
   const { defaultValue } = fieldShape(schema);
-  const shown = Array.isArray(defaultValue) ? defaultValue.join(',') : defaultValue === null ? 'none' : defaultValue;
+  // An object default (a date range) is described by the field's own words instead.
+  const shown = Array.isArray(defaultValue)
+    ? defaultValue.join(',')
+    : defaultValue === null
+      ? 'none'
+      : typeof defaultValue === 'object'
+        ? undefined
+        : defaultValue;
   return `${words}${shown === undefined || shown === '' ? '' : ` (default ${String(shown)})`}`;
 }
 

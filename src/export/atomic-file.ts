@@ -15,9 +15,12 @@ export interface FileOperations {
   rename: (from: string, to: string) => Promise<void>;
   /** Opens an existing file for writing and closes it again: fails when another program holds it. */
   probeWritable: (path: string) => Promise<void>;
+  /** Creates the temporary file's stream (tests play a disk that fills up). */
+  createStream: (path: string) => WriteStream;
 }
 
 export const nodeFileOperations: FileOperations = {
+  createStream: (path) => createWriteStream(path, { flags: 'wx' }),
   rename,
   probeWritable: async (path) => {
     const handle = await open(path, 'r+');
@@ -55,9 +58,16 @@ export function describeWriteProblem(path: string, error: unknown): string | und
   }
 }
 
+/**
+ * A path problem as an InputError saying why in words; the original error stays reachable as
+ * `cause`, and its `code` (EACCES, ENOSPC, …) is kept on the error itself, so a caller that sorts
+ * failures by their cause in the user's environment sees it.
+ */
 function asPathError(path: string, error: unknown): unknown {
   const problem = describeWriteProblem(path, error);
-  return problem === undefined ? error : new InputError(`${problem}.`, { path, code: errorCode(error) });
+  if (problem === undefined) return error;
+  const code = errorCode(error);
+  return Object.assign(new InputError(`${problem}.`, { path, code }), { code, cause: error });
 }
 
 /** Checks the target before any work: its folder exists, it is not a folder, no one holds it open. */
@@ -102,7 +112,7 @@ export async function writeFileAtomically<T>(
   const files = options.files ?? nodeFileOperations;
   await checkTarget(path, files);
   const temporary = temporaryPathFor(path);
-  const output = createWriteStream(temporary, { flags: 'wx' });
+  const output = files.createStream(temporary);
   const streamFailed = new AbortController();
   let streamError: unknown;
   output.on('error', (error) => {
@@ -113,8 +123,9 @@ export async function writeFileAtomically<T>(
   // A stream that fails before exceljs listens for it would leave the write waiting forever.
   const failed = new Promise<never>((_, reject) => output.once('error', reject));
   failed.catch(() => undefined);
+  let writing: Promise<T> | undefined;
   try {
-    const writing = write(output, signal);
+    writing = write(output, signal);
     writing.catch(() => undefined);
     const result = await Promise.race([writing, failed]);
     if (!output.closed) await once(output, 'close');
@@ -124,6 +135,10 @@ export async function writeFileAtomically<T>(
   } catch (error) {
     // Decide the cause before closing: destroying the stream makes pending writes fail too.
     const cause = streamError ?? error;
+    // Let the writer stop (the failed stream fired its signal) before returning: it may still be
+    // reading the database, and a caller closing the connection under an open cursor would fail
+    // with "busy executing a query", hiding this error.
+    await writing?.catch(() => undefined);
     await closeStream(output);
     await rm(temporary, { force: true });
     if (cause instanceof CancelledError && options.signal?.aborted) throw cause;

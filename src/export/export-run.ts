@@ -9,7 +9,7 @@ import { extname, resolve } from 'node:path';
 import { InputError, throwIfAborted } from '../errors.js';
 import { resolveRunId } from '../runs/read/stored-run.js';
 import { writeFileAtomically, type FileOperations } from './atomic-file.js';
-import { writeCsvList } from './csv-writer.js';
+import { csvDialects, csvFormat, writeCsvList, type CsvDialect } from './csv-writer.js';
 import { planExport, type ExportProgress } from './passes.js';
 import { runExportSource } from './run-source.js';
 import { resolveCampaignFilter, suppressedCount } from './selection.js';
@@ -28,6 +28,10 @@ export interface ExportOptions {
   minConfidence?: number;
   /** Default true: customers with a keep or move decision are listed. */
   includeReviewed?: boolean;
+  /** CSV: comma-separated with a decimal point (default), or semicolon-separated with a decimal comma. */
+  csvDialect?: CsvDialect;
+  /** CSV: text beginning like a formula is written as it is, without the apostrophe (for lists another system reads by id). */
+  csvRawIds?: boolean;
   signal?: AbortSignal;
   onProgress?: (progress: ExportProgress) => void;
   /** Rows per customer sheet, header included (default Excel's 1,048,576). */
@@ -62,6 +66,10 @@ export async function exportSource(source: ExportSource, options: ExportOptions)
     { segments: options.segments, minConfidence: options.minConfidence, includeReviewed: options.includeReviewed },
     source.segments.map((segment) => segment.name),
   );
+  if (options.csvDialect !== undefined && !csvDialects.includes(options.csvDialect)) {
+    throw new InputError(`The CSV dialect must be ${csvDialects.join(' or ')}; got "${String(options.csvDialect)}".`);
+  }
+  const csv = csvFormat(options.csvDialect, options.csvRawIds ?? false);
   throwIfAborted(options.signal);
   const written = await writeFileAtomically(
     out,
@@ -69,7 +77,7 @@ export async function exportSource(source: ExportSource, options: ExportOptions)
       const passOptions = { signal, onProgress: options.onProgress };
       const plan = await planExport(source, filter, passOptions);
       if (format === 'csv') {
-        await writeCsvList({ source, filter, plan, output, ...passOptions });
+        await writeCsvList({ source, filter, plan, output, format: csv, ...passOptions });
         return { names: [] as string[], plan };
       }
       const names = await writeWorkbook({ source, filter, plan, output, rowsPerSheet: options.rowsPerSheet, ...passOptions });

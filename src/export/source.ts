@@ -8,8 +8,11 @@ import type { ExportCustomerRow } from '../runs/types.js';
 
 export type { ExportCustomerRow } from '../runs/types.js';
 
-/** How a value is shown: decides the number format of its column. */
-export type ValueKind = 'eur' | 'share' | 'probability' | 'count' | 'decimal' | 'text' | 'date' | 'datetime';
+/**
+ * How a value is shown: decides the number format of its column. `number` is a setting shown as
+ * it is (0.001, 1E-06: Excel's General format).
+ */
+export type ValueKind = 'eur' | 'share' | 'probability' | 'count' | 'decimal' | 'number' | 'text' | 'date' | 'datetime';
 
 /** A feature column in original units (customer sheets) or a median column (overview). */
 export interface FeatureColumn {

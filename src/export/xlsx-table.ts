@@ -6,8 +6,9 @@
  * style lookup per cell; measured in test/bench/export-vs-bare-exceljs.ts).
  */
 import type ExcelJS from 'exceljs';
-import { neutraliseFormulaText } from './formula-safety.js';
+import { startsLikeFormula } from './formula-safety.js';
 import { numberFormats, type CellValue, type Column } from './columns.js';
+import { quotedTextFormat, type FilterRange } from './xlsx-package-extras.js';
 import { letZipCatchUp, rowsPerYield } from './zip-flow.js';
 
 /** Excel's limit: rows per worksheet, the header included. */
@@ -25,17 +26,50 @@ export function columnStyle(column: Column<never>): Partial<ExcelJS.Style> {
   return numFmt === null ? {} : { numFmt };
 }
 
-/** A value as it goes into a cell: text neutralised, non-finite numbers empty, dates as dates. */
+/** A value as it goes into a cell: text as it is, non-finite numbers empty, dates as dates. */
 export function cellValue(value: CellValue): CellValue {
-  if (typeof value === 'string') return neutraliseFormulaText(value);
+  if (typeof value === 'string') return value;
   if (typeof value === 'number') return Number.isFinite(value) ? value : null;
   if (value instanceof Date) return Number.isNaN(value.getTime()) ? null : value;
   return null;
 }
 
+const quotedStyles = new WeakMap<Partial<ExcelJS.Style>, Partial<ExcelJS.Style>>();
+
+/**
+ * The style of a cell: its column's, or for formula-shaped text the same with the text format,
+ * which marks it for the quote prefix (xlsx-package-extras.ts). One quoted style per base style
+ * object, as exceljs resolves styles by object.
+ */
+export function cellStyle(value: CellValue, base: Partial<ExcelJS.Style>): Partial<ExcelJS.Style> {
+  if (typeof value !== 'string' || !startsLikeFormula(value)) return base;
+  let quoted = quotedStyles.get(base);
+  if (quoted === undefined) {
+    quoted = { ...base, numFmt: quotedTextFormat };
+    quotedStyles.set(base, quoted);
+  }
+  return quoted;
+}
+
+/** 1 → A, 26 → Z, 27 → AA. */
+export function columnLetters(column: number): string {
+  let letters = '';
+  for (let rest = column; rest > 0; rest = Math.floor((rest - 1) / 26)) letters = String.fromCharCode(65 + ((rest - 1) % 26)) + letters;
+  return letters;
+}
+
 /** "Customers", then "Customers 2", "Customers 3", … */
 export function continuationSheetName(baseName: string, part: number): string {
   return part === 1 ? baseName : `${baseName} ${part}`;
+}
+
+export interface TableOptions {
+  /** Rows per sheet, header included (default Excel's limit). */
+  rowsPerSheet?: number;
+  /** Collects each sheet's auto-filter range, by sheet name, for the filter database names. */
+  filters?: Map<string, FilterRange>;
+  /** Stops a wait for the zip (a failed output never drains). */
+  signal?: AbortSignal;
 }
 
 export class TableSheetWriter<Row> {
@@ -45,12 +79,18 @@ export class TableSheetWriter<Row> {
   private readonly styles: Partial<ExcelJS.Style>[];
   private readonly dataRowsPerSheet: number;
 
+  private readonly filters: Map<string, FilterRange>;
+  private readonly signal: AbortSignal | undefined;
+
   constructor(
     private readonly workbook: ExcelJS.stream.xlsx.WorkbookWriter,
     private readonly baseName: string,
     private readonly columns: readonly Column<Row>[],
-    rowsPerSheet = excelMaxRows,
+    options: TableOptions = {},
   ) {
+    const rowsPerSheet = options.rowsPerSheet ?? excelMaxRows;
+    this.filters = options.filters ?? new Map();
+    this.signal = options.signal;
     if (!Number.isInteger(rowsPerSheet) || rowsPerSheet < 2 || rowsPerSheet > excelMaxRows) {
       throw new RangeError(`rowsPerSheet must be a whole number from 2 to ${excelMaxRows}; got ${rowsPerSheet}.`);
     }
@@ -66,11 +106,12 @@ export class TableSheetWriter<Row> {
   async add(row: Row): Promise<void> {
     if (this.sheet === null || this.rowsInSheet === this.dataRowsPerSheet) this.openSheet();
     const sheet = this.sheet as ExcelJS.Worksheet;
-    const written = sheet.addRow(this.columns.map((column) => cellValue(column.value(row))));
-    for (let index = 0; index < this.styles.length; index++) written.getCell(index + 1).style = this.styles[index];
+    const values = this.columns.map((column) => cellValue(column.value(row)));
+    const written = sheet.addRow(values);
+    for (let index = 0; index < this.styles.length; index++) written.getCell(index + 1).style = cellStyle(values[index], this.styles[index]);
     written.commit();
     this.rowsInSheet++;
-    if (this.rowsInSheet % rowsPerYield === 0) await letZipCatchUp(sheet);
+    if (this.rowsInSheet % rowsPerYield === 0) await letZipCatchUp(sheet, this.signal);
   }
 
   /** Closes and commits the current sheet (an empty table still gets its header sheet); returns every sheet name. */
@@ -100,6 +141,8 @@ export class TableSheetWriter<Row> {
       from: { row: 1, column: 1 },
       to: { row: this.rowsInSheet + 1, column: this.columns.length },
     };
+    const name = this.sheet.name;
+    this.filters.set(name, { sheetIndex: this.sheet.id - 1, sheetName: name, range: `A1:${columnLetters(this.columns.length)}${this.rowsInSheet + 1}` });
   }
 
   private openSheet(): void {
@@ -113,7 +156,7 @@ export class TableSheetWriter<Row> {
     });
     sheet.columns = this.columns.map((column) => ({ width: column.width }));
     const header = sheet.addRow(this.columns.map((column) => cellValue(column.header)));
-    header.eachCell((cell) => (cell.style = headerStyle));
+    header.eachCell((cell, column) => (cell.style = cellStyle(this.columns[column - 1].header, headerStyle)));
     header.commit();
     this.sheetNames.push(name);
     this.sheet = sheet;

@@ -6,13 +6,14 @@
  */
 import ExcelJS from 'exceljs';
 import type { Writable } from 'node:stream';
-import { throwIfAborted } from '../errors.js';
+import { CancelledError, throwIfAborted } from '../errors.js';
 import { cautions } from './cautions.js';
 import { movementColumns, numberFormats, reviewColumns, customerColumns, type CellValue, type MovementRow } from './columns.js';
 import { streamListedCustomers, type ExportPlan, type PassOptions } from './passes.js';
 import { describeFilter, suppressedCount, type CampaignFilter } from './selection.js';
 import type { ExportSource, ValueKind } from './source.js';
-import { cellValue, excelMaxRows, headerStyle, TableSheetWriter } from './xlsx-table.js';
+import { cellStyle, cellValue, headerStyle, TableSheetWriter } from './xlsx-table.js';
+import { declarePackageExtras, type FilterRange } from './xlsx-package-extras.js';
 
 export const sheetNames = { overview: 'Overview', customers: 'Customers', review: 'Review', movement: 'Movement' } as const;
 
@@ -31,13 +32,26 @@ const kindStyles = new Map<ValueKind | 'none', Partial<ExcelJS.Style>>(
 const titleStyle: Partial<ExcelJS.Style> = { font: { bold: true, size: 14 } };
 const sectionStyle: Partial<ExcelJS.Style> = { font: { bold: true, size: 12 } };
 const wrapStyle: Partial<ExcelJS.Style> = { alignment: { wrapText: true, vertical: 'top' } };
+/** A sub-line's label is indented by the cell style, not by leading spaces (LibreOffice drops those). */
+const indentStyle: Partial<ExcelJS.Style> = { alignment: { indent: 2 } };
 
-/** Adds one overview line; cell kinds give number formats, text is neutralised like every cell. */
-function addLine(sheet: ExcelJS.Worksheet, values: CellValue[], kinds: (ValueKind | undefined)[] = [], style?: Partial<ExcelJS.Style>): void {
-  const row = sheet.addRow(values.map(cellValue));
-  values.forEach((_, index) => {
+/**
+ * Adds one overview line; cell kinds give number formats, formula-shaped text is quote-prefixed
+ * like every cell. `labelStyle` styles the first cell only (an indented sub-line).
+ */
+function addLine(
+  sheet: ExcelJS.Worksheet,
+  values: CellValue[],
+  kinds: (ValueKind | undefined)[] = [],
+  style?: Partial<ExcelJS.Style>,
+  labelStyle?: Partial<ExcelJS.Style>,
+): void {
+  const cells = values.map(cellValue);
+  const row = sheet.addRow(cells);
+  cells.forEach((value, index) => {
     const cell = row.getCell(index + 1);
-    cell.style = style ?? kindStyles.get(kinds[index] ?? 'text') ?? {};
+    const base = index === 0 && labelStyle ? labelStyle : (style ?? kindStyles.get(kinds[index] ?? 'text') ?? {});
+    cell.style = cellStyle(value, base);
   });
   row.commit();
 }
@@ -86,7 +100,7 @@ function writeOverview(workbook: ExcelJS.stream.xlsx.WorkbookWriter, job: Workbo
   addLine(sheet, ['All segments', sum((s) => s.customers), sum((s) => s.share), sum((s) => s.revenue), sum((s) => s.revenueShare)], segmentKinds);
 
   addSection(sheet, 'Customers in the run');
-  const count = (label: string, value: number) => addLine(sheet, [label, value], [undefined, 'count']);
+  const count = (label: string, value: number, labelStyle?: Partial<ExcelJS.Style>) => addLine(sheet, [label, value], [undefined, 'count'], undefined, labelStyle);
   count('Placed in a segment', header.counts.placed);
   count('Too new to place', header.counts.tooNew);
   count('Borderline', header.counts.borderline);
@@ -96,8 +110,8 @@ function writeOverview(workbook: ExcelJS.stream.xlsx.WorkbookWriter, job: Workbo
   for (const line of describeFilter(filter)) addLine(sheet, [line.label, line.value]);
   count('Customers listed', plan.tally.listed);
   count('Suppressed: no marketing consent (refused or unknown)', suppressedCount(plan.tally));
-  count('   of which refused', plan.tally.noConsent);
-  count('   of which unknown', plan.tally.unknownConsent);
+  count('of which refused', plan.tally.noConsent, indentStyle);
+  count('of which unknown', plan.tally.unknownConsent, indentStyle);
   count('Left out: excluded by review', plan.tally.excludedByReview);
   count('Left out: not in the chosen segments', plan.tally.otherSegment);
   count('Left out: below the minimum confidence', plan.tally.belowConfidence);
@@ -114,15 +128,15 @@ function writeOverview(workbook: ExcelJS.stream.xlsx.WorkbookWriter, job: Workbo
   sheet.commit();
 }
 
-async function writeReview(workbook: ExcelJS.stream.xlsx.WorkbookWriter, job: WorkbookJob): Promise<string[]> {
-  const table = new TableSheetWriter(workbook, sheetNames.review, reviewColumns());
+async function writeReview(workbook: ExcelJS.stream.xlsx.WorkbookWriter, job: WorkbookJob, filters: Map<string, FilterRange>): Promise<string[]> {
+  const table = new TableSheetWriter(workbook, sheetNames.review, reviewColumns(), { filters, signal: job.signal });
   for (const row of job.plan.reviewListed) await table.add(row);
   return table.finish();
 }
 
-async function writeMovement(workbook: ExcelJS.stream.xlsx.WorkbookWriter, job: WorkbookJob): Promise<string[]> {
+async function writeMovement(workbook: ExcelJS.stream.xlsx.WorkbookWriter, job: WorkbookJob, filters: Map<string, FilterRange>): Promise<string[]> {
   const { movement } = job.source;
-  const table = new TableSheetWriter<MovementRow>(workbook, sheetNames.movement, movementColumns(movement?.currentSegments ?? []));
+  const table = new TableSheetWriter<MovementRow>(workbook, sheetNames.movement, movementColumns(movement?.currentSegments ?? []), { filters, signal: job.signal });
   if (movement !== null) {
     for (const [index, label] of movement.parentSegments.entries()) await table.add({ label, counts: movement.counts[index] ?? [] });
   }
@@ -142,28 +156,53 @@ async function writeMovement(workbook: ExcelJS.stream.xlsx.WorkbookWriter, job: 
   return table.finish();
 }
 
+/** The promise, or a CancelledError as soon as the signal fires. */
+async function untilAborted<T>(promise: Promise<T>, signal: AbortSignal | undefined): Promise<T> {
+  if (!signal) return promise;
+  promise.catch(() => undefined); // its failure, if the signal won, is the signal's cause
+  throwIfAborted(signal);
+  let onAbort = () => {};
+  const aborted = new Promise<never>((_, reject) => {
+    onAbort = () => reject(new CancelledError());
+    signal.addEventListener('abort', onAbort, { once: true });
+  });
+  try {
+    return await Promise.race([promise, aborted]);
+  } finally {
+    signal.removeEventListener('abort', onAbort);
+  }
+}
+
 /** Writes the whole workbook to `output`; resolves with the sheet names once the zip is complete. */
 export async function writeWorkbook(job: WorkbookJob): Promise<string[]> {
   const workbook = new ExcelJS.stream.xlsx.WorkbookWriter({ stream: job.output, useSharedStrings: false, useStyles: true });
   workbook.creator = 'Spendmix';
+  const filters = new Map<string, FilterRange>();
+  const extras = declarePackageExtras(workbook, () => [...filters.values()]);
   const sheets: string[] = [sheetNames.overview];
   job.onProgress?.({ phase: 'overview', done: 0, total: 1, message: 'Writing the overview' });
   writeOverview(workbook, job);
 
-  const customers = new TableSheetWriter(workbook, sheetNames.customers, customerColumns(job.source.customerFeatureColumns), job.rowsPerSheet ?? excelMaxRows);
+  const customers = new TableSheetWriter(workbook, sheetNames.customers, customerColumns(job.source.customerFeatureColumns), {
+    rowsPerSheet: job.rowsPerSheet,
+    filters,
+    signal: job.signal,
+  });
   await streamListedCustomers(job.source, job.filter, job.plan, (row) => customers.add(row), job);
   sheets.push(...customers.finish());
 
   throwIfAborted(job.signal);
   job.onProgress?.({ phase: 'review', done: 0, total: job.plan.reviewListed.length, message: 'Writing the review sheet' });
-  sheets.push(...(await writeReview(workbook, job)));
+  sheets.push(...(await writeReview(workbook, job, filters)));
   throwIfAborted(job.signal);
   job.onProgress?.({ phase: 'movement', done: 0, total: 1, message: 'Writing the movement sheet' });
-  sheets.push(...(await writeMovement(workbook, job)));
+  sheets.push(...(await writeMovement(workbook, job, filters)));
 
   throwIfAborted(job.signal);
   job.onProgress?.({ phase: 'finishing', done: 0, total: 1, message: 'Finishing the workbook' });
-  // Resolves once the zip is finalised and the output stream has finished.
-  await workbook.commit();
+  // Resolves once the zip is finalised and the output stream has finished. A failed output (a full
+  // disk) never finishes: the signal (fired by the failure) ends the wait instead.
+  await untilAborted(workbook.commit(), job.signal);
+  extras.verify();
   return sheets;
 }

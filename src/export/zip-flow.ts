@@ -10,6 +10,7 @@
  * yield and only lose the wait.
  */
 import { setImmediate as nextTurn, setTimeout as sleep } from 'node:timers/promises';
+import { throwIfAborted } from '../errors.js';
 
 /** Yield to the event loop every this many rows (measured: 32 keeps the deflater busy). */
 export const rowsPerYield = 32;
@@ -32,10 +33,17 @@ export function queuedSheetBytes(worksheet: unknown): number {
   return typeof length === 'number' ? length : 0;
 }
 
-/** Lets the zip catch up: one event-loop turn, and a wait while the queue is above the high water. */
-export async function letZipCatchUp(worksheet: unknown): Promise<void> {
+/**
+ * Lets the zip catch up: one event-loop turn, and a wait while the queue is above the high water.
+ * The signal ends the wait: once the output has failed, the queue never drains.
+ */
+export async function letZipCatchUp(worksheet: unknown, signal?: AbortSignal): Promise<void> {
   await nextTurn();
+  throwIfAborted(signal);
   if (queuedSheetBytes(worksheet) <= highWaterBytes) return;
   // Sleep rather than spin: the deflater runs on libuv's thread pool and needs no help from us.
-  while (queuedSheetBytes(worksheet) > lowWaterBytes) await sleep(2);
+  while (queuedSheetBytes(worksheet) > lowWaterBytes) {
+    await sleep(2);
+    throwIfAborted(signal);
+  }
 }

@@ -21,7 +21,7 @@ import {
   savedMapping,
   type ImportKind,
 } from '../store/imports-repo.js';
-import { probeFile, type FileProbe } from './file-probe.js';
+import { ENCODING_CHOICES, probeFile, type EncodingChoice, type FileProbe } from './file-probe.js';
 import { parseInWorker } from './parallel-parse.js';
 import { fileTotalsContext, strideOf, validateRecords, type ValidatedBatch, type ValidationContext } from './record-validator.js';
 import { maxRowId, receiptAmountAfter, suspendSecondaryIndexes, useBulkLoadSettings, useRollbackJournalForLoad } from '../store/bulk-load.js';
@@ -29,7 +29,7 @@ import { ImportReport } from './import-report.js';
 import { resolveMapping, type ColumnMapping, type ResolvedMapping } from './mapping.js';
 import { openRecordSource, type RecordSource } from './record-source.js';
 import { makeRowConverter, STORE_VALUE_INDEX } from './row-converters.js';
-import { DATE_FORMATS, type DateFormat } from './values.js';
+import { checkDateRange, DATE_FORMATS, type DateFormat, type DateRange } from './values.js';
 
 export interface ImportOptions {
   /** How non-ISO dates are read; ISO dates are always accepted. Default 'iso' (others rejected). */
@@ -46,6 +46,10 @@ export interface ImportOptions {
   reportDir?: string;
   /** Parse CSV in a worker thread (default: for files of 4 MiB and more, see useWorker). */
   parseInWorker?: boolean;
+  /** CSV: how the text is encoded (default UTF-8; bytes that are not UTF-8 are refused, naming this choice). */
+  encoding?: EncodingChoice;
+  /** Dates outside this range are rejected as implausible (the API contract holds the default); absent = any date. */
+  plausibleDates?: DateRange;
 }
 
 export type ImportPhase = 'checking' | 'reading' | 'indexing' | 'committing' | 'done';
@@ -79,7 +83,9 @@ export type { ImportResult };
 
 export const DEFAULT_MAX_REJECTED_SHARE = 0.05;
 
-function validateRequest(request: ImportRequest): Required<Pick<ImportOptions, 'dateFormat' | 'decimalComma' | 'maxRejectedShare'>> {
+function validateRequest(
+  request: ImportRequest,
+): Required<Pick<ImportOptions, 'dateFormat' | 'decimalComma' | 'maxRejectedShare' | 'encoding'>> & Pick<ImportOptions, 'plausibleDates'> {
   if (!IMPORT_KINDS.includes(request.kind)) {
     throw new InputError(`Unknown import kind "${request.kind}"; expected one of ${IMPORT_KINDS.join(', ')}.`);
   }
@@ -93,7 +99,10 @@ function validateRequest(request: ImportRequest): Required<Pick<ImportOptions, '
   if (!Number.isFinite(maxRejectedShare) || maxRejectedShare < 0 || maxRejectedShare > 1) {
     throw new InputError(`The maximum rejected share must be between 0 and 1; got ${maxRejectedShare}.`);
   }
-  return { dateFormat, decimalComma: options.decimalComma ?? false, maxRejectedShare };
+  const encoding = options.encoding ?? 'utf-8';
+  if (!ENCODING_CHOICES.includes(encoding)) throw new InputError(`The encoding must be one of ${ENCODING_CHOICES.join(', ')}; got "${encoding}".`);
+  const plausibleDates = options.plausibleDates ? checkDateRange(options.plausibleDates) : undefined;
+  return { dateFormat, decimalComma: options.decimalComma ?? false, maxRejectedShare, encoding, plausibleDates };
 }
 
 function reportPathFor(db: Database, request: ImportRequest): string {
@@ -156,7 +165,7 @@ export async function importFile(db: Database, request: ImportRequest): Promise<
   let totalBytes = 0;
   const progress = (phase: ImportPhase, rows: number, bytes: number) => onProgress?.({ phase, rows, bytes, totalBytes });
 
-  const probe = await probeFile(file, signal, (bytes) => progress('checking', 0, bytes));
+  const probe = await probeFile(file, signal, (bytes) => progress('checking', 0, bytes), undefined, settings.encoding);
   totalBytes = probe.bytes;
   const earlier = findImportByHash(db, kind, probe.contentHash);
   const alreadyImported = (): ImportResult => ({

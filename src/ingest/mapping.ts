@@ -58,6 +58,7 @@ export function resolveMapping(input: MappingInput): ResolvedMapping {
   const { kind, header } = input;
   const specs = KIND_FIELDS[kind];
   const known = new Set(specs.map((spec) => spec.name));
+  refuseDuplicateColumns(header);
   const byHeader = new Map<string, number>();
   header.forEach((column, index) => {
     const key = normaliseHeader(column);
@@ -145,6 +146,27 @@ export function resolveMapping(input: MappingInput): ResolvedMapping {
     }
   }
   return { fieldIndex, mapping, featureColumns, unusedColumns, missing, usedSaved };
+}
+
+/**
+ * Two columns with one name (ignoring case and spacing, as the mapping does) would leave it to
+ * chance which one a field reads, and the saved mapping could not tell them apart: refused,
+ * naming them. Unnamed columns do not count.
+ */
+function refuseDuplicateColumns(header: readonly string[]): void {
+  const positions = new Map<string, number[]>();
+  header.forEach((column, index) => {
+    const key = normaliseHeader(column);
+    if (key !== '') positions.set(key, [...(positions.get(key) ?? []), index + 1]);
+  });
+  const duplicates = [...positions.values()].filter((columns) => columns.length > 1);
+  if (duplicates.length === 0) return;
+  const described = duplicates.map((columns) => `"${header[columns[0] - 1].trim()}" (columns ${columns.slice(0, -1).join(', ')} and ${columns.at(-1)})`);
+  throw new InputError(
+    `The file has ${duplicates.length === 1 ? 'two columns with the same name' : 'columns with the same names'}: ${described.join('; ')}. ` +
+      'Give each column its own name in the file: columns are mapped, and the mapping saved, by name.',
+    { duplicateColumns: duplicates.map((columns) => ({ name: header[columns[0] - 1].trim(), columns })) },
+  );
 }
 
 function listColumns(header: readonly string[]): string {

@@ -4,12 +4,12 @@ import { InputError } from '../errors.js';
 import { isoDateFromDay } from '../store/days.js';
 import { savedMapping, type ImportKind } from '../store/imports-repo.js';
 import { FIELD_DESCRIPTIONS, KIND_FIELDS } from './fields.js';
-import { probeFile } from './file-probe.js';
+import { probeFile, type EncodingChoice } from './file-probe.js';
 import { resolveMapping, type ColumnMapping } from './mapping.js';
 import { openRecordSource } from './record-source.js';
 import { makeRowConverter, type RowValues } from './row-converters.js';
 import { validateRecords } from './record-validator.js';
-import type { DateFormat } from './values.js';
+import { checkDateRange, type DateFormat, type DateRange } from './values.js';
 
 export interface PreviewRequest {
   path: string;
@@ -19,6 +19,8 @@ export interface PreviewRequest {
   sheet?: string;
   dateFormat?: DateFormat;
   decimalComma?: boolean;
+  encoding?: EncodingChoice;
+  plausibleDates?: DateRange;
 }
 
 /** The first rows of a file as the importer would read them (the Sources screen's preview), its mapping column → field. */
@@ -56,8 +58,12 @@ function namedValues(kind: ImportKind, values: RowValues, featureNames: string[]
 export async function previewFile(db: Database | undefined, request: PreviewRequest): Promise<FilePreview> {
   const limit = request.rows ?? 20;
   if (!Number.isInteger(limit) || limit < 1 || limit > 1000) throw new InputError(`Preview rows must be 1 to 1000; got ${limit}.`);
-  const probe = await probeFile(request.path, undefined, undefined, PREVIEW_BYTES);
-  const settings = { dateFormat: request.dateFormat ?? 'iso', decimalComma: request.decimalComma ?? false };
+  const probe = await probeFile(request.path, undefined, undefined, PREVIEW_BYTES, request.encoding);
+  const settings = {
+    dateFormat: request.dateFormat ?? 'iso',
+    decimalComma: request.decimalComma ?? false,
+    plausibleDates: request.plausibleDates ? checkDateRange(request.plausibleDates) : undefined,
+  };
   const source = await openRecordSource(probe, { sheet: request.sheet, decimalComma: settings.decimalComma });
   try {
     const saved = db ? savedMapping(db, request.kind) : undefined;

@@ -8,14 +8,17 @@ import {
   parseFeatureValue,
   parseWholeNumber,
   type DateFormat,
+  type DateRange,
   type ParsedDate,
   type Rejection,
 } from './values.js';
-import { isoDateFromDay } from '../store/days.js';
+import { dayFromIsoDate, isoDateFromDay } from '../store/days.js';
 
 export interface ReadOptions {
   dateFormat: DateFormat;
   decimalComma: boolean;
+  /** Dates outside this range (ISO, inclusive) are rejected as implausible; absent = no range. */
+  plausibleDates?: DateRange;
 }
 
 /** Why one row was kept out: which column, its value, and the reason (a line of the report). */
@@ -67,13 +70,24 @@ export function makeRowConverter(kind: ImportKind, resolved: ResolvedMapping, he
   const customerAt = index('customer_id');
   const dateAt = index('date');
   const timeAt = index('time');
+  const plausible = options.plausibleDates;
+  const firstDay = plausible ? dayFromIsoDate(plausible.from) : Number.NEGATIVE_INFINITY;
+  const lastDay = plausible ? dayFromIsoDate(plausible.to) : Number.POSITIVE_INFINITY;
+  const implausible: Rejection = {
+    reason: `date outside the plausible range ${plausible?.from} to ${plausible?.to}; if it is right, widen the range (--plausible-dates FROM..TO)`,
+  };
+  /** A date cell parsed, then held to the plausible range. */
+  const parseDate = (raw: string): ParsedDate | Rejection => {
+    const parsed = parseDateTime(raw, options.dateFormat);
+    return isRejection(parsed) || (parsed.day >= firstDay && parsed.day <= lastDay) ? parsed : implausible;
+  };
   let lastDateText = '';
   let lastDate: ParsedDate | Rejection = { reason: 'date is empty' };
   const readDate = (fields: readonly string[]): ParsedDate | RowRejection => {
     const raw = fields[dateAt];
     if (raw !== lastDateText) {
       lastDateText = raw;
-      lastDate = parseDateTime(raw, options.dateFormat);
+      lastDate = parseDate(raw);
     }
     if (isRejection(lastDate)) return reject('date', raw, lastDate);
     if (timeAt >= 0 && lastDate.time === null) {
@@ -136,7 +150,7 @@ export function makeRowConverter(kind: ImportKind, resolved: ResolvedMapping, he
         let joined: string | null = null;
         const joinedText = text(fields, joinedAt);
         if (joinedText !== null) {
-          const parsed = parseDateTime(joinedText, options.dateFormat);
+          const parsed = parseDate(joinedText);
           if (isRejection(parsed)) return reject('joined', joinedText, parsed);
           joined = isoDateFromDay(parsed.day);
         }

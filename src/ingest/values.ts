@@ -1,3 +1,4 @@
+import { InputError } from '../errors.js';
 import { dayFromParts } from '../store/days.js';
 
 /**
@@ -14,6 +15,25 @@ export function isRejection(value: unknown): value is Rejection {
 }
 
 export type DateFormat = 'iso' | 'day-first' | 'month-first';
+
+/** An inclusive range of calendar dates, `YYYY-MM-DD`. */
+export interface DateRange {
+  from: string;
+  to: string;
+}
+
+/** Checks a plausible-date range: two real ISO dates, the first not after the second. */
+export function checkDateRange(range: DateRange): DateRange {
+  const valid = (text: string) => {
+    const match = /^(\d{4})-(\d{2})-(\d{2})$/.exec(text);
+    return match !== null && dayFromParts(Number(match[1]), Number(match[2]), Number(match[3])) !== undefined;
+  };
+  if (!valid(range.from) || !valid(range.to) || range.from > range.to) {
+    throw new InputError(`The plausible date range must be two dates YYYY-MM-DD, the first not after the second; got ${range.from} to ${range.to}.`);
+  }
+  return range;
+}
+
 export const DATE_FORMATS: readonly DateFormat[] = ['iso', 'day-first', 'month-first'];
 
 export interface ParsedDate {
@@ -130,6 +150,34 @@ export function parseDateTime(raw: string, format: DateFormat): ParsedDate | Rej
 export function parseAmountCents(raw: string, decimalComma: boolean): number | Rejection {
   const fast = parsePlainAmountFast(raw, decimalComma ? 44 : 46);
   if (fast !== undefined) return fast;
+  const parsed = parseAmountText(raw, decimalComma);
+  if (typeof parsed === 'number' || /decimal (comma|point)/.test(parsed.reason)) return parsed;
+  return otherDecimalMarkHint(raw, decimalComma) ?? parsed;
+}
+
+const DECIMAL_COMMA_SHAPE = /^[-+(]?\s*€?\s*\d{1,3}(?:[.\s'\u00a0\u202f]\d{3})*,\d+\s*€?\s*[-)]?$/;
+const DECIMAL_POINT_SHAPE = /^[-+(]?\s*€?\s*\d{1,3}(?:[,\s'\u00a0\u202f]\d{3})*\.\d+\s*€?\s*[-)]?$/;
+const POINT_GROUPED_THOUSANDS = /^[-+(]?\s*€?\s*\d{1,3}(?:\.\d{3})+\s*€?\s*[-)]?$/;
+
+/**
+ * When a refused amount is written with the other decimal mark (`1.234,56` read with a decimal
+ * point), the reason says so and names the setting, instead of a puzzling "more than 2 decimals".
+ */
+function otherDecimalMarkHint(raw: string, decimalComma: boolean): Rejection | undefined {
+  const text = raw.trim();
+  if (!decimalComma && DECIMAL_COMMA_SHAPE.test(text)) {
+    return { reason: 'amount looks like it has a decimal comma (as in 1.234,56); choose --decimal-comma for this file' };
+  }
+  if (!decimalComma && POINT_GROUPED_THOUSANDS.test(text)) {
+    return { reason: 'amount has 3 decimals; if the point groups thousands (1.234 for 1234), choose --decimal-comma for this file' };
+  }
+  if (decimalComma && DECIMAL_POINT_SHAPE.test(text)) {
+    return { reason: 'amount looks like it has a decimal point (as in 1,234.56), but the file is read with --decimal-comma' };
+  }
+  return undefined;
+}
+
+function parseAmountText(raw: string, decimalComma: boolean): number | Rejection {
   let text = raw.trim();
   if (text.length === 0) return { reason: 'amount is empty' };
   let negative = false;

@@ -4,14 +4,18 @@ import { describe, expect, it } from 'vitest';
 import {
   apiSchemas,
   covarianceTypes,
+  csvDialects,
   exportFormats,
   explicitRunSettings,
+  importEncodings,
   importKinds,
   initMethods,
   longTaskMethods,
   startRunInput,
 } from '../../src/api/contract.js';
+import { csvDialects as csvWriterDialects } from '../../src/export/csv-writer.js';
 import { exportFormats as exportWriterFormats } from '../../src/export/export-run.js';
+import { ENCODING_CHOICES } from '../../src/ingest/file-probe.js';
 import { covarianceTypes as engineCovarianceTypes, initMethods as engineInitMethods } from '../../src/model/types.js';
 import { IMPORT_KINDS } from '../../src/store/imports-repo.js';
 
@@ -84,5 +88,7 @@ describe('the API contract', () => {
     expect([...initMethods]).toEqual([...engineInitMethods]);
     expect([...importKinds]).toEqual([...IMPORT_KINDS]);
     expect([...exportFormats]).toEqual([...exportWriterFormats]);
+    expect([...csvDialects]).toEqual([...csvWriterDialects]);
+    expect([...importEncodings]).toEqual([...ENCODING_CHOICES]);
   });
 });

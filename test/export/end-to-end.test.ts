@@ -8,6 +8,8 @@ import { mkdtempSync, readdirSync, readFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { exportRunInput } from '../../src/api/contract.js';
+import { runLongTask } from '../../src/api/long-tasks.js';
 import { cli } from '../support/run-cli.js';
 import { importFile } from '../../src/ingest/import-file.js';
 import type { MembershipRow } from '../../src/api/contract.js';
@@ -156,6 +158,28 @@ describe('export of a real run of the demo sample', () => {
       listed += customerIds.length;
     }
     expect(listed).toBeGreaterThan(0);
+  });
+
+  it('the overview stores the convergence tolerance and the regularisation as numbers', () => {
+    const entries = new Map((sheet(book, 'Overview').rows ?? []).map((row) => [row[0]?.v, row[1]]));
+    expect(entries.get('Convergence tolerance')).toMatchObject({ t: 'n', v: 0.001, f: 'General' });
+    expect(entries.get('Covariance regularisation')).toMatchObject({ t: 'n', v: 1e-6, f: 'General' });
+  });
+
+  it('--csv-dialect semicolon and --csv-raw-ids through the CLI, and the same through the API task', async () => {
+    const out = join(outDir, 'semicolon.csv');
+    const result = await cli('export', '--db', dbPath, '--run', 'latest', '--out', out, '--csv-dialect', 'semicolon', '--csv-raw-ids', '--json');
+    expect(result.code, result.stderr).toBe(0);
+    const lines = readFileSync(out, 'utf8').split('\r\n');
+    expect(lines[0]).toBe('\uFEFFCustomer id;Final segment;Model segment;Confidence;Second segment;Second probability;Flags;Review decision;Marketing consent;Spend in window (EUR);Spend per month (EUR per month);Visit rate (visits per month);Basket size (EUR)');
+    expect(lines[1].split(';')[3]).toMatch(/^0,\d{4}$/);
+    expect(lines[1].split(';')[9]).toMatch(/^-?\d+,\d\d$/);
+    const viaTask = join(outDir, 'task.csv');
+    await runLongTask({ method: 'exportRun', dbPath, input: exportRunInput.parse({ runId, out: viaTask, format: 'csv', csvDialect: 'semicolon', csvRawIds: true }) }, { signal: new AbortController().signal, onProgress: () => {} });
+    expect(readFileSync(viaTask, 'utf8')).toBe(readFileSync(out, 'utf8'));
+    const bad = await cli('export', '--db', dbPath, '--run', 'latest', '--out', join(outDir, 'x.csv'), '--csv-dialect', 'tab');
+    expect(bad.code).toBe(2);
+    expect(bad.stderr).toContain('(csvDialect, --csv-dialect) must be one of comma, semicolon (got "tab")');
   });
 
   it('refuses bad input with exit code 2, a clear message and no file', async () => {

@@ -15,6 +15,8 @@ export interface ReadCell {
   t: string;
   /** Number format. */
   f: string;
+  /** The cell style's quote-prefix flag (text kept as text when edited); absent when off. */
+  q?: boolean;
 }
 
 export interface ReadSheet {
@@ -32,6 +34,7 @@ export interface ReadWorkbook {
   reader: string;
   sheets: ReadSheet[];
   formulaElements: number;
+  definedNames: { name: string; localSheetId: number | null; hidden: boolean; value: string }[];
 }
 
 /** Debian installs openpyxl for /usr/bin/python3; another python3 first on PATH may lack it. */

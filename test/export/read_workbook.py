@@ -1,6 +1,7 @@
 """Reads a workbook with openpyxl (Debian's python3-openpyxl), independently of exceljs, and
 prints one JSON object: per sheet its name, size, header, frozen pane, auto-filter, column
-widths and, with --values, every cell as value, openpyxl data type and number format. It also
+widths and, with --values, every cell as value, openpyxl data type, number format and (when set)
+the quote-prefix flag; and the workbook's defined names. It also
 counts formula elements (<f>) in the raw sheet XML, so a test can prove no formula was written.
 
 Usage: python3 read_workbook.py FILE.xlsx [--values]
@@ -10,6 +11,7 @@ import json
 import re
 import sys
 import zipfile
+from xml.etree import ElementTree
 
 import openpyxl
 from openpyxl import load_workbook
@@ -19,7 +21,10 @@ def cell_json(cell):
     value = cell.value
     if isinstance(value, (datetime.datetime, datetime.date)):
         value = value.isoformat()
-    return {"v": value, "t": cell.data_type, "f": cell.number_format}
+    entry = {"v": value, "t": cell.data_type, "f": cell.number_format}
+    if cell.quotePrefix:
+        entry["q"] = True
+    return entry
 
 
 def main():
@@ -47,7 +52,19 @@ def main():
             for name in archive.namelist()
             if name.startswith("xl/worksheets/") and name.endswith(".xml")
         )
-    json.dump({"reader": "openpyxl " + openpyxl.__version__, "sheets": sheets, "formulaElements": formulas}, sys.stdout)
+        # openpyxl keeps no _xlnm._FilterDatabase names, so they are read from the workbook part itself.
+        main = "{http://schemas.openxmlformats.org/spreadsheetml/2006/main}"
+        root = ElementTree.fromstring(archive.read("xl/workbook.xml"))
+        defined = [
+            {
+                "name": element.get("name"),
+                "localSheetId": None if element.get("localSheetId") is None else int(element.get("localSheetId")),
+                "hidden": element.get("hidden") in ("1", "true"),
+                "value": element.text,
+            }
+            for element in root.iter(main + "definedName")
+        ]
+    json.dump({"reader": "openpyxl " + openpyxl.__version__, "sheets": sheets, "formulaElements": formulas, "definedNames": defined}, sys.stdout)
 
 
 if __name__ == "__main__":

@@ -2,10 +2,12 @@
  * The workbook and the CSV list written from in-memory sources, read back by independent
  * readers: Debian's python3-openpyxl (test/export/read_workbook.py) and csv-parse (RFC 4180).
  */
-import { mkdtempSync, readdirSync } from 'node:fs';
+import { mkdtempSync, readdirSync, readFileSync } from 'node:fs';
+import { parse } from 'csv-parse/sync';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { beforeAll, describe, expect, it } from 'vitest';
+import { csvNumber } from '../../src/export/csv-writer.js';
 import { exportSource, type ExportResult } from '../../src/export/export-run.js';
 import { excelMaxRows } from '../../src/export/xlsx-table.js';
 import { cautions } from '../../src/export/cautions.js';
@@ -122,7 +124,7 @@ describe('workbook read back by openpyxl', () => {
     expect(result.suppressedNoConsent).toBe(wouldBeListed.length);
     const entries = overviewEntries(sheet(book, 'Overview'));
     expect(entries.get('Suppressed: no marketing consent (refused or unknown)')?.v).toBe(wouldBeListed.length);
-    expect(entries.get('   of which refused')?.v).toBe(wouldBeListed.filter((row) => row.marketingConsent === 0).length);
+    expect(entries.get('of which refused')?.v).toBe(wouldBeListed.filter((row) => row.marketingConsent === 0).length);
     expect(entries.get('Review queue: suppressed (no or unknown consent)')?.v).toBe(1);
   });
 
@@ -216,10 +218,23 @@ describe('workbook read back by openpyxl', () => {
     expect(entries.get('Left (placed in the parent run, not now)')?.v).toBe(12);
   });
 
-  it('writes no formula anywhere, and neutralises text that starts like one', () => {
+  it('writes no formula anywhere; text that starts like one is kept as it is, quote-prefixed', () => {
     expect(book.formulaElements).toBe(0);
     const note = tableRecords(sheet(book, 'Review'))[0].Note;
-    expect(note).toMatchObject({ t: 's', v: "'=shop rarely, keep an eye" });
+    expect(note).toEqual({ t: 's', v: '=shop rarely, keep an eye', f: '@', q: true });
+    expect(tableRecords(sheet(book, 'Review'))[0]['Customer id'].q).toBeUndefined();
+  });
+
+  it('declares each auto-filter as a hidden _xlnm._FilterDatabase name of its sheet (LibreOffice shows the filter by it)', () => {
+    const position = (name: string) => book.sheets.findIndex((candidate) => candidate.name === name);
+    expect(book.definedNames).toEqual(
+      ['Customers', 'Review', 'Movement'].map((name) => ({
+        name: '_xlnm._FilterDatabase',
+        localSheetId: position(name),
+        hidden: true,
+        value: `'${name}'!${sheet(book, name).autoFilter!.replace(/([A-Z]+)(\d+)/g, '$$$1$$$2')}`,
+      })),
+    );
   });
 });
 
@@ -264,30 +279,31 @@ describe('formula injection (OWASP ASVS 5.0 requirement 1.2.10; OWASP "CSV Injec
     customer('plain-id'),
   ];
 
-  it('XLSX: hostile ids are text with a leading apostrophe, never formulas; negative numbers stay numbers', async () => {
+  it('XLSX: hostile ids are kept exactly, as quote-prefixed text, never formulas; negative numbers stay numbers', async () => {
     const out = join(folder(), 'hostile.xlsx');
     await exportSource(memorySource({ customers: rows }), { out });
     const book = readWorkbook(out);
     expect(book.formulaElements).toBe(0);
     const records = tableRecords(sheet(book, 'Customers'));
-    // A raw CR inside XML text reads back as LF (XML 1.0 §2.11 end-of-line handling); the apostrophe is what matters.
-    const expected = [...hostile.map((id) => `'${id}`.replace(/\r/g, '\n')), 'plain-id'];
+    // A raw CR inside XML text reads back as LF (XML 1.0 §2.11 end-of-line handling).
+    const expected = [...hostile.map((id) => id.replace(/\r/g, '\n')), 'plain-id'];
     expect(records.map((record) => record['Customer id'].v)).toEqual(expected);
     for (const record of records) {
       expect(record['Customer id'].t).toBe('s');
       for (const cell of Object.values(record)) expect(cell.t).not.toBe('f');
     }
+    expect(records.map((record) => record['Customer id'].q ?? false)).toEqual([...hostile.map(() => true), false]);
     for (const record of records.slice(0, hostile.length)) {
       expect(record['Spend in window (EUR)']).toMatchObject({ t: 'n', v: -42.75 });
       expect(record['Basket size (EUR)']).toMatchObject({ t: 'n', v: -1 });
     }
   });
 
-  it('XLSX: a NUL-led id is neutralised too (XML cannot hold the NUL, the apostrophe stays)', async () => {
+  it('XLSX: a NUL-led id loses the NUL (XML 1.0 cannot hold it) and stays quote-prefixed text', async () => {
     const out = join(folder(), 'nul.xlsx');
     await exportSource(memorySource({ customers: [customer('\0=cmd')] }), { out });
     const records = tableRecords(sheet(readWorkbook(out), 'Customers'));
-    expect(records[0]['Customer id'].v).toBe("'=cmd");
+    expect(records[0]['Customer id']).toMatchObject({ v: '=cmd', t: 's', q: true });
   });
 
   it('CSV: the same ids carry the apostrophe, numbers are written bare', async () => {
@@ -298,6 +314,12 @@ describe('formula injection (OWASP ASVS 5.0 requirement 1.2.10; OWASP "CSV Injec
     expect(ids).toEqual([...hostile.map((id) => `'${id}`), 'plain-id', "'\0NUL"]);
     const revenueColumn = customerHeader.indexOf('Spend in window (EUR)');
     expect(csv.records[1][revenueColumn]).toBe('-42.75');
+  });
+
+  it('CSV with raw ids (for lists another system reads by id): the ids exactly as stored', async () => {
+    const out = join(folder(), 'raw.csv');
+    await exportSource(memorySource({ customers: rows }), { out, csvRawIds: true });
+    expect(readCsv(out).records.slice(1).map((record) => record[0])).toEqual([...hostile, 'plain-id']);
   });
 });
 
@@ -317,9 +339,35 @@ describe('CSV campaign list read by an RFC 4180 reader (csv-parse)', () => {
     for (const record of csv.records.slice(1)) {
       const stored = byId.get(record[0]) as ExportCustomerRow;
       expect(record[1]).toBe(stored.finalSegmentName);
-      expect(Number(record[3])).toBe(stored.confidence);
-      expect(record[10]).toBe(String(stored.features.spend_per_month));
+      // Rounded to what they mean: 4 decimals for probabilities, cents for money, 4 for rates.
+      expect(record[3]).toBe((stored.confidence as number).toFixed(4));
+      expect(record[9]).toBe(stored.revenue.toFixed(2));
+      expect(record[10]).toBe(stored.features.spend_per_month!.toFixed(2));
+      expect(record[11]).toBe(stored.features.visits_per_month!.toFixed(4));
     }
+  });
+
+  it('rounds numbers to what they mean and never writes -0 or an exponent', () => {
+    expect(csvNumber(144.26083333333335, 'eur', '.')).toBe('144.26');
+    expect(csvNumber(6.038009820934736e-7, 'probability', '.')).toBe('0.0000');
+    expect(csvNumber(-0.00001, 'share', '.')).toBe('0.0000');
+    expect(csvNumber(0.123456, 'share', ',')).toBe('0,1235');
+    expect(csvNumber(12, 'count', '.')).toBe('12');
+    expect(csvNumber(1234567.891, 'eur', ',')).toBe('1234567,89');
+  });
+
+  it('semicolon dialect: semicolons between fields, decimal commas, text holding ; quoted', async () => {
+    const out = join(folder(), 'semicolon.csv');
+    const tricky = [customer('a;b', { revenue: 1234.5, confidence: 0.87654 }), customer('c,d', { revenue: -3.1 })];
+    await exportSource(memorySource({ customers: tricky }), { out, csvDialect: 'semicolon' });
+    const text = readFileSync(out, 'utf8');
+    expect(text.split('\r\n')[1]).toMatch(/^"a;b";/);
+    const records = parse(text, { bom: true, delimiter: ';' }) as string[][];
+    expect(records[0]).toEqual(customerHeader);
+    expect(records.slice(1).map((record) => [record[0], record[3], record[9]])).toEqual([
+      ['a;b', '0,8765', '1234,50'],
+      ['c,d', '0,9500', '-3,10'],
+    ]);
   });
 
   it('quotes fields holding commas, quotes and line breaks', async () => {

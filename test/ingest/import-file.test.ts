@@ -11,14 +11,9 @@ import { customerConsent } from '../../src/store/customers-repo.js';
 import { listImports, savedMapping } from '../../src/store/imports-repo.js';
 import { dayFromIsoDate } from '../../src/store/days.js';
 import { writeReceiptsFile } from '../bench/import-receipts-file.js';
-import { snapshotCounts, temporaryFolder, writeText } from './support.js';
+import { freshDatabase, snapshotCounts, temporaryFolder, writeText } from './support.js';
 
 const HEADER = 'receipt_id,customer_id,store_id,date,category,amount\n';
-
-function freshDatabase() {
-  const folder = temporaryFolder();
-  return { folder, db: openDatabase(join(folder, 'spendmix.db')) };
-}
 
 async function expectRefused(promise: Promise<unknown>, pattern: RegExp): Promise<void> {
   await expect(promise).rejects.toBeInstanceOf(InputError);
@@ -111,14 +106,18 @@ describe('monthly cycle (DESIGN.md §3)', () => {
 });
 
 describe('encodings and layouts', () => {
-  it('a Windows-1252 file with € and accented names decodes correctly', async () => {
+  it('a Windows-1252 file with € and accented names is refused as not UTF-8, then decodes correctly when chosen', async () => {
     const { folder, db } = freshDatabase();
     // 0x80 is € in Windows-1252 (the WHATWG Encoding Standard's index-windows-1252); é is 0xE9.
     const text = 'customer_id;date;amount;category\r\nC1;2025-01-02;€ 12,50;crèmerie\r\nC2;2025-01-02;3,10;épicerie fine – Zoë\r\n';
     const bytes = iconv.encode(text, 'win1252');
     expect(bytes.includes(0x80)).toBe(true);
     const path = writeText(folder, 'w1252.csv', bytes);
-    const result = await importFile(db, { path, kind: 'receipts', options: { decimalComma: true } });
+    await expect(importFile(db, { path, kind: 'receipts', options: { decimalComma: true } })).rejects.toThrow(
+      /is not UTF-8 text: line 2 has bytes that UTF-8 does not allow \(80 20 31 32\).*--encoding windows-1252/,
+    );
+    expect(db.prepare('SELECT count(*) FROM receipts').pluck().get()).toBe(0);
+    const result = await importFile(db, { path, kind: 'receipts', options: { decimalComma: true, encoding: 'windows-1252' } });
     expect(result).toMatchObject({ rowsImported: 2, amountTotal: 15.6 });
     expect(db.prepare('SELECT category FROM receipts ORDER BY row_id').pluck().all()).toEqual(['crèmerie', 'épicerie fine – Zoë']);
   });

@@ -109,13 +109,15 @@ describe('importer fuzzing (fast-check)', () => {
         fileNumber += 1;
         const path = writeText(folder, `f${fileNumber}.csv`, buildFile(sample));
         const before = snapshotCounts(db);
+        const options = {
+          maxRejectedShare: sample.maxRejectedShare,
+          dateFormat: sample.dateFormat,
+          decimalComma: sample.decimalComma,
+          encoding: sample.encoding === 'win1252' ? ('windows-1252' as const) : ('utf-8' as const),
+        };
         let result: ImportResult;
         try {
-          result = await importFile(db, {
-            path,
-            kind: sample.kind,
-            options: { maxRejectedShare: sample.maxRejectedShare, dateFormat: sample.dateFormat, decimalComma: sample.decimalComma },
-          });
+          result = await importFile(db, { path, kind: sample.kind, options });
         } catch (error) {
           // Only a clear bad-input refusal is allowed, and it leaves everything as it was.
           expect(error).toBeInstanceOf(InputError);
@@ -146,7 +148,7 @@ describe('importer fuzzing (fast-check)', () => {
         }
         expect(result.report === null).toBe(result.rowsRejected === 0);
         if (sample.reimport) {
-          const again = await importFile(db, { path, kind: sample.kind, options: { maxRejectedShare: sample.maxRejectedShare } });
+          const again = await importFile(db, { path, kind: sample.kind, options });
           expect(again.alreadyImported).toBe(true);
           expect(snapshotCounts(db)).toEqual(after);
           outcomes.again += 1;

@@ -2,9 +2,16 @@ import { mkdtempSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import type { Database } from 'better-sqlite3';
+import { openDatabase } from '../../src/store/database.js';
 
 export function temporaryFolder(prefix = 'spendmix-ingest-'): string {
   return mkdtempSync(join(tmpdir(), prefix));
+}
+
+/** A new database in a new temporary folder. */
+export function freshDatabase(): { folder: string; db: Database } {
+  const folder = temporaryFolder();
+  return { folder, db: openDatabase(join(folder, 'spendmix.db')) };
 }
 
 export function writeText(folder: string, name: string, text: string | Buffer): string {

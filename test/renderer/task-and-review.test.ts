@@ -45,6 +45,13 @@ describe('long task state', () => {
     });
     expect(toApiError(new Error('boom'))).toEqual({ kind: 'internal', message: 'boom', issues: undefined });
     expect(toApiError('plain')).toEqual({ kind: 'internal', message: 'plain' });
+    // Details travel on, so a screen can offer the choice an error names (e.g. the text encoding).
+    expect(toApiError({ kind: 'input', message: 'not UTF-8', details: { encodingChoices: ['utf-8', 'windows-1252'] } })).toEqual({
+      kind: 'input',
+      message: 'not UTF-8',
+      issues: undefined,
+      details: { encodingChoices: ['utf-8', 'windows-1252'] },
+    });
   });
 });
 

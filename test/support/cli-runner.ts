@@ -4,27 +4,13 @@
  * here, so they use the same commands, validation and JSON as a user.
  */
 import type { ImportResult } from '../../src/api/contract.js';
-import { runCli } from '../../src/cli/program.js';
+import { cli } from './run-cli.js';
 
 /** What `import --json` prints (DESIGN.md §10). */
 export type ImportJson = Omit<ImportResult, 'importId'>;
 
-export interface CliOutcome {
-  code: number;
-  stdout: string;
-  stderr: string;
-}
-
 /** Runs one command line (without `spendmix`) and returns its exit code and output. */
-export async function runSpendmix(...argv: string[]): Promise<CliOutcome> {
-  let stdout = '';
-  let stderr = '';
-  const code = await runCli(argv, {
-    stdout: (text: string) => void (stdout += text),
-    stderr: (text: string) => void (stderr += text),
-  });
-  return { code, stdout, stderr };
-}
+export const runSpendmix = cli;
 
 /** Runs a command with `--json` and returns the one JSON object it prints; a failure throws with its message. */
 export async function spendmixJson<T>(...argv: string[]): Promise<T> {

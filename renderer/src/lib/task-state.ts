@@ -53,7 +53,8 @@ export function toApiError(error: unknown): ApiError {
     const candidate = error as Partial<ApiError> & { message?: unknown };
     const kind = candidate.kind === 'input' || candidate.kind === 'cancelled' ? candidate.kind : 'internal';
     const message = typeof candidate.message === 'string' ? candidate.message : String(error);
-    return { kind, message, issues: Array.isArray(candidate.issues) ? candidate.issues : undefined };
+    const details = candidate.details && typeof candidate.details === 'object' ? candidate.details : undefined;
+    return { kind, message, issues: Array.isArray(candidate.issues) ? candidate.issues : undefined, ...(details ? { details } : {}) };
   }
   return { kind: 'internal', message: String(error) };
 }

@@ -1,12 +1,13 @@
 /*
  * Export screen. Test ids: screen-export, export-cautions, export-segment-<spend rank>,
- * export-min-confidence, export-include-reviewed, export-format, export-path, export-choose-path,
+ * export-min-confidence, export-include-reviewed, export-format, export-csv-dialect,
+ * export-csv-raw-ids, export-csv-raw-ids-warning, export-path, export-choose-path,
  * export-start, export-task (with -bar, -cancel, -dismiss), export-result, export-count-exported,
  * export-count-suppressed, export-upper-bound, export-no-run, export-download (browser: the
  * download's state, data-state="saving|saved|failed"); model-sql… (ScoreInDatabase.tsx).
  */
 import { useEffect, useMemo, useState } from 'react';
-import type { ExportResult } from '../../../src/api/contract.js';
+import type { CsvDialect, ExportResult } from '../../../src/api/contract.js';
 import { useApi, useClient, useFormat, useTask } from '../app/client-context.js';
 import { segmentIndex, useWorkspace } from '../app/workspace.js';
 import { SegmentChip } from '../components/SegmentChip.js';
@@ -48,6 +49,8 @@ function ExportForm({ runId }: { runId: number }) {
   const [minConfidence, setMinConfidence] = useState(0);
   const [includeReviewed, setIncludeReviewed] = useState(true);
   const [fileFormat, setFileFormat] = useState<'xlsx' | 'csv'>('xlsx');
+  const [csvDialect, setCsvDialect] = useState<CsvDialect>('comma');
+  const [csvRawIds, setCsvRawIds] = useState(false);
   // In the browser the host writes the export into its session folder and the browser downloads
   // it, so the field is a file name; in the desktop app it is the path the file is written to.
   const inBrowser = client.shell.kind === 'browser';
@@ -90,6 +93,8 @@ function ExportForm({ runId }: { runId: number }) {
         segments: everySegment ? undefined : [...chosen],
         minConfidence,
         includeReviewed,
+        csvDialect,
+        csvRawIds,
       }),
     );
   };
@@ -148,6 +153,28 @@ function ExportForm({ runId }: { runId: number }) {
             </span>
           </label>
         </div>
+        {fileFormat === 'csv' ? (
+          <fieldset className="csv-options">
+            <legend>CSV list</legend>
+            <label>
+              layout
+              <select value={csvDialect} onChange={(e) => setCsvDialect(e.target.value as CsvDialect)} data-testid="export-csv-dialect">
+                <option value="comma">commas between fields, decimal point: 1234.56</option>
+                <option value="semicolon">semicolons between fields, decimal comma: 1234,56 (e.g. German or French settings)</option>
+              </select>
+            </label>
+            <label className="check">
+              <input type="checkbox" checked={csvRawIds} onChange={(e) => setCsvRawIds(e.target.checked)} data-testid="export-csv-raw-ids" />
+              write ids exactly as stored, for a system that reads the list by id
+            </label>
+            {csvRawIds ? (
+              <p className="note note-warning" data-testid="export-csv-raw-ids-warning">
+                Text that begins with = + - or @ is written as it is. A spreadsheet program that opens this file may run such text as a
+                formula: give the file to the system that reads it, and do not open it in a spreadsheet program.
+              </p>
+            ) : null}
+          </fieldset>
+        ) : null}
         <p className="quiet" data-testid="export-upper-bound">
           At most {format.count(upperBound)} placed customers in the chosen segments; the minimum confidence, review exclusions and
           consent bring the list down. The exact counts appear when the export is written.

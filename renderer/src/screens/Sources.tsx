@@ -1,7 +1,7 @@
 /*
  * Sources screen. Test ids: screen-sources, demo-panel, demo-load, demo-task (with -bar, -cancel,
  * -dismiss), import-kind, file-drop, file-input, file-choose, file-path, preview-panel,
- * mapping-source, map-<field>, read-date-order, read-decimal, read-sheet, preview-rows,
+ * mapping-source, map-<field>, read-date-order, read-decimal, read-sheet, read-encoding, preview-rows,
  * preview-missing, import-start, import-task (with -bar, -cancel, -dismiss), import-result,
  * import-open-report, import-history, import-row-<import id>, report-panel, report-title,
  * report-table.
@@ -26,6 +26,7 @@ interface ReadOptions {
   dateOrder: 'iso' | 'day-first' | 'month-first';
   decimalSeparator: '.' | ',';
   sheet?: string;
+  encoding?: 'utf-8' | 'windows-1252';
 }
 
 export function SourcesScreen() {
@@ -230,6 +231,15 @@ function ImportPanel({ onImported, onOpenReport }: { onImported: (result: Import
       </div>
 
       {previewError ? <ErrorNote error={previewError} /> : null}
+      {previewError?.details?.encodingChoices || read.encoding ? (
+        <label className="inline-controls">
+          text encoding
+          <select value={read.encoding ?? 'utf-8'} onChange={(e) => setRead({ ...read, encoding: e.target.value as ReadOptions['encoding'] })} data-testid="read-encoding">
+            <option value="utf-8">UTF-8</option>
+            <option value="windows-1252">Windows-1252 (older spreadsheet exports on Windows)</option>
+          </select>
+        </label>
+      ) : null}
       {preview ? (
         <div className="preview" data-testid="preview-panel">
           <p className="mapping-source" data-testid="mapping-source">

@@ -6,6 +6,10 @@ import { named, nonEmpty, probability, runId } from './fields.js';
 export const exportFormats = ['xlsx', 'csv'] as const;
 export type ExportFormat = (typeof exportFormats)[number];
 
+/** CSV layouts: comma-separated with a decimal point, or semicolon-separated with a decimal comma. */
+export const csvDialects = ['comma', 'semicolon'] as const;
+export type CsvDialect = (typeof csvDialects)[number];
+
 export const exportRunInput = z.strictObject({
   runId: named(runId, 'the run', '--run'),
   out: named(nonEmpty, 'the output file: .xlsx for the workbook, .csv for a campaign list', '--out <file>'),
@@ -14,6 +18,16 @@ export const exportRunInput = z.strictObject({
   segments: named(z.array(nonEmpty).min(1).optional(), 'final segments to list, by name (absent: all)', '--segments <a,b>'),
   minConfidence: named(probability.default(0), 'least confidence of a listed customer', '--min-confidence'),
   includeReviewed: named(z.boolean().default(true), 'list customers with a keep or move review decision', '--include-reviewed'),
+  csvDialect: named(
+    z.enum(csvDialects).default('comma'),
+    'CSV layout: comma (comma-separated, decimal point) or semicolon (semicolon-separated, decimal comma, for spreadsheets set to a locale that writes 1.234,56)',
+    '--csv-dialect',
+  ),
+  csvRawIds: named(
+    z.boolean().default(false),
+    'CSV: write ids and other text exactly as stored, without the apostrophe put before text beginning with = + - @ (for lists another system reads by id; RISK: a spreadsheet program that opens the file may run such text as a formula)',
+    '--csv-raw-ids',
+  ),
 });
 export type ExportRunInput = z.output<typeof exportRunInput>;
 /** The `export --json` object of DESIGN.md §10. */

@@ -74,7 +74,9 @@ export const runId = z.number().int().positive();
 
 function isCalendarDate(text: string): boolean {
   const [year, month, day] = text.split('-').map(Number);
-  const date = new Date(Date.UTC(year, month - 1, day));
+  // setUTCFullYear, not Date.UTC: Date.UTC reads years 0–99 as 1900–1999.
+  const date = new Date(0);
+  date.setUTCFullYear(year, month - 1, day);
   return date.getUTCFullYear() === year && date.getUTCMonth() === month - 1 && date.getUTCDate() === day;
 }
 

@@ -1,5 +1,5 @@
 import { z } from 'zod';
-import { named, nonEmpty, pageLimit, pageOffset, probability } from './fields.js';
+import { isoDate, named, nonEmpty, pageLimit, pageOffset, probability } from './fields.js';
 
 /** The Sources screen and `import`: preview, import, history, saved mappings, rejection report. */
 
@@ -18,7 +18,38 @@ export type ColumnMapping = Record<string, string>;
 export const delimiterNames = { comma: ',', semicolon: ';', tab: '\t', pipe: '|' } as const;
 const delimiterChoices = [...Object.keys(delimiterNames), ...Object.values(delimiterNames)] as [string, ...string[]];
 
-/** How a file is read: sheet, dates, decimals. */
+/**
+ * Dates an import accepts unless told otherwise: from 1990-01-01 (before any loyalty-card history
+ * an analyst loads; our choice) to a year after the day of the import (a till clock set wrong by
+ * months still imports; a year like 9999 does not). Dates outside are rejected rows in the report.
+ */
+export const PLAUSIBLE_DATES_FROM = '1990-01-01';
+export const PLAUSIBLE_DAYS_AHEAD = 366;
+export function defaultPlausibleDates(today: Date = new Date()): { from: string; to: string } {
+  return { from: PLAUSIBLE_DATES_FROM, to: new Date(today.getTime() + PLAUSIBLE_DAYS_AHEAD * 86_400_000).toISOString().slice(0, 10) };
+}
+
+/** Text encodings a CSV may be read in; a file that is not UTF-8 is refused, naming the other choice. */
+export const importEncodings = ['utf-8', 'windows-1252'] as const;
+export type ImportEncoding = (typeof importEncodings)[number];
+
+const dateRange = z.strictObject({ from: isoDate, to: isoDate });
+/** A date range as an object, or written FROM..TO (as the command line gives it). */
+const plausibleDateRange = z
+  .union([
+    dateRange,
+    z
+      .string()
+      .regex(/^\d{4}-\d{2}-\d{2}\.\.\d{4}-\d{2}-\d{2}$/, 'must be two dates written FROM..TO (YYYY-MM-DD..YYYY-MM-DD)')
+      .transform((text) => {
+        const [from, to] = text.split('..');
+        return { from, to };
+      })
+      .pipe(dateRange),
+  ])
+  .refine((range) => range.from <= range.to, 'must not start after it ends');
+
+/** How a file is read: sheet, dates, decimals, text encoding, plausible dates. */
 export const readSettings = {
   sheet: named(z.string().min(1).optional(), 'the sheet of an XLSX workbook to read (absent: the first)', '--sheet <name>'),
   dateOrder: named(
@@ -27,6 +58,16 @@ export const readSettings = {
     '--date-format',
   ),
   decimalSeparator: named(z.enum(['.', ',']).default('.'), 'the decimal separator of amounts', '--decimal-comma'),
+  encoding: named(
+    z.enum(importEncodings).default('utf-8'),
+    'the text encoding of a CSV file (a UTF-16 byte-order mark is honoured; a file that is not UTF-8 is refused, naming this setting)',
+    '--encoding',
+  ),
+  plausibleDates: named(
+    plausibleDateRange.default(() => defaultPlausibleDates()),
+    'dates a row may carry; rows dated outside are rejected and listed in the report (default 1990-01-01..a year after today)',
+    '--plausible-dates <FROM..TO>',
+  ),
 };
 
 /** Where an import's columns come from, beyond the mapping. */

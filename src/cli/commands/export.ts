@@ -7,6 +7,7 @@ interface ExportCliOptions {
   db?: string;
   run?: string;
   includeReviewed: boolean;
+  csvRawIds?: boolean;
   json?: boolean;
   [flag: string]: unknown;
 }
@@ -20,7 +21,7 @@ function describe(result: ExportResult): string {
   ].join('\n');
 }
 
-const exportFlags = schemaOptions(exportRunInput.shape, ['runId', 'includeReviewed']);
+const exportFlags = schemaOptions(exportRunInput.shape, ['runId', 'includeReviewed', 'csvRawIds']);
 
 /**
  * `spendmix export --db FILE --run ID|latest --out FILE.xlsx [--format xlsx|csv] [--segments a,b]
@@ -35,6 +36,10 @@ export const registerExport: RegisterCommand = (program, io, setExitCode) => {
   addSchemaOptions(command, exportFlags)
     .option('--include-reviewed', 'list customers with a keep or move review decision (the default)', true)
     .option('--no-include-reviewed', 'leave out every customer with a review decision')
+    .option(
+      '--csv-raw-ids',
+      'CSV: write ids and other text exactly as stored, without the apostrophe put before text beginning with = + - @. For lists another system reads by id. RISK: a spreadsheet program that opens the file may run such text as a formula; do not open it in one',
+    )
     .option('--json', 'print one JSON object {out, sheets, customersExported, suppressedNoConsent}')
     .addHelpText(
       'after',
@@ -49,7 +54,12 @@ export const registerExport: RegisterCommand = (program, io, setExitCode) => {
           const db = requireExistingDatabase(options.db, 'export');
           const showProgress = !json && process.stderr.isTTY;
           const result = await withApi(db, async (api) => {
-            const input = { ...inputFromFlags(exportFlags, options), includeReviewed: options.includeReviewed, runId: await api.runId(options.run, 'export') };
+            const input = {
+              ...inputFromFlags(exportFlags, options),
+              includeReviewed: options.includeReviewed,
+              csvRawIds: Boolean(options.csvRawIds),
+              runId: await api.runId(options.run, 'export'),
+            };
             return api.run('exportRun', input as ApiInput<'exportRun'>, showProgress ? (progress) => io.stderr(`\r${progress.message}\x1b[K`) : undefined);
           });
           if (showProgress) io.stderr('\n');

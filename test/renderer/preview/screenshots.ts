@@ -56,6 +56,15 @@ for (const screen of screens) {
   console.log(`saved ${file}`);
 }
 
+// The Export screen once more with the CSV choices open (dialect, raw ids and its warning).
+await page.selectOption('[data-testid="export-format"]', 'csv');
+await page.selectOption('[data-testid="export-csv-dialect"]', 'semicolon');
+await page.check('[data-testid="export-csv-raw-ids"]');
+await page.waitForSelector('[data-testid="export-csv-raw-ids-warning"]');
+const csvFile = join(outDir, 'export-csv.png');
+await page.screenshot({ path: csvFile, fullPage: true });
+console.log(`saved ${csvFile}`);
+
 await browser.close();
 await closeServer?.();
 for (const problem of problems) console.error(problem);
