@@ -111,30 +111,36 @@ async function measure(db: Database, features: string[], fitSample: number | nul
   return measured;
 }
 
+/** One row of the comparison table: the ratio against the full fit first, absolute times beside. */
+function tableRow(row: Measured, full: Measured): string {
+  const perCustomer = row.logLikelihood / row.customers;
+  return [
+    row.fitSample === null ? 'all' : row.fitSample.toLocaleString('en-GB'),
+    `${(row.fitSeconds / full.fitSeconds).toFixed(3)} (${row.fitSeconds.toFixed(1)})`,
+    `${(row.runSeconds / full.runSeconds).toFixed(3)} (${row.runSeconds.toFixed(1)})`,
+    `${row.k} ${row.covariance}`,
+    row.logLikelihood.toFixed(1),
+    perCustomer.toFixed(5),
+    (perCustomer - full.logLikelihood / full.customers).toExponential(2),
+    adjustedRandIndex(full.labels, row.labels).toFixed(4),
+  ].join(' | ');
+}
+const tableHeader =
+  'fit sample | fit time × full (s) | run time × full (s) | k, structure | log L of all customers | per customer | per customer − full | ARI against full';
+
 try {
   const { db, features } = await syntheticFeatureDatabase();
   console.log(`settings fixed by flags: ${Object.keys(fixed).length ? JSON.stringify(fixed) : 'none (run defaults)'}`);
   const full = await measure(db, features, null);
-  const sampled: Measured[] = [];
-  for (const size of samples) sampled.push(await measure(db, features, size));
-  db.close();
-
-  console.log('\nfit sample | fit time × full (s) | run time (s) | k, structure | log L of all customers | per customer | per customer − full | ARI against full');
-  for (const row of [full, ...sampled]) {
-    const perCustomer = row.logLikelihood / row.customers;
-    console.log(
-      [
-        row.fitSample === null ? 'all' : row.fitSample.toLocaleString('en-GB'),
-        `${(row.fitSeconds / full.fitSeconds).toFixed(3)} (${row.fitSeconds.toFixed(1)})`,
-        row.runSeconds.toFixed(1),
-        `${row.k} ${row.covariance}`,
-        row.logLikelihood.toFixed(1),
-        perCustomer.toFixed(5),
-        (perCustomer - full.logLikelihood / full.customers).toExponential(2),
-        adjustedRandIndex(full.labels, row.labels).toFixed(4),
-      ].join(' | '),
-    );
+  const rows = [full];
+  // Each sample's row is printed as soon as it is measured, so a long run shows what it has.
+  for (const size of samples) {
+    rows.push(await measure(db, features, size));
+    console.log(`    ${tableRow(rows[rows.length - 1], full)}`);
   }
+  db.close();
+  console.log(`\n${tableHeader}`);
+  for (const row of rows) console.log(tableRow(row, full));
 } finally {
   rmSync(folder, { recursive: true, force: true });
 }
