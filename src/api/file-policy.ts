@@ -113,7 +113,7 @@ export class SessionFolder implements FilePolicy {
 
   exportTarget(requested: string): string {
     const wanted = safeFileName(requested, 'spendmix-export');
-    const name = ['.xlsx', '.csv'].includes(extname(wanted).toLowerCase()) ? wanted : `${wanted}.xlsx`;
+    const name = ['.xlsx', '.csv', '.sql'].includes(extname(wanted).toLowerCase()) ? wanted : `${wanted}.xlsx`;
     const path = join(mkdtempSync(join(this.exportsDir, 'export-')), name);
     this.exports.set(path, name);
     return path;

@@ -1,4 +1,5 @@
 import { InputError } from '../errors.js';
+import { writeFileAtomically } from '../export/atomic-file.js';
 import { cautions } from '../export/cautions.js';
 import { computedFeatureNames, featureDescriptions } from '../features/definitions.js';
 import { dataRange } from '../features/compute.js';
@@ -150,9 +151,11 @@ export const handlers = {
       columns: query.columns,
     };
   },
-  modelSql: (session, input) => {
+  modelSql: async (session, input) => {
     const query = modelSql(readScoringModel(session.db(), input.runId), { dialect: input.dialect, featuresTable: input.featuresTable });
-    return { ...query, runId: input.runId, featuresTable: input.featuresTable };
+    const out = input.out === undefined ? null : session.files.exportTarget(input.out);
+    if (out !== null) await writeFileAtomically(out, async (output) => void output.end(query.sql));
+    return { ...query, runId: input.runId, featuresTable: input.featuresTable, out };
   },
   cancelTask: (session, input) => session.tasks.cancel(input.taskId),
   taskStatus: (session, input) => session.tasks.status(input.taskId),

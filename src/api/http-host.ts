@@ -40,6 +40,7 @@ const contentTypes: Record<string, string> = {
 const downloadTypes: Record<string, string> = {
   '.xlsx': 'application/vnd.openxmlformats-officedocument.spreadsheetml.sheet',
   '.csv': 'text/csv; charset=utf-8',
+  '.sql': 'application/sql; charset=utf-8',
 };
 
 export interface HostOptions {

@@ -33,6 +33,7 @@ function modelEntries(detail: RunDetail): OverviewEntry[] {
     { label: 'BIC (lower is better)', value: detail.bic, kind: 'decimal' },
     { label: 'ICL (lower is better)', value: detail.icl, kind: 'decimal' },
     { label: 'Log-likelihood', value: detail.logLikelihood, kind: 'decimal' },
+    { label: 'Fitted on (placed customers)', value: detail.fittedOn === null ? "the parent run's model" : detail.fittedOn, kind: 'count' },
     { label: 'Restarts', value: settings.restarts, kind: 'count' },
     { label: 'Seed', value: settings.seed, kind: 'count' },
     { label: 'Convergence tolerance', value: settings.tol, kind: 'number' },

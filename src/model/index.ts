@@ -49,4 +49,4 @@ export {
 export { contingencyTable, adjustedRandIndex, adjustedRandIndexFromTable, type ContingencyTable } from './agreement.js';
 export { fitMixtureParallel, sweepMixtures, everyFitRefused } from './parallel.js';
 export { parseNumericCsv, membershipsHeader, membershipsLines, type NumericCsv } from './matrix-csv.js';
-export { restartStream, type RandomStream } from './random.js';
+export { restartStream, uniformSampleIndexes, type RandomStream } from './random.js';

@@ -24,3 +24,23 @@ export function restartStream(seed: number, index: number): RandomStream {
     integer: (from, to) => uniformInt(generator, from, to),
   };
 }
+
+/**
+ * Indexes 0..count-1 of a uniform sample of min(count, size) items without replacement, in random
+ * order (a partial Fisher–Yates shuffle drawing from `random`), so any prefix of it is itself a
+ * uniform sample.
+ */
+export function uniformSampleIndexes(count: number, size: number, random: RandomStream): Int32Array {
+  if (!Number.isInteger(count) || count < 0) throw new RangeError(`count must be a non-negative integer, got ${count}.`);
+  if (!Number.isInteger(size) || size < 0) throw new RangeError(`size must be a non-negative integer, got ${size}.`);
+  const take = Math.min(count, size);
+  const order = new Int32Array(count);
+  for (let i = 0; i < count; i++) order[i] = i;
+  for (let i = 0; i < take; i++) {
+    const j = random.integer(i, count - 1);
+    const swap = order[i];
+    order[i] = order[j];
+    order[j] = swap;
+  }
+  return order.slice(0, take);
+}

@@ -5,7 +5,7 @@
  * distributions read a prefix of it, so their cost is the sample's and never grows with the
  * number of customers (DESIGN.md §9, §11: the Segments screen at 1,000,000).
  */
-import { restartStream } from '../model/index.js';
+import { restartStream, uniformSampleIndexes } from '../model/index.js';
 
 /** The largest sample the API serves (segmentSample's limit). */
 export const DISPLAY_SAMPLE_SIZE = 20_000;
@@ -17,23 +17,11 @@ export const DISTRIBUTION_SAMPLE_SIZE = 10_000;
 const SAMPLE_SALT = 0x5a3c96e1;
 
 /**
- * Indexes 0..count-1 of a uniform sample of min(count, size) items in random order (a partial
- * Fisher–Yates shuffle), so any prefix of it is itself a uniform sample.
+ * Indexes 0..count-1 of a uniform sample of min(count, size) items in random order, so any prefix
+ * of it is itself a uniform sample.
  */
 export function drawDisplaySample(count: number, size: number, seed: number): Int32Array {
-  if (!Number.isInteger(count) || count < 0) throw new RangeError(`count must be a non-negative integer, got ${count}.`);
-  if (!Number.isInteger(size) || size < 0) throw new RangeError(`size must be a non-negative integer, got ${size}.`);
-  const take = Math.min(count, size);
-  const order = new Int32Array(count);
-  for (let i = 0; i < count; i++) order[i] = i;
-  const random = restartStream((seed ^ SAMPLE_SALT) | 0, 0);
-  for (let i = 0; i < take; i++) {
-    const j = random.integer(i, count - 1);
-    const swap = order[i];
-    order[i] = order[j];
-    order[j] = swap;
-  }
-  return order.slice(0, take);
+  return uniformSampleIndexes(count, size, restartStream((seed ^ SAMPLE_SALT) | 0, 0));
 }
 
 /** For each of `count` placed customers, its position in the display sample, or -1 when not drawn. */

@@ -1,8 +1,10 @@
 /**
  * The fitting step of a run: one fit for a fixed k and structure, or the engine's sweep over the
- * k range and structures choosing by BIC or ICL (both lower-is-better), on worker threads. Checks
- * first that the data allow the largest k asked for. Every engine option is passed explicitly from
- * the run's settings (their defaults are the contract's, src/api/contract/settings.ts).
+ * k range and structures choosing by BIC or ICL (both lower-is-better), on worker threads. With a
+ * fit sample, the fit (and the sweep) sees only a seeded uniform sample of the placed customers;
+ * the run then scores everyone with the model. Checks first that the rows fitted allow the largest
+ * k asked for. Every engine option is passed explicitly from the run's settings (their defaults
+ * are the contract's, src/api/contract/settings.ts).
  */
 import type { ExplicitRunSettings } from '../api/contract.js';
 import { InputError } from '../errors.js';
@@ -17,6 +19,8 @@ import {
   type FitProgress,
   type MixtureModel,
   type SweepRow,
+  restartStream,
+  uniformSampleIndexes,
 } from '../model/index.js';
 
 /** A row of the model-selection table as stored with the run (`chosen` is decided when read). */
@@ -28,17 +32,68 @@ export interface RunFit {
   warnings: string[];
 }
 
+/** Mixed into the run's seed so the fit sample does not replay the restarts' or the display sample's streams. */
+const FIT_SAMPLE_SALT = 0x2b6f13d7;
+
+/**
+ * How many placed customers a refit fits on: the fit sample when it is smaller than the placed
+ * customers, else all of them (a larger sample fits all, with a warning). What the run detail reports.
+ */
+export function fittedCustomerCount(fitSample: number | null, placed: number): number {
+  return fitSample !== null && fitSample < placed ? fitSample : placed;
+}
+
+/** The progress line of the fitting phase. */
+export function fittingMessage(fitSample: number | null, placed: number): string {
+  const fitted = fittedCustomerCount(fitSample, placed);
+  return fitted < placed
+    ? `Fitting mixtures on a seeded sample of ${fitted.toLocaleString('en-GB')} of ${placed.toLocaleString('en-GB')} customers`
+    : 'Fitting mixtures';
+}
+
+/**
+ * Rows 0..placed-1 of the fit sample, in ascending order: a uniform sample without replacement
+ * drawn from the run's seed, so the same settings draw the same customers.
+ */
+export function fitSampleRows(placed: number, fitSample: number, seed: number): Int32Array {
+  return uniformSampleIndexes(placed, fitSample, restartStream((seed ^ FIT_SAMPLE_SALT) | 0, 0)).sort();
+}
+
+/** The rows of `data` the fit sees, with a warning when the fit sample asks for more than there are. */
+function fittedRows(data: DataMatrix, settings: ExplicitRunSettings): { data: DataMatrix; warnings: string[] } {
+  const { fitSample } = settings;
+  if (fitSample === null || fitSample === data.rows) return { data, warnings: [] };
+  if (fitSample > data.rows) {
+    return {
+      data,
+      warnings: [
+        `The fit sample (${fitSample.toLocaleString('en-GB')}) is larger than the ${data.rows.toLocaleString('en-GB')} placed customers, so the model was fitted on all of them.`,
+      ],
+    };
+  }
+  const rows = fitSampleRows(data.rows, fitSample, settings.seed);
+  const d = data.cols;
+  const values = new Float64Array(rows.length * d);
+  rows.forEach((row, i) => values.set(data.values.subarray(row * d, (row + 1) * d), i * d));
+  return { data: { ...data, values, rows: rows.length }, warnings: [] };
+}
+
 export async function fitForRun(
-  data: DataMatrix,
+  placedData: DataMatrix,
   settings: ExplicitRunSettings,
   options: { signal?: AbortSignal; onProgress?: (progress: FitProgress) => void },
 ): Promise<RunFit> {
   const [kMin, kMax] = settings.k === 'auto' ? [settings.kMin, settings.kMax] : [settings.k, settings.k];
   const structures: readonly CovarianceType[] = settings.covariance === 'auto' ? covarianceTypes : [settings.covariance];
+  const { data, warnings: sampleWarnings } = fittedRows(placedData, settings);
   if (kMax >= data.rows) {
+    const allowed = `at most k = ${Math.max(1, data.rows - 1)}`;
     throw new InputError(
-      `k = ${kMax} is too large for ${data.rows} customers with enough history; the data allow at most k = ${Math.max(1, data.rows - 1)}. ` +
-        'Lower k (or --k-max) or widen the window.',
+      data.rows < placedData.rows
+        ? `k = ${kMax} is too large for a fit sample of ${data.rows} customers; the sample allows ${allowed}. ` +
+            'Raise the fit sample (--fit-sample, or none to fit on all placed customers) or lower k (or --k-max).'
+        : `k = ${kMax} is too large for ${data.rows} customers with enough history; the data allow ${allowed}. ` +
+            'Lower k (or --k-max) or widen the window.',
     );
   }
   let anyMissing = false;
@@ -58,8 +113,8 @@ export async function fitForRun(
     const result = await fitMixtureParallel(data, { ...common, components: kMin, covarianceType: structures[0] });
     // A collapsed component is no segment to act on: the one fit asked for is refused as a sweep's would be.
     if (result.refused) throw everyFitRefused([sweepRowOf(result)]);
-    return { model: result.model, sweep: [sweepRowOf(result)], warnings: result.warnings };
+    return { model: result.model, sweep: [sweepRowOf(result)], warnings: [...sampleWarnings, ...result.warnings] };
   }
   const sweep = await sweepMixtures(data, { ...common, componentRange: [kMin, kMax], covarianceTypes: structures, criterion: settings.criterion });
-  return { model: sweep.best.model, sweep: sweep.table, warnings: sweep.best.warnings };
+  return { model: sweep.best.model, sweep: sweep.table, warnings: [...sampleWarnings, ...sweep.best.warnings] };
 }

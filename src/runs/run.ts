@@ -28,7 +28,7 @@ import {
 import { atypicalTerms, type StoredAtypicalTerm } from './atypical.js';
 import { chosenSegmentation, storedSegmentation } from './combine.js';
 import { checkFeatureSet } from './feature-check.js';
-import { fitForRun, type StoredSweepRow } from './fit.js';
+import { fitForRun, fittingMessage, type StoredSweepRow } from './fit.js';
 import { keyNumber } from './naming.js';
 import { latestEarlierRunId, loadParentRun, previousKeyOf, type ParentRun } from './parent.js';
 import { persistRun, type CarriedDecision } from './persist.js';
@@ -81,8 +81,9 @@ export async function runSegmentation(db: Database, input: ExplicitRunSettings, 
   if (settings.mode === 'rescore') {
     model = parent!.model;
   } else {
-    report('fit', 0, 0, 'Fitting mixtures');
-    const fitted = await fitForRun(data, settings, { signal, onProgress: (fit) => report('fit', 0, 0, 'Fitting mixtures', { fit }) });
+    const fitting = fittingMessage(settings.fitSample, data.rows);
+    report('fit', 0, 0, fitting);
+    const fitted = await fitForRun(data, settings, { signal, onProgress: (fit) => report('fit', 0, 0, fitting, { fit }) });
     model = fitted.model;
     sweep = fitted.sweep;
     warnings = [...featureWarnings, ...fitted.warnings];

@@ -141,6 +141,23 @@ describe('the browser host touches only its own files', () => {
     expect(other.body.toString()).not.toContain('precious');
   });
 
+  it('modelSql with a file writes the query only into the session folder, for one download', async () => {
+    const victim = join(folder, 'victim.sql');
+    writeFileSync(victim, 'precious query\n');
+    const answer = (await call('modelSql', { runId: 1, dialect: 'postgres', out: victim })).json<{ sql: string; out: string }>();
+    if (!answer.ok) throw new Error(answer.error.message);
+    expect(readFileSync(victim, 'utf8')).toBe('precious query\n');
+    expect(answer.value.out).toMatch(/spendmix-session-[^/]+\/exports\/export-[^/]+\/victim\.sql$/);
+    const download = await send(host.port, { method: 'GET', path: `/api/download?path=${encodeURIComponent(answer.value.out)}`, headers: { 'x-spendmix-token': host.token } });
+    expect(download.status).toBe(200);
+    expect(download.headers['content-type']).toBe('application/sql; charset=utf-8');
+    expect(download.headers['content-disposition']).toBe(`attachment; filename="victim.sql"; filename*=UTF-8''victim.sql`);
+    expect(download.body.toString('utf8')).toBe(answer.value.sql);
+    await new Promise((resolve) => setTimeout(resolve, 200));
+    const again = await send(host.port, { method: 'GET', path: `/api/download?path=${encodeURIComponent(answer.value.out)}`, headers: { 'x-spendmix-token': host.token } });
+    expect(again.status).toBe(404);
+  });
+
   it('openDatabase opens the database given at start and nothing else', async () => {
     const elsewhere = join(folder, 'planted.db');
     const answer = await call('openDatabase', { path: elsewhere });

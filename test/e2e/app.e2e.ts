@@ -1,5 +1,5 @@
 import ExcelJS from 'exceljs';
-import { mkdtempSync, writeFileSync } from 'node:fs';
+import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import type { Page } from 'playwright-core';
@@ -272,6 +272,54 @@ describe('Spendmix in Chromium through the browser host', () => {
     // The renamed segment carries its new name into the workbook.
     const overviewText = JSON.stringify(workbook.getWorksheet('Overview')!.getSheetValues());
     expect(overviewText).toContain('Weekly big baskets');
+  });
+
+  it("writes the run's scoring query for the chain's own engine: shown, copied and downloaded as the API writes it", async () => {
+    await openScreen(page, 'export');
+    const section = page.getByTestId('model-sql');
+    await section.scrollIntoViewIfNeeded();
+    // A table name that is not a plain identifier is refused with the reason. The API answers a
+    // refusal with HTTP 400, which Chromium logs once as a failed resource; that one line is expected.
+    const errorsBefore = errors.length;
+    await page.getByTestId('model-sql-table').fill('features; DROP TABLE receipts');
+    await page.getByTestId('model-sql-show').click();
+    await expect
+      .poll(() => page.getByTestId('model-sql-error').innerText())
+      .toMatch(/^Please check:\s+The features table "features; DROP TABLE receipts" is not a plain table name/);
+    await expect.poll(() => errors.slice(errorsBefore)).toEqual(['console error: Failed to load resource: the server responded with a status of 400 (Bad Request)']);
+    errors.splice(errorsBefore, 1);
+    await page.getByTestId('model-sql-dialect').selectOption('postgres');
+    await page.getByTestId('model-sql-table').fill('crm.november_features');
+    await page.getByTestId('model-sql-show').click();
+    const query = page.getByTestId('model-sql-query');
+    await query.waitFor({ state: 'visible' });
+    const sql = (await query.textContent()) ?? '';
+    const runId = Number(/^-- Spendmix scoring query of run (\d+), postgres dialect/.exec(sql)?.[1]);
+    expect(runId).toBeGreaterThan(0);
+    expect(sql).toContain('FROM crm.november_features');
+    expect(sql).toContain('AS MATERIALIZED');
+    // The note names what the table needs: customer_id and the run's features, as the query reads them.
+    const needs = await page.getByTestId('model-sql-needs').innerText();
+    for (const feature of ['spend_per_month', 'visits_per_month', 'average_basket']) {
+      expect(needs).toContain(feature);
+      expect(sql).toContain(`"${feature}"`);
+    }
+    expect(needs).toContain('customer_id');
+
+    await browser.context.grantPermissions(['clipboard-read', 'clipboard-write'], { origin: new URL(app.url).origin });
+    await page.getByTestId('model-sql-copy').click();
+    await expect.poll(() => page.getByTestId('model-sql-copied').innerText()).toBe('Copied to the clipboard.');
+    expect(await page.evaluate('navigator.clipboard.readText()')).toBe(sql);
+
+    const download = page.waitForEvent('download', { timeout: taskTimeout });
+    await page.getByTestId('model-sql-save').click();
+    const saved = await download;
+    expect(saved.suggestedFilename()).toBe(`spendmix-run-${runId}-postgres.sql`);
+    const out = join(folder, 'score.sql');
+    await saved.saveAs(out);
+    expect(readFileSync(out, 'utf8')).toBe(sql);
+    await expect.poll(() => page.getByTestId('model-sql-saved').getAttribute('data-state')).toBe('saved');
+    await screenshot(page, '10-export-sql');
   });
 
   it('had no page errors and no console errors', () => {

@@ -1,3 +1,5 @@
+import { readdirSync, readFileSync, writeFileSync } from 'node:fs';
+import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { FeaturesSqlResult, ModelSqlResult } from '../../src/api/contract.js';
 import { callApiOutcome } from '../../src/api/handlers.js';
@@ -104,6 +106,23 @@ describe('model-sql', () => {
     });
     expect(json.segments).toHaveLength(3);
     expect(json.sql).toContain('AS MATERIALIZED');
+  });
+
+  it('writes the query to a file with --out (the same text it prints), replacing an older one whole', async () => {
+    const printed = await cli('model-sql', '--db', demo.path, '--run', String(runId), '--dialect', 'sqlite');
+    const out = join(demo.folder, 'score.sql');
+    writeFileSync(out, 'an older query\n'.repeat(10_000));
+    const written = await cli('model-sql', '--db', demo.path, '--run', String(runId), '--dialect', 'sqlite', '--out', out);
+    expect(written.code, written.stderr).toBe(0);
+    expect(written.stdout.trim()).toBe(`Wrote the scoring query of run ${runId} (sqlite, reading customer_features) to ${out}`);
+    expect(readFileSync(out, 'utf8')).toBe(printed.stdout);
+    const json = JSON.parse((await cli('model-sql', '--db', demo.path, '--run', String(runId), '--out', out, '--json')).stdout) as ModelSqlResult;
+    expect(json.out).toBe(out);
+    expect(readFileSync(out, 'utf8')).toBe(json.sql);
+    expect(readdirSync(demo.folder).filter((name) => name.endsWith('.partial'))).toEqual([]);
+    const noFolder = await cli('model-sql', '--db', demo.path, '--run', String(runId), '--out', join(demo.folder, 'missing', 'score.sql'));
+    expect(noFolder.code).toBe(2);
+    expect(noFolder.stderr).toContain(`Folder ${join(demo.folder, 'missing')} does not exist`);
   });
 
   it('refuses what it cannot do, with exit code 2', async () => {

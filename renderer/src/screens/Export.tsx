@@ -4,7 +4,7 @@
  * export-csv-raw-ids, export-csv-raw-ids-warning, export-path, export-choose-path,
  * export-start, export-task (with -bar, -cancel, -dismiss), export-result, export-count-exported,
  * export-count-suppressed, export-upper-bound, export-review-state, export-no-run, export-download (browser: the
- * download's state, data-state="saving|saved|failed").
+ * download's state, data-state="saving|saved|failed"); model-sql… (ScoreInDatabase.tsx).
  */
 import { useEffect, useMemo, useState } from 'react';
 import type { CsvDialect, ExportResult } from '../../../src/api/contract.js';
@@ -14,6 +14,7 @@ import { SegmentChip } from '../components/SegmentChip.js';
 import { TaskPanel } from '../components/TaskPanel.js';
 import { queueWords } from '../lib/queue-words.js';
 import { NoRun } from './NoRun.js';
+import { ScoreInDatabase } from './ScoreInDatabase.js';
 
 export function ExportScreen() {
   const { runId, appInfo } = useWorkspace();
@@ -30,6 +31,7 @@ export function ExportScreen() {
         ))}
       </aside>
       {runId === null ? <NoRun screen="export" /> : <ExportForm key={runId} runId={runId} />}
+      {runId === null ? null : <ScoreInDatabase key={`sql-${runId}`} runId={runId} />}
     </section>
   );
 }

@@ -79,6 +79,11 @@ export interface RunDetail extends RunSummary {
   criterion: SelectionCriterion;
   /** Parent segments that found no match in a refit. */
   retiredSegments: string[];
+  /**
+   * Placed customers the model was fitted on: the seeded fit sample's size when it is smaller than
+   * `customers`, else all of them (everyone is scored either way); null for a rescore (the parent's model).
+   */
+  fittedOn: number | null;
 }
 
 /** One fit of the model-selection table. */

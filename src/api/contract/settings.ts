@@ -145,6 +145,7 @@ export const modelSettings = {
     '--covariance',
   ),
   criterion: named(z.enum(selectionCriteria).default('bic'), 'information criterion that chooses the model', '--criterion'),
+  fitSample: named(z.number().int().min(1).max(1_000_000_000).nullable().default(null), 'fit on a seeded random sample of this many placed customers, then score everyone (none: fit on all)', '--fit-sample'),
   ...fitSettings,
 };
 

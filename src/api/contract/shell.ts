@@ -22,10 +22,11 @@ export interface SpendmixShell {
    */
   pathForFile(file: File): Promise<string>;
   /**
-   * Hands a finished export to the user. Electron: nothing to do, the file is where the user
-   * chose. Browser: the host wrote it into its session folder; this downloads it (served once).
+   * Hands a finished export (a workbook, a list, a scoring query) to the user. Electron: nothing
+   * to do, the file is where the user chose. Browser: the host wrote it into its session folder;
+   * this downloads it (served once).
    */
-  deliverExport(result: ExportResult): Promise<void>;
+  deliverExport(result: Pick<ExportResult, 'out'>): Promise<void>;
   onMenuCommand(listener: (command: MenuCommand) => void): () => void;
 }
 

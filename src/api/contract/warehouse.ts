@@ -46,6 +46,11 @@ export const modelSqlInput = z.strictObject({
   runId,
   dialect: sqlDialect,
   featuresTable: named(tableName.default('customer_features'), 'the table of customer_id and the run\'s features in original units', '--features-table'),
+  out: named(
+    nonEmpty.max(4096).optional(),
+    'a file to write the query to (absent: the query is only returned; the browser host writes it for one download)',
+    '--out <file.sql>',
+  ),
 });
 /** A run's scoring query: reads customer_id and `features` from the table, returns `columns`. */
 export interface ModelSqlResult {
@@ -60,4 +65,6 @@ export interface ModelSqlResult {
   columns: string[];
   /** How a row with an empty feature is treated. */
   emptyValues: 'scored on the observed features' | 'not scored';
+  /** The file the query was written to, or null when none was asked for. */
+  out: string | null;
 }

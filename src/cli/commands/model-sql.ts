@@ -6,8 +6,9 @@ import { addSchemaOptions, inputFromFlags, schemaOptions } from '../schema-optio
 const modelSqlFlags = schemaOptions(modelSqlInput.shape, ['runId']);
 
 /**
- * `spendmix model-sql --db FILE --run ID|latest [--dialect duckdb|postgres|sqlite] [--features-table T]`
- * (DESIGN.md §10): prints a run's scoring query, through the API's modelSql (the Export screen's button).
+ * `spendmix model-sql --db FILE --run ID|latest [--dialect duckdb|postgres|sqlite] [--features-table T] [--out F.sql]`
+ * (DESIGN.md §10): prints a run's scoring query, or writes it to a file, through the API's modelSql
+ * (the Export screen's section).
  */
 export const registerModelSql: RegisterCommand = (program, io, setExitCode) => {
   const command = program
@@ -16,7 +17,7 @@ export const registerModelSql: RegisterCommand = (program, io, setExitCode) => {
     .option('--db <file>', 'the Spendmix database')
     .option('--run <id|latest>', 'the run whose model to write out, or "latest" for the newest run');
   addSchemaOptions(command, modelSqlFlags)
-    .option('--json', 'print one JSON object {sql, dialect, runId, featuresTable, features, segments, components, columns, emptyValues}')
+    .option('--json', 'print one JSON object {sql, dialect, runId, featuresTable, features, segments, components, columns, emptyValues, out}')
     .addHelpText('after', '\nThe query returns customer_id, segment, confidence, margin, borderline, atypical (1/0) for every row of the table.')
     .action(async (flags: Record<string, unknown>) => {
       const json = Boolean(flags.json);
@@ -26,7 +27,11 @@ export const registerModelSql: RegisterCommand = (program, io, setExitCode) => {
           const result = await withApi(db, async (api) =>
             api.call('modelSql', { ...inputFromFlags(modelSqlFlags, flags), runId: await api.runId(flags.run as string | undefined, 'model-sql') } as ApiInput<'modelSql'>),
           );
-          return { result, human: (query) => query.sql };
+          return {
+            result,
+            human: (query) =>
+              query.out === null ? query.sql : `Wrote the scoring query of run ${query.runId} (${query.dialect}, reading ${query.featuresTable}) to ${query.out}`,
+          };
         }),
       );
     });

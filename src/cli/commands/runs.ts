@@ -36,6 +36,9 @@ function describeDetail(detail: RunDetail): string {
     `  features: ${detail.features.map((spec) => spec.feature).join(', ')}`,
     `  k ${settings.k === 'auto' ? `auto (${settings.kMin} to ${settings.kMax})` : settings.k}, covariance ${settings.covariance}, ${settings.criterion.toUpperCase()}, ` +
       `${settings.restarts} restarts, seed ${settings.seed}`,
+    ...(detail.fittedOn !== null && detail.fittedOn < detail.customers
+      ? [`  fitted on a seeded sample of ${detail.fittedOn} of the ${detail.customers} placed customers (--fit-sample); all of them scored with that model`]
+      : []),
   ].join('\n');
 }
 

@@ -2,6 +2,7 @@
 import type { Database } from 'better-sqlite3';
 import type { RunDetail, RunSummary } from '../../api/contract.js';
 import { queueCounts } from './review-counts.js';
+import { fittedCustomerCount } from '../fit.js';
 import { runSegments } from './run-segments.js';
 import { storedRun } from './stored-run.js';
 
@@ -52,5 +53,6 @@ export function getRunDetail(db: Database, runId: number): RunDetail {
     icl: run.icl,
     criterion: run.criterion,
     retiredSegments: run.retired.map((segment) => segment.name),
+    fittedOn: run.mode === 'rescore' ? null : fittedCustomerCount(run.settings.fitSample, run.customers),
   };
 }

@@ -91,14 +91,16 @@ export function transformSpecOf(feature: string, transform: FeatureTransform): F
 /**
  * The settings column in the contract's form. The features are always those the model used (the
  * features and transforms columns). Runs stored before the settings carried the initialisation
- * were started by k-means, the engine's one start then; their settings also held the features as
- * names with a separate transforms object, which the columns replace.
+ * were started by k-means, the engine's one start then, and runs stored before the fit sample were
+ * fitted on all placed customers; their settings also held the features as names with a separate
+ * transforms object, which the columns replace.
  */
 function settingsOf(row: RunRow, features: string[], transforms: Record<string, FeatureTransform>): StoredRunSettings {
-  const { transforms: _oldTransforms, features: _features, ...stored } = JSON.parse(row.settings) as Omit<StoredRunSettings, 'init' | 'segmentCount' | 'reviewCapacity'> & {
+  const { transforms: _oldTransforms, features: _features, ...stored } = JSON.parse(row.settings) as Omit<StoredRunSettings, 'init' | 'segmentCount' | 'reviewCapacity' | 'fitSample'> & {
     init?: InitMethod;
     segmentCount?: StoredRunSettings['segmentCount'];
     reviewCapacity?: number;
+    fitSample?: number | null;
     transforms?: unknown;
   };
   return {
@@ -106,6 +108,7 @@ function settingsOf(row: RunRow, features: string[], transforms: Record<string, 
     init: stored.init ?? 'kmeans',
     segmentCount: stored.segmentCount ?? row.k,
     reviewCapacity: stored.reviewCapacity ?? row.borderline + row.atypical,
+    fitSample: stored.fitSample ?? null,
     source: row.source,
     parentRunId: row.parent_run_id,
     features: features.map((feature) => transformSpecOf(feature, transforms[feature])),

@@ -272,7 +272,7 @@ function pretendTask<M extends keyof TaskResults>(method: M, result: TaskResults
 }
 
 const runSettings: ApiOutput<'runSummary'>['settings'] = {
-  asOf: '2026-11-30', windowMonths: 12, mode: 'refit', parentRunId: null, source: 'receipts', k: 'auto', kMin: 2, kMax: 8, covariance: 'auto', criterion: 'bic',
+  asOf: '2026-11-30', windowMonths: 12, mode: 'refit', parentRunId: null, source: 'receipts', k: 'auto', kMin: 2, kMax: 8, covariance: 'auto', criterion: 'bic', fitSample: null,
   restarts: 5, seed: 0, tol: 1e-3, maxIterations: 200, regularization: 1e-6, init: 'kmeans', borderlineConfidence: 0.7, borderlineMargin: 0.2,
   atypicalPercentile: 1, reviewMoversBelowConfidence: null, reviewCapacity: capacity, segmentCount: 'auto', minPurchases: 2, minTenureMonths: 2, freshCategories: ['fresh', 'bakery'],
   features: featureNames.map((feature) => ({ feature, log1p: true, clipLowerPercentile: null, clipUpperPercentile: null, zScore: true })),
@@ -290,6 +290,7 @@ function summary(runId: number): ApiOutput<'runSummary'> {
     asOf: runId > 1 ? '2026-11-30' : '2026-10-31', windowMonths: 12, mode: 'refit', createdAt: '2026-12-01T09:12:00Z', settings: runSettings,
     features: featureNames.map((feature) => ({ feature, log1p: true, clipLowerPercentile: null, clipUpperPercentile: null, zScore: true })),
     storedFeatures: Object.keys(featureLabels), logLikelihood: -150_600.3, icl: 309_870.5, criterion: 'bic', retiredSegments: [],
+    fittedOn: totalCustomers,
   };
 }
 
@@ -501,15 +502,23 @@ const api: Api = {
     columns: ['customer_id', 'spend_per_month', 'visits_per_month', 'average_basket', 'too_new'],
   }),
   modelSql: async (input) => ({
-    sql: '-- (preview) the scoring query\nWITH model_input AS (SELECT 1)\nSELECT 1',
+    sql: [
+      `-- (preview) scoring query of run ${input.runId}, ${input.dialect ?? 'duckdb'} dialect`,
+      'WITH model_input AS (',
+      `  SELECT customer_id, ${featureNames.map((feature) => `"${feature}"`).join(', ')}`,
+      `  FROM ${input.featuresTable ?? 'customer_features'}`,
+      ')',
+      'SELECT customer_id, segment, confidence, margin, borderline, atypical FROM model_input',
+    ].join('\n'),
     dialect: input.dialect ?? 'duckdb',
     runId: input.runId,
     featuresTable: input.featuresTable ?? 'customer_features',
-    features: ['spend_per_month', 'visits_per_month', 'average_basket'],
-    segments: ['Tier 1', 'Tier 2', 'Tier 3'],
-    components: 3,
+    features: featureNames,
+    segments: [...names],
+    components: segmentShapes.length,
     columns: ['customer_id', 'segment', 'confidence', 'margin', 'borderline', 'atypical'],
     emptyValues: 'scored on the observed features',
+    out: input.out ?? null,
   }),
   cancelTask: async (input) => ({ taskId: input.taskId, cancelled: true }),
   taskStatus: async (input) => ({ taskId: input.taskId, method: 'loadDemo', state: 'done', startedAt: '', finishedAt: '', progress: null, result: taskResults.get(input.taskId), error: null }),

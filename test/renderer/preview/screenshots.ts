@@ -32,7 +32,8 @@ const browser = await openBrowser();
 const page = browser.page;
 const problems = collectPageErrors(page);
 
-const screens: { id: string; ready: string }[] = [
+/** A screen to open (`nav`, default `id`), optionally a button to press there (`press`), and what shows it is ready. */
+const screens: { id: string; nav?: string; press?: string; ready: string }[] = [
   { id: 'sources', ready: '[data-testid="import-history"]' },
   { id: 'model', ready: '[data-testid="model-criterion-chart"], [data-testid="model-start"]' },
   { id: 'segments', ready: '[data-testid="screen-segments"][data-painted="true"]' },
@@ -40,12 +41,14 @@ const screens: { id: string; ready: string }[] = [
   { id: 'review', ready: '[data-testid="review-detail"] h2' },
   { id: 'movement', ready: '[data-testid="movement-heatmap"], [data-testid="movement-no-parent"]' },
   { id: 'export', ready: '[data-testid="export-start"]' },
+  { id: 'export-sql', nav: 'export', press: '[data-testid="model-sql-show"]', ready: '[data-testid="model-sql-query"]' },
 ];
 
 await page.goto(url);
 await page.waitForSelector('[data-testid="app-shell"]');
 for (const screen of screens) {
-  await page.click(`[data-testid="nav-${screen.id}"]`);
+  await page.click(`[data-testid="nav-${screen.nav ?? screen.id}"]`);
+  if (screen.press) await page.click(screen.press);
   await page.waitForSelector(screen.ready, { timeout: 60_000 });
   if (screen.id === 'segments') {
     // A renamed segment shows its trait-built default name under the analyst's name.
