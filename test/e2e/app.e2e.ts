@@ -151,7 +151,7 @@ describe('Spendmix in Chromium through the browser host', () => {
 
   it('regroups the run at another level of the combining tree, then back to the automatic choice', async () => {
     const caption = page.getByTestId('combining-caption');
-    await expect.poll(() => caption.innerText(), { timeout: 30_000 }).toMatch(/combined into \d+ segments?: chosen where the entropy curve bends/);
+    await expect.poll(() => caption.innerText(), { timeout: 30_000 }).toMatch(/combined into \d+ segments?: chosen where the entropy curve flattens/);
     const [, components, automatic] = /^(\d+) components?.*into (\d+) segments?/.exec(await caption.innerText())!.map(Number) as number[];
     // Any other level: one more segment when the tree has it, else one fewer.
     const level = automatic < components ? automatic + 1 : automatic - 1;
@@ -168,7 +168,7 @@ describe('Spendmix in Chromium through the browser host', () => {
     await page.getByTestId('regroup-task-dismiss').click();
     await page.getByTestId('level-auto').click();
     await waitForTask(page, 'regroup-task');
-    await expect.poll(() => caption.innerText()).toMatch(new RegExp(`into ${automatic} segments?: chosen where the entropy curve bends`));
+    await expect.poll(() => caption.innerText()).toMatch(new RegExp(`into ${automatic} segments?: chosen where the entropy curve flattens`));
   });
 
   it('paints the Segments screen and renames a segment in place', async () => {

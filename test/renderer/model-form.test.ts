@@ -43,6 +43,15 @@ describe('Model settings form', () => {
     expect(Object.keys(errors).sort()).toEqual(['reviewCapacity', 'segmentCount']);
   });
 
+  it('sends the fit sample: empty fits on all placed customers, a number on a seeded sample of that many', () => {
+    const form = formFromSettings(options, { ...defaults, fitSample: 50_000 }, '2026-11-30');
+    expect(form.fitSample).toBe('50000');
+    expect(toStartRunInput(form).input).toMatchObject({ fitSample: 50_000 });
+    expect(toStartRunInput({ ...form, fitSample: ' ' }).input).toMatchObject({ fitSample: null });
+    expect(formFromSettings(options, { ...defaults, fitSample: null }, '2026-11-30').fitSample).toBe('');
+    expect(Object.keys(toStartRunInput({ ...form, fitSample: 'half' }).errors)).toEqual(['fitSample']);
+  });
+
   it('keeps a previous run\'s features, transforms and fixed k', () => {
     const previous: RunSettings = { ...defaults, k: 3, covariance: 'diag', features: [{ feature: 'fresh_share', log1p: false, clipLowerPercentile: 1, clipUpperPercentile: 99, zScore: true }] };
     const form = formFromSettings(options, previous, '2026-10-31');

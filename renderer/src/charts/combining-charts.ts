@@ -113,7 +113,7 @@ export function combiningTreeOption(segmentation: RunSegmentation, look: Segment
 
 /**
  * Entropy of each level against the number of segments (or the cumulative count of customers
- * merged, the normalised curve); the change point that auto picks is ringed and the level in use
+ * merged, the normalised curve); the level auto picks is ringed and the level in use
  * filled large. A click on a point picks that level (the screen listens).
  */
 export function entropyCurveOption(segmentation: RunSegmentation, against: 'segments' | 'merged', format: Formatters): EChartsCoreOption {
@@ -129,7 +129,7 @@ export function entropyCurveOption(segmentation: RunSegmentation, against: 'segm
       formatter: (params: { data: { segmentCount: number; value: [number, number] } }) =>
         `${params.data.segmentCount} segment${params.data.segmentCount === 1 ? '' : 's'}: entropy ${format.decimal(params.data.value[1], 1)}` +
         (against === 'merged' ? `, ${format.count(params.data.value[0])} customers merged` : '') +
-        (params.data.segmentCount === auto ? '<br>where the curve bends (automatic choice)' : '') +
+        (params.data.segmentCount === auto ? '<br>where the curve flattens (automatic choice)' : '') +
         (params.data.segmentCount === current ? '<br>in use' : '') +
         '<br>click to choose this level',
     },

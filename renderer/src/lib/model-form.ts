@@ -33,7 +33,7 @@ export interface ModelForm {
   kMax: string;
   /** One structure, or 'auto' to sweep all four. */
   covariance: CovarianceType | 'auto';
-  /** Segments the components are combined into: the entropy curve's change point, or a number. */
+  /** Segments the components are combined into: automatic (where the entropy curve flattens), or a number. */
   segmentMode: 'auto' | 'fixed';
   segmentCount: string;
   criterion: 'bic' | 'icl';
@@ -55,6 +55,8 @@ export interface ModelForm {
   moversBelow: string;
   /** Customers one person can review this month. */
   reviewCapacity: string;
+  /** Fit on a seeded sample of this many placed customers (empty: all of them); everyone is scored. */
+  fitSample: string;
   carried: CarriedSettings;
 }
 
@@ -105,6 +107,7 @@ export function formFromSettings(options: ModelOptions, settings: RunSettings, a
     moversOn: settings.reviewMoversBelowConfidence !== null,
     moversBelow: text(settings.reviewMoversBelowConfidence ?? 0.6),
     reviewCapacity: text(settings.reviewCapacity),
+    fitSample: settings.fitSample === null ? '' : text(settings.fitSample),
     carried: { source: settings.source },
   };
 }
@@ -182,6 +185,7 @@ export function toStartRunInput(form: ModelForm): { input: ApiInput<'startRun'>;
     minTenureMonths: number('minTenureMonths'),
     reviewMoversBelowConfidence: form.moversOn ? number('moversBelow') : null,
     reviewCapacity: number('reviewCapacity'),
+    fitSample: form.fitSample.trim() === '' ? null : number('fitSample'),
   };
   return { input, errors };
 }

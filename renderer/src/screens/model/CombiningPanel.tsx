@@ -19,7 +19,7 @@ import { countOf, type Formatters } from '../../lib/format.js';
 import { ui } from '../../lib/palette.js';
 
 const methodWords: Record<RunSegmentation['method'], string> = {
-  auto: 'chosen where the entropy curve bends',
+  auto: 'chosen where the entropy curve flattens',
   level: 'a level picked by hand',
   hand: 'merged or split by hand',
 };
@@ -108,8 +108,9 @@ export function CombiningPanel({ runId, onRegrouped }: { runId: number; onRegrou
                 />
               ) : null}
               <p className="caption">
-                Ringed: where the curve bends, the automatic choice ({countOf(data.autoSegmentCount, 'segment', format)}; on the curve across customers merged,{' '}
-                {format.count(data.autoSegmentCountByMergedRows)}). Filled: the level in use{data.currentLevel === null ? ' (none: the segments were merged or split by hand)' : ''}.
+                Ringed: the automatic choice ({countOf(data.autoSegmentCount, 'segment', format)}): groups are merged only while the customers they hold are, on
+                average, no surer between the two than 95 / 5, and merging stops where the curve flattens (the least-squares change point across customers
+                merged would give {format.count(data.autoSegmentCountByMergedRows)}). Filled: the level in use{data.currentLevel === null ? ' (none: the segments were merged or split by hand)' : ''}.
               </p>
             </div>
           </div>

@@ -4,7 +4,7 @@
  * model-fresh-categories, model-feature-<feature>, model-transform-<feature>-<log1p|clip|zScore>,
  * model-clip-lower-<feature>, model-clip-upper-<feature>, model-k-mode, model-k, model-k-min,
  * model-k-max, model-criterion, model-covariance, model-segment-mode, model-segment-count,
- * model-restarts, model-seed, model-init, model-tol, model-max-iter, model-reg,
+ * model-restarts, model-seed, model-init, model-tol, model-max-iter, model-reg, model-fit-sample,
  * model-borderline-confidence, model-borderline-margin, model-atypical, model-movers,
  * model-movers-below, model-review-capacity, model-start.
  */
@@ -189,7 +189,7 @@ export function SettingsForm({ options, form, errors, running, onChange, onSubmi
         </div>
         <p className="hint">
           Components that overlap are combined, two at a time, where combining them makes customers' memberships most certain (the entropy
-          criterion). After the fit you can pick another level, or merge and split segments by hand.
+          criterion), while customers are unsure between the two. After the fit you can pick another level, or merge and split segments by hand.
         </p>
       </fieldset>
 
@@ -212,6 +212,7 @@ export function SettingsForm({ options, form, errors, running, onChange, onSubmi
           {textInput('tol', 'model-tol', 'convergence tolerance', 'change of mean log-likelihood, e.g. 1e-3')}
           {textInput('maxIterations', 'model-max-iter', 'most iterations per start')}
           {textInput('regularization', 'model-reg', 'covariance regularisation', 'added to the diagonal, e.g. 1e-6')}
+          {textInput('fitSample', 'model-fit-sample', 'fit on a sample of (customers)', 'empty: fit on all; a seeded sample, then everyone is scored')}
         </div>
       </fieldset>
 
