@@ -4,6 +4,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import type { Page } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { defaultModelFeatures } from '../../src/api/contract.js';
 import { designScreens } from '../support/design-reference.js';
 import { collectPageErrors, openBrowser, screenshot, serve, type ServedApp } from './harness.js';
 
@@ -298,9 +299,10 @@ describe('Spendmix in Chromium through the browser host', () => {
     expect(runId).toBeGreaterThan(0);
     expect(sql).toContain('FROM crm.november_features');
     expect(sql).toContain('AS MATERIALIZED');
-    // The note names what the table needs: customer_id and the run's features, as the query reads them.
+    // The note names what the table needs: customer_id and the run's features (the defaults here), as the query reads them.
     const needs = await page.getByTestId('model-sql-needs').innerText();
-    for (const feature of ['spend_per_month', 'visits_per_month', 'average_basket']) {
+    expect(needs).not.toContain('spend_per_month');
+    for (const feature of defaultModelFeatures) {
       expect(needs).toContain(feature);
       expect(sql).toContain(`"${feature}"`);
     }
