@@ -38,7 +38,7 @@ describe('the API contract', () => {
       k: 'auto',
       kMin: 2,
       kMax: 8,
-      covariance: 'auto',
+      covariance: 'diag',
       criterion: 'bic',
       restarts: 5,
       borderlineConfidence: 0.7,
