@@ -167,7 +167,7 @@ export function combineComponents(posteriors: Float64Array, rows: number, compon
  * two groups loses −p log p − (1 − p) log(1 − p) nats when they merge, so the threshold reads as
  * "on average at least that unsure between the two".
  */
-export function segmentsWhileAmbiguous(hierarchy: CombiningHierarchy, natsPerRow: number): number {
+export function segmentsWhileAmbiguous(hierarchy: { levels: readonly Pick<CombiningLevel, 'segmentCount' | 'entropy' | 'mergedRows'>[] }, natsPerRow: number): number {
   if (!(natsPerRow > 0)) throw new InputError(`The entropy drop per merged row must be positive; got ${natsPerRow}.`);
   const { levels } = hierarchy;
   for (let i = 1; i < levels.length; i++) {
@@ -266,7 +266,7 @@ export function checkSegmentation(segmentation: Segmentation): void {
 }
 
 /** The segmentation of the hierarchy's level with `segmentCount` segments (1 … components). */
-export function segmentationAtLevel(hierarchy: CombiningHierarchy, segmentCount: number): Segmentation {
+export function segmentationAtLevel(hierarchy: { components: number; levels: readonly { segmentation: Segmentation }[] }, segmentCount: number): Segmentation {
   if (!Number.isInteger(segmentCount) || segmentCount < 1) throw new InputError(`The number of segments must be a whole number ≥ 1; got ${segmentCount}.`);
   if (segmentCount > hierarchy.components) {
     throw new InputError(

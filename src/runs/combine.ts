@@ -24,8 +24,19 @@ import type { StoredSegmentation } from './types.js';
  */
 export const AMBIGUOUS_MERGE_NATS = 0.2;
 
+/** What picking a level needs of a hierarchy: the engine's, or one stored with a run (`storedHierarchy`). */
+export interface LevelledHierarchy {
+  components: number;
+  levels: readonly (Pick<CombiningLevelSummary, 'segmentCount' | 'entropy' | 'mergedRows'> & { segmentation: Segmentation })[];
+}
+
+/** A run's stored level summaries as a hierarchy to pick levels from again, without recombining its posteriors. */
+export function storedHierarchy(components: number, levels: readonly CombiningLevelSummary[]): LevelledHierarchy {
+  return { components, levels: levels.map((level) => ({ ...level, segmentation: { components, segments: level.groups } })) };
+}
+
 /** The number of segments auto gives for a hierarchy. */
-export function autoSegmentCount(hierarchy: CombiningHierarchy): number {
+export function autoSegmentCount(hierarchy: LevelledHierarchy): number {
   return segmentsWhileAmbiguous(hierarchy, AMBIGUOUS_MERGE_NATS);
 }
 
@@ -46,7 +57,7 @@ export interface SegmentationChoice {
 }
 
 /** The segmentation a setting asks for, checked against the model's K components (InputError naming what is wrong). */
-export function chosenSegmentation(hierarchy: CombiningHierarchy, choice: SegmentationChoice): { segmentation: Segmentation; method: SegmentationMethod } {
+export function chosenSegmentation(hierarchy: LevelledHierarchy, choice: SegmentationChoice): { segmentation: Segmentation; method: SegmentationMethod } {
   if (choice.segmentation) {
     const segmentation = { components: hierarchy.components, segments: choice.segmentation.map((group) => [...group].sort((a, b) => a - b)) };
     checkSegmentation(segmentation);
@@ -57,7 +68,7 @@ export function chosenSegmentation(hierarchy: CombiningHierarchy, choice: Segmen
 }
 
 /** What the run row stores: the grouping, how it was chosen, and the hierarchy summary. */
-export function storedSegmentation(hierarchy: CombiningHierarchy, segmentation: Segmentation, method: SegmentationMethod): StoredSegmentation {
+export function storedSegmentation(hierarchy: CombiningHierarchy, segmentation: Segmentation, method: SegmentationMethod): StoredSegmentation & { levels: CombiningLevelSummary[] } {
   return {
     method,
     segments: segmentation.segments.map((group) => [...group]),

@@ -11,13 +11,14 @@
 import type { Database } from 'better-sqlite3';
 import type { RegroupResult, RegroupSegmentsInput, SegmentationMethod, StoredRunSettings } from '../api/contract.js';
 import { throwIfAborted } from '../errors.js';
-import { combineComponents, mergeSegments, splitSegment, type CombiningHierarchy, type Segmentation } from '../model/index.js';
-import { chosenSegmentation, storedSegmentation } from './combine.js';
+import { mergeSegments, splitSegment, type Segmentation } from '../model/index.js';
+import { chosenSegmentation, storedHierarchy, type LevelledHierarchy } from './combine.js';
 import { movementAgainst } from './movement.js';
 import { loadParentRun } from './parent.js';
 import { insertSegmentRows, segmentColumns } from './persist.js';
 import { getRunSummary } from './read/run-detail.js';
 import { runSegments, type RunSegments } from './read/run-segments.js';
+import { withHierarchy } from './read/segmentation.js';
 import { storedRun } from './read/stored-run.js';
 import { nextKeyNumber } from './run.js';
 import { segmentPlaced } from './segmenting.js';
@@ -38,7 +39,7 @@ export interface RegroupOptions {
 /** The new grouping a change asks for, and how it is chosen; InputError (from the engine) when it cannot be made. */
 function changedSegmentation(
   change: RegroupSegmentsInput['change'],
-  hierarchy: CombiningHierarchy,
+  hierarchy: LevelledHierarchy,
   current: Segmentation,
   segments: RunSegments,
 ): { segmentation: Segmentation; method: SegmentationMethod; words: string } {
@@ -74,7 +75,9 @@ export async function regroupSegments(db: Database, input: RegroupSegmentsInput,
   throwIfAborted(signal);
 
   report('combine', 0, 1, `Combining ${run.k} components`);
-  const hierarchy = combineComponents(placed.posteriors, placed.customerIds.length, run.k);
+  // The hierarchy stored with the run: the same posteriors would combine the same way again.
+  const stored = withHierarchy(db, runId, run.segmentation);
+  const hierarchy = storedHierarchy(run.k, stored.levels);
   const current: Segmentation = { components: run.k, segments: run.segmentation.segments.map((group) => [...group]) };
   const { segmentation, method, words } = changedSegmentation(input.change, hierarchy, current, before);
   const parent = run.parentRunId === null ? null : loadParentRun(db, run.parentRunId);
@@ -136,7 +139,7 @@ export async function regroupSegments(db: Database, input: RegroupSegmentsInput,
       `UPDATE run_samples SET segment_index = (SELECT m.segment_index FROM run_memberships m WHERE m.run_id = run_samples.run_id AND m.customer_id = run_samples.customer_id)
        WHERE run_id = ?`,
     ).run(runId);
-    const columns = segmentColumns(outcome, storedSegmentation(hierarchy, segmentation, method));
+    const columns = segmentColumns(outcome, { ...stored, method, segments: segmentation.segments.map((group) => [...group]) });
     db.prepare(
       `UPDATE runs SET borderline = @borderline, atypical = @atypical, atypical_log_density_below = @atypicalCut, stability = @stability,
          retired = @retired, movement = @movement, segmentation = @segmentation, settings = @settings, revision = revision + 1

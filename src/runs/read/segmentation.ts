@@ -5,7 +5,7 @@
  * hierarchy: it is worked out from their component posteriors on first use and kept with the run.
  */
 import type { Database } from 'better-sqlite3';
-import type { RunSegmentation } from '../../api/contract.js';
+import type { CombiningLevelSummary, RunSegmentation } from '../../api/contract.js';
 import { combineComponents } from '../../model/index.js';
 import { levelOfGrouping, storedSegmentation } from '../combine.js';
 import { loadPlacement } from '../stored-placement.js';
@@ -13,8 +13,9 @@ import type { StoredSegmentation } from '../types.js';
 import { runSegments } from './run-segments.js';
 import { derivedFromRun, storedRun } from './stored-run.js';
 
-function withHierarchy(db: Database, runId: number, stored: StoredSegmentation): StoredSegmentation {
-  if (stored.levels !== null) return stored;
+/** The run's stored segmentation with its hierarchy (worked out once for runs stored without one). */
+export function withHierarchy(db: Database, runId: number, stored: StoredSegmentation): StoredSegmentation & { levels: CombiningLevelSummary[] } {
+  if (stored.levels !== null) return { ...stored, levels: stored.levels };
   return derivedFromRun(db, runId, 'combining hierarchy', () => {
     const { placed } = loadPlacement(db, runId);
     const hierarchy = combineComponents(placed.posteriors, placed.customerIds.length, placed.components);
@@ -26,7 +27,7 @@ export function segmentationOf(db: Database, runId: number): RunSegmentation {
   const run = storedRun(db, runId);
   const stored = withHierarchy(db, runId, run.segmentation);
   const segments = runSegments(db, runId).list;
-  const levels = stored.levels ?? [];
+  const { levels } = stored;
   return {
     runId,
     components: run.k,
