@@ -3,11 +3,13 @@
  * across months and regroups, so that its name — the analyst's rename included — carries over.
  *
  * Default names describe a segment's measured traits relative to ALL placed customers of the run,
- * in plain words: how often (visit rate), how much per trip (basket size), how recently (days
- * since the last visit), e.g. "Frequent · large baskets · recent". A trait's position is the share
- * of placed customers whose value lies below the segment's median, cut into five bands. Names are
- * unique within a run: segments whose words coincide get the next most distinctive trait added
- * (the one whose median lies furthest from the middle of all customers), then their spend rank.
+ * in plain words: how much it spends (spend per month), how often (visit rate), how much per trip
+ * (basket size), how recently (days since the last visit), e.g. "High spend · frequent · large
+ * baskets · recent". Spend leads because the lists are spend tiers: a campaign team sorts and
+ * reads them by it. A trait's position is the share of placed customers whose value lies below the
+ * segment's median, cut into five bands. Names are unique within a run: segments whose words
+ * coincide get the next most distinctive trait added (the one whose median lies furthest from the
+ * middle of all customers), then their spend rank.
  * Nothing here names a customer type from any known scheme; the words only restate measurements.
  */
 import type { SegmentTrait } from '../api/contract.js';
@@ -60,8 +62,8 @@ const bandWords: Record<string, readonly [string, string, string, string, string
   spend_per_month: ['very low spend', 'low spend', 'mid spend', 'high spend', 'very high spend'],
 };
 
-/** The features whose words make the name, in the order they are said: how often, how much per trip, how recently. */
-export const NAME_TRAITS: readonly string[] = ['visits_per_month', 'average_basket', 'days_since_last_visit'];
+/** The features whose words make the name, in the order they are said: how much, how often, how much per trip, how recently. */
+export const NAME_TRAITS: readonly string[] = ['spend_per_month', 'visits_per_month', 'average_basket', 'days_since_last_visit'];
 
 function band(percentile: number): 0 | 1 | 2 | 3 | 4 {
   return percentile < 0.2 ? 0 : percentile < 0.4 ? 1 : percentile < 0.6 ? 2 : percentile < 0.8 ? 3 : 4;
@@ -106,7 +108,7 @@ export function segmentTraits(
   });
 }
 
-/** How many traits a name says before disambiguation: the three of NAME_TRAITS, or the two most distinctive otherwise. */
+/** How many traits a name says before disambiguation: those of NAME_TRAITS the run stores, or the two most distinctive otherwise. */
 function baseTraitCount(traits: readonly SegmentTrait[]): number {
   const named = traits.filter((trait) => NAME_TRAITS.includes(trait.feature)).length;
   return named > 0 ? named : Math.min(2, traits.length);

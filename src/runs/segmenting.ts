@@ -72,9 +72,9 @@ export interface SegmentOutcome {
   sortedByFeature: Map<string, Float64Array>;
 }
 
-/** Features whose traits a name may use: how often, how much per trip, how recently, the mix, spend, and the model's own. */
+/** Features whose traits a name may use: spend, how often, how much per trip, how recently, the mix, and the model's own. */
 function traitCandidates(modelFeatures: readonly string[], stored: readonly string[]): string[] {
-  const wanted = [...NAME_TRAITS, 'fresh_share', 'spend_per_month', ...modelFeatures];
+  const wanted = [...NAME_TRAITS, 'fresh_share', ...modelFeatures];
   return [...new Set(wanted)].filter((feature) => stored.includes(feature));
 }
 

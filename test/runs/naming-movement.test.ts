@@ -36,21 +36,36 @@ describe('segment names from measured traits', () => {
     expect(names[0]).not.toMatch(/champion|loyal|risk|hibernat|tier/i);
   });
 
-  it('makes clashing names unique by the next trait, then by spend rank', () => {
+  it('leads with spend where the run stores it: how much · how often · per trip · how recently', () => {
     const candidates = ['visits_per_month', 'average_basket', 'days_since_last_visit', 'spend_per_month'];
     const withSpend = new Map([...sorted, ['spend_per_month', Float64Array.from({ length: 10 }, (_, i) => 10 * (i + 1))]]);
-    const a = segmentTraits({ visits_per_month: 9.5, average_basket: 9.5, days_since_last_visit: 1, spend_per_month: 95 }, withSpend, candidates);
-    const b = segmentTraits({ visits_per_month: 9.5, average_basket: 9.5, days_since_last_visit: 1, spend_per_month: 45 }, withSpend, candidates);
-    const c = segmentTraits({ visits_per_month: 9.5, average_basket: 9.5, days_since_last_visit: 1, spend_per_month: 47 }, withSpend, candidates);
-    expect(defaultNames([a, b], [1, 2])).toEqual([
-      'Very frequent · very large baskets · very recent · very high spend',
-      'Very frequent · very large baskets · very recent · mid spend',
+    // Spend median 95: 9 of 10 customers below it, the top band.
+    const traits = segmentTraits({ visits_per_month: 5.5, average_basket: 9.5, days_since_last_visit: 3, spend_per_month: 95 }, withSpend, candidates);
+    expect(traits.map((t) => t.feature)).toEqual(['spend_per_month', 'visits_per_month', 'average_basket', 'days_since_last_visit']);
+    expect(defaultNames([traits], [1])).toEqual(['Very high spend · regular · very large baskets · recent']);
+  });
+
+  it('makes clashing names unique by the next trait, then by spend rank', () => {
+    const candidates = ['visits_per_month', 'average_basket', 'days_since_last_visit', 'spend_per_month', 'fresh_share'];
+    const withMore = new Map([
+      ...sorted,
+      ['spend_per_month', Float64Array.from({ length: 10 }, (_, i) => 10 * (i + 1))],
+      ['fresh_share', Float64Array.from({ length: 10 }, (_, i) => (i + 1) / 10)],
     ]);
-    // b and c agree on every trait: the spend rank tells them apart; a differs by its spend word.
+    const traitsOf = (spend: number, fresh: number) =>
+      segmentTraits({ visits_per_month: 9.5, average_basket: 9.5, days_since_last_visit: 1, spend_per_month: spend, fresh_share: fresh }, withMore, candidates);
+    const [a, b, c] = [traitsOf(95, 0.95), traitsOf(45, 0.15), traitsOf(47, 0.95)];
+    // a differs by its spend word; b and c share theirs, so each adds its next trait (the mix).
     expect(defaultNames([a, b, c], [1, 3, 2])).toEqual([
-      'Very frequent · very large baskets · very recent · very high spend',
-      'Very frequent · very large baskets · very recent · mid spend · spend rank 3',
-      'Very frequent · very large baskets · very recent · mid spend · spend rank 2',
+      'Very high spend · very frequent · very large baskets · very recent',
+      'Mid spend · very frequent · very large baskets · very recent · very little fresh',
+      'Mid spend · very frequent · very large baskets · very recent · very fresh-heavy',
+    ]);
+    // Agreeing on every trait, the spend rank tells them apart.
+    const d = traitsOf(47, 0.15);
+    expect(defaultNames([b, d], [3, 2])).toEqual([
+      'Mid spend · very frequent · very large baskets · very recent · very little fresh · spend rank 3',
+      'Mid spend · very frequent · very large baskets · very recent · very little fresh · spend rank 2',
     ]);
     expect(defaultNames([[]], [4])).toEqual(['Spend rank 4']);
   });

@@ -137,6 +137,12 @@ export function traitText(trait: { label: string; median: number; unit: string; 
       : trait.unit === 'EUR per month'
         ? `${formatInUnit(trait.median, 'EUR', format)}/month`
         : formatInUnit(trait.median, trait.unit, format);
-  const rank = trait.percentile >= 0.5 ? `top ${format.percent(1 - trait.percentile, 0)}` : `bottom ${format.percent(trait.percentile, 0)}`;
+  const rank = trait.percentile >= 0.5 ? `top ${rankShare(1 - trait.percentile, format)}` : `bottom ${rankShare(trait.percentile, format)}`;
   return `${trait.label} ${value} — ${trait.words} (${rank})`;
+}
+
+/** A rank's share in whole percent, or with one decimal below 1 % so that a small share never reads "0 %". */
+function rankShare(share: number, format: Formatters): string {
+  if (share >= 0.0095) return format.percent(share, 0);
+  return share >= 0.0005 ? format.percent(share, 1) : `under ${format.percent(0.001, 1)}`;
 }

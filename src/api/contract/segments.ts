@@ -28,7 +28,7 @@ export interface FeatureQuartiles {
 /**
  * One measured trait of a segment, relative to all placed customers of the run: the segment's
  * median of a feature and where that median falls among every placed customer's value. Default
- * names are built from these (how often, how much per trip, how recently, then the mix).
+ * names are built from these (how much spent, how often, how much per trip, how recently, then the mix).
  */
 export interface SegmentTrait {
   feature: string;

@@ -43,10 +43,10 @@ const featureUnits: Record<string, string> = {
 };
 
 const segmentShapes = [
-  { name: 'Very frequent · very large baskets · recent', weight: 0.08, mean: [1.9, 1.3, 1.2], sd: [0.45, 0.5, 0.5], rho: 0.4, spend: 620, visits: 11, basket: 56, percentiles: [0.93, 0.95, 0.2] },
-  { name: 'Frequent · large baskets · recent', weight: 0.27, mean: [0.7, 0.6, 0.3], sd: [0.45, 0.45, 0.5], rho: 0.5, spend: 310, visits: 8, basket: 38, percentiles: [0.74, 0.7, 0.3] },
-  { name: 'Regular · mid-size baskets · less recent', weight: 0.38, mean: [-0.3, -0.1, -0.2], sd: [0.5, 0.55, 0.45], rho: 0.3, spend: 140, visits: 5, basket: 27, percentiles: [0.48, 0.45, 0.5] },
-  { name: 'Rare · small baskets · long absent', weight: 0.27, mean: [-1.2, -0.9, -0.5], sd: [0.5, 0.55, 0.6], rho: 0.2, spend: 52, visits: 2.4, basket: 21, percentiles: [0.15, 0.22, 0.8] },
+  { name: 'Very high spend · very frequent · very large baskets · recent', weight: 0.08, mean: [1.9, 1.3, 1.2], sd: [0.45, 0.5, 0.5], rho: 0.4, spend: 620, visits: 11, basket: 56, percentiles: [0.93, 0.95, 0.2] },
+  { name: 'High spend · frequent · large baskets · recent', weight: 0.27, mean: [0.7, 0.6, 0.3], sd: [0.45, 0.45, 0.5], rho: 0.5, spend: 310, visits: 8, basket: 38, percentiles: [0.74, 0.7, 0.3] },
+  { name: 'Mid spend · regular · mid-size baskets · fairly recent', weight: 0.38, mean: [-0.3, -0.1, -0.2], sd: [0.5, 0.55, 0.45], rho: 0.3, spend: 140, visits: 5, basket: 27, percentiles: [0.48, 0.45, 0.5] },
+  { name: 'Very low spend · rare · small baskets · long absent', weight: 0.27, mean: [-1.2, -0.9, -0.5], sd: [0.5, 0.55, 0.6], rho: 0.2, spend: 52, visits: 2.4, basket: 21, percentiles: [0.15, 0.22, 0.8] },
 ];
 /** Six Gaussian components combined into the four segments: segments 1 and 2 hold two components each. */
 const componentsOfSegment = [[0], [1, 4], [2, 5], [3]];
