@@ -8,7 +8,7 @@ import { basename } from 'node:path';
 import { featureLabel } from '../features/definitions.js';
 import { describeTransform } from '../features/transforms.js';
 import { featureWindow } from '../features/window.js';
-import type { ReviewItem, RunDetail } from '../api/contract.js';
+import { componentsSearchedWords, type ReviewItem, type RunDetail } from '../api/contract.js';
 import { iterateRunCustomers } from '../runs/read/export-customers.js';
 import { movementOf } from '../runs/read/movement.js';
 import { everyReviewItem } from '../runs/read/review-queue.js';
@@ -25,8 +25,9 @@ function modelEntries(detail: RunDetail): OverviewEntry[] {
   return [
     { label: 'Mode', value: settings.mode },
     { label: 'Feature source', value: settings.source },
-    { label: 'Segments (k)', value: detail.k, kind: 'count' },
-    { label: 'k searched', value: settings.k === 'auto' ? `${settings.kMin} to ${settings.kMax}` : `fixed at ${settings.k}` },
+    { label: 'Segments', value: detail.segmentCount, kind: 'count' },
+    { label: 'Gaussian components (k)', value: detail.k, kind: 'count' },
+    { label: 'k searched', value: settings.k === 'auto' ? componentsSearchedWords(settings) : `fixed at ${settings.k}` },
     { label: 'Covariance structure', value: detail.covariance },
     { label: 'Covariance searched', value: settings.covariance },
     { label: 'Selection criterion', value: detail.criterion.toUpperCase() },

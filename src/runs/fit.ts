@@ -6,7 +6,7 @@
  * k asked for. Every engine option is passed explicitly from the run's settings (their defaults
  * are the contract's, src/api/contract/settings.ts).
  */
-import type { ExplicitRunSettings } from '../api/contract.js';
+import { componentsSearched, type ExplicitRunSettings } from '../api/contract.js';
 import { InputError } from '../errors.js';
 import {
   covarianceTypes,
@@ -83,7 +83,7 @@ export async function fitForRun(
   settings: ExplicitRunSettings,
   options: { signal?: AbortSignal; onProgress?: (progress: FitProgress) => void },
 ): Promise<RunFit> {
-  const [kMin, kMax] = settings.k === 'auto' ? [settings.kMin, settings.kMax] : [settings.k, settings.k];
+  const [kMin, kMax] = componentsSearched(settings);
   const structures: readonly CovarianceType[] = settings.covariance === 'auto' ? covarianceTypes : [settings.covariance];
   const { data, warnings: sampleWarnings } = fittedRows(placedData, settings);
   if (kMax >= data.rows) {

@@ -74,7 +74,8 @@ export function inventedRunHeader(counts: ExportRunHeader['counts'], parentRunId
     windowStart: '2025-12-01',
     features: defaultFeatureColumns.map((column) => ({ name: column.key, label: column.header, transform: 'log1p, z-scored' })),
     model: [
-      { label: 'Segments (k)', value: 3, kind: 'count' },
+      { label: 'Segments', value: 3, kind: 'count' },
+      { label: 'Gaussian components (k)', value: 4, kind: 'count' },
       { label: 'Covariance structure', value: 'full' },
     ],
     counts,

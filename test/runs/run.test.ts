@@ -280,6 +280,13 @@ describe('reading a run', () => {
     expect(table.filter((row) => row.chosen)).toEqual([best]);
     expect(swept.bic).toBeCloseTo(best.bic, 6);
   });
+
+  it('with k auto and a fixed segment count, tries no model with fewer components than segments', async () => {
+    const swept = await runMonth(db, { ...base, k: 'auto', kMin: 2, kMax: 5, covariance: 'diag', segmentCount: 4, restarts: 1 });
+    expect(sweepTable(db, swept.runId).map((row) => row.k)).toEqual([4, 5]);
+    expect(swept.segmentCount).toBe(4);
+    expect(swept.k).toBeGreaterThanOrEqual(4);
+  });
 });
 
 describe('options of a run', () => {
