@@ -8,7 +8,7 @@ import { basename } from 'node:path';
 import { featureLabel } from '../features/definitions.js';
 import { describeTransform } from '../features/transforms.js';
 import { featureWindow } from '../features/window.js';
-import { componentsSearchedWords, type ReviewItem, type RunDetail } from '../api/contract.js';
+import type { ReviewItem, RunDetail } from '../api/contract.js';
 import { iterateRunCustomers } from '../runs/read/export-customers.js';
 import { movementOf } from '../runs/read/movement.js';
 import { everyReviewItem } from '../runs/read/review-queue.js';
@@ -19,6 +19,13 @@ import { getCustomer } from '../store/customers-repo.js';
 import { featureColumn } from './columns.js';
 import type { ExportReviewRow, ExportRunHeader, ExportSource, OverviewEntry } from './source.js';
 
+/** "2 to 8", "fixed at 5", or the parent's model for a rescore. */
+function searchedWords(detail: RunDetail): string {
+  const searched = detail.componentsSearched;
+  if (searched === null) return "the parent run's model";
+  return searched.from === searched.to ? `fixed at ${searched.from}` : `${searched.from} to ${searched.to}`;
+}
+
 function modelEntries(detail: RunDetail): OverviewEntry[] {
   const { settings } = detail;
   const threshold = (value: number | null) => (value === null ? 'off' : value);
@@ -27,7 +34,7 @@ function modelEntries(detail: RunDetail): OverviewEntry[] {
     { label: 'Feature source', value: settings.source },
     { label: 'Segments', value: detail.segmentCount, kind: 'count' },
     { label: 'Gaussian components (k)', value: detail.k, kind: 'count' },
-    { label: 'k searched', value: settings.k === 'auto' ? componentsSearchedWords(settings) : `fixed at ${settings.k}` },
+    { label: 'k searched', value: searchedWords(detail) },
     { label: 'Covariance structure', value: detail.covariance },
     { label: 'Covariance searched', value: settings.covariance },
     { label: 'Selection criterion', value: detail.criterion.toUpperCase() },

@@ -6,7 +6,7 @@
  * k asked for. Every engine option is passed explicitly from the run's settings (their defaults
  * are the contract's, src/api/contract/settings.ts).
  */
-import { componentsSearched, type ExplicitRunSettings } from '../api/contract.js';
+import type { ExplicitRunSettings, RunSettings } from '../api/contract.js';
 import { InputError } from '../errors.js';
 import {
   covarianceTypes,
@@ -78,12 +78,23 @@ function fittedRows(data: DataMatrix, settings: ExplicitRunSettings): { data: Da
   return { data: { ...data, values, rows: rows.length }, warnings: [] };
 }
 
+/**
+ * The numbers of components a fit tries: k when fixed; with k auto kMin to kMax, but never fewer
+ * components than a fixed segment count asks for (a segment is one or more components), so such a
+ * run cannot choose a model too small for it.
+ */
+export function componentsSearched(settings: Pick<RunSettings, 'k' | 'kMin' | 'kMax' | 'segmentCount'>): { from: number; to: number } {
+  if (settings.k !== 'auto') return { from: settings.k, to: settings.k };
+  const fewest = settings.segmentCount === 'auto' ? settings.kMin : Math.max(settings.kMin, settings.segmentCount);
+  return { from: Math.min(fewest, settings.kMax), to: settings.kMax };
+}
+
 export async function fitForRun(
   placedData: DataMatrix,
   settings: ExplicitRunSettings,
   options: { signal?: AbortSignal; onProgress?: (progress: FitProgress) => void },
 ): Promise<RunFit> {
-  const [kMin, kMax] = componentsSearched(settings);
+  const { from: kMin, to: kMax } = componentsSearched(settings);
   const structures: readonly CovarianceType[] = settings.covariance === 'auto' ? covarianceTypes : [settings.covariance];
   const { data, warnings: sampleWarnings } = fittedRows(placedData, settings);
   if (kMax >= data.rows) {

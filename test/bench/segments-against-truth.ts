@@ -7,6 +7,9 @@
  *   npx tsx test/bench/segments-against-truth.ts --dir FOLDER [--as-of YYYY-MM-DD]
  *       options: --sklearn       cross-check the ARI with scikit-learn (Debian's /usr/bin/python3)
  *                --two-features  also fit 4 components on log visit rate and log basket only
+ *                --fit-seeds 1,2,3,4  also refresh the same month with these EM seeds (the default
+ *                                run's is 0) and report each and the mean: one seed's ARI moves by a
+ *                                few hundredths with the starts alone
  *                --keep          keep the working folder (database and files)
  *                --json          one JSON object instead of the text report
  *
@@ -36,6 +39,7 @@ const { values } = parseArgs({
     seed: { type: 'string' },
     sklearn: { type: 'boolean', default: false },
     'two-features': { type: 'boolean', default: false },
+    'fit-seeds': { type: 'string' },
     keep: { type: 'boolean', default: false },
     json: { type: 'boolean', default: false },
   },
@@ -84,6 +88,14 @@ function sklearnAri(work: string, dbPath: string, runId: number, truth: Truth): 
   const run = spawnSync('/usr/bin/python3', ['-c', script, csvPath], { encoding: 'utf8' });
   if (run.status !== 0) throw new Error(`scikit-learn cross-check failed: ${run.stderr}`);
   return Number(run.stdout.trim());
+}
+
+/** The EM seeds of --fit-seeds ("1,2,3"): non-negative integers other than the default 0. */
+function fitSeeds(list: string | undefined): number[] {
+  if (list === undefined) return [];
+  const seeds = list.split(',').map((part) => Number(part.trim()));
+  if (seeds.some((seed) => !Number.isInteger(seed) || seed < 0)) throw new Error(`--fit-seeds takes non-negative integers separated by commas; got "${list}".`);
+  return [...new Set(seeds)].filter((seed) => seed !== 0);
 }
 
 /** A 4-component fit on log visit rate and log basket only, stored as another run of the same month. */
@@ -176,9 +188,26 @@ async function main(): Promise<void> {
       }
     }
 
+    const bySeed: { seed: number; evaluation: TruthEvaluation }[] = [{ seed: 0, evaluation }];
+    for (const seed of fitSeeds(values['fit-seeds'])) {
+      const other = await spendmixJson<{ runId: number }>('refresh', '--db', dbPath, '--as-of', asOf, '--seed', String(seed));
+      bySeed.push({ seed, evaluation: await evaluateAgainstTruth(dbPath, other.runId, truth) });
+    }
+    if (bySeed.length > 1) {
+      log('\nthe same month with other EM seeds (the default is 0):');
+      for (const { seed, evaluation: result } of bySeed) {
+        log(
+          `  seed ${seed}: k = ${result.k}, ${result.segments} segments, ARI ${result.ari.toFixed(4)}, ` +
+            `borderline ${(100 * result.borderlineShare).toFixed(1)} %, queue ${result.queue}`,
+        );
+      }
+      const aris = bySeed.map(({ evaluation: result }) => result.ari);
+      log(`  ARI mean ${(aris.reduce((a, b) => a + b, 0) / aris.length).toFixed(4)}, range ${Math.min(...aris).toFixed(4)}–${Math.max(...aris).toFixed(4)}`);
+    }
+
     if (values.json) {
       process.stdout.write(
-        `${JSON.stringify({ chain, dataDir, asOf, generationSeconds, importSeconds, refreshSeconds, imports, evaluation, sklearnAri: sklearn, twoFeatures })}\n`,
+        `${JSON.stringify({ chain, dataDir, asOf, generationSeconds, importSeconds, refreshSeconds, imports, evaluation, sklearnAri: sklearn, twoFeatures, bySeed })}\n`,
       );
     }
     if (values.keep) log(`\nkept ${work}`);

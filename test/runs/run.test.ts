@@ -4,8 +4,10 @@ import { transformValue, type FeatureTransform } from '../../src/features/transf
 import { adjustedRandIndex } from '../../src/model/agreement.js';
 import { modelFromJSON } from '../../src/model/serialize.js';
 import { scoreRows } from '../../src/model/score.js';
-import type { RunSummary, StartRunInput } from '../../src/api/contract.js';
+import { startRunInput, type RunSummary, type StartRunInput } from '../../src/api/contract.js';
 import { decodeFloat64 } from '../../src/runs/blobs.js';
+import { componentsSearched } from '../../src/runs/fit.js';
+import { getRunDetail } from '../../src/runs/read/run-detail.js';
 import { iterateRunCustomers } from '../../src/runs/read/export-customers.js';
 import { movementOf } from '../../src/runs/read/movement.js';
 import { listRuns } from '../../src/runs/read/runs-list.js';
@@ -286,6 +288,12 @@ describe('reading a run', () => {
     expect(sweepTable(db, swept.runId).map((row) => row.k)).toEqual([4, 5]);
     expect(swept.segmentCount).toBe(4);
     expect(swept.k).toBeGreaterThanOrEqual(4);
+    expect(getRunDetail(db, swept.runId).componentsSearched).toEqual({ from: 4, to: 5 });
+    const searched = (settings: Partial<StartRunInput>) => componentsSearched(startRunInput.parse({ asOf: '2026-11-30', ...settings }));
+    expect(searched({})).toEqual({ from: 2, to: 8 });
+    expect(searched({ segmentCount: 1 })).toEqual({ from: 2, to: 8 });
+    expect(searched({ segmentCount: 8 })).toEqual({ from: 8, to: 8 });
+    expect(searched({ k: 5, segmentCount: 3 })).toEqual({ from: 5, to: 5 });
   });
 });
 

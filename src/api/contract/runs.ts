@@ -84,6 +84,12 @@ export interface RunDetail extends RunSummary {
    * `customers`, else all of them (everyone is scored either way); null for a rescore (the parent's model).
    */
   fittedOn: number | null;
+  /**
+   * The numbers of Gaussian components the fit tried: k when fixed; with k auto kMin to kMax, but
+   * from the segment count when a fixed one asks for more (a segment is one or more components);
+   * null for a rescore (the parent's model).
+   */
+  componentsSearched: { from: number; to: number } | null;
 }
 
 /** One fit of the model-selection table. */

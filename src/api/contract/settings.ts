@@ -219,24 +219,6 @@ export const startRunInput = z
     path: ['segmentation'],
   });
 
-/**
- * The numbers of components a run tries: k when fixed; with k auto, kMin to kMax, but never fewer
- * components than a fixed segment count asks for (a segment is one or more components), so such a
- * run cannot choose a model too small for it.
- */
-export function componentsSearched(settings: Pick<RunSettings, 'k' | 'kMin' | 'kMax' | 'segmentCount'>): [number, number] {
-  if (settings.k !== 'auto') return [settings.k, settings.k];
-  const fewest = settings.segmentCount === 'auto' ? settings.kMin : Math.max(settings.kMin, settings.segmentCount);
-  return [Math.min(fewest, settings.kMax), settings.kMax];
-}
-
-/** The searched range in words, e.g. "2 to 8", or "6 to 8 (at least the 6 segments asked for)". */
-export function componentsSearchedWords(settings: Pick<RunSettings, 'k' | 'kMin' | 'kMax' | 'segmentCount'>): string {
-  const [fewest, most] = componentsSearched(settings);
-  const raised = settings.k === 'auto' && fewest > settings.kMin ? ` (at least the ${fewest} segments asked for)` : '';
-  return `${fewest} to ${most}${raised}`;
-}
-
 /** A run's settings as the caller sends them (defaults may be left out). */
 export type StartRunInput = z.input<typeof startRunInput>;
 /** A run's settings with the defaults filled in. */

@@ -1,6 +1,6 @@
 import { writeFileSync } from 'node:fs';
 import { resolve } from 'node:path';
-import { componentsSearchedWords, type RunDetail, type RunListItem } from '../../api/contract.js';
+import type { RunDetail, RunListItem } from '../../api/contract.js';
 import { InputError } from '../../errors.js';
 import { requireExistingDatabase, withApi } from '../api-client.js';
 import { runCommand, type RegisterCommand } from '../run-command.js';
@@ -34,7 +34,7 @@ function describeDetail(detail: RunDetail): string {
     describeRun(detail),
     `  as of ${detail.asOf}, ${detail.windowMonths} months, ${detail.mode}; stored ${detail.createdAt}`,
     `  features: ${detail.features.map((spec) => spec.feature).join(', ')}`,
-    `  k ${settings.k === 'auto' ? `auto (${componentsSearchedWords(settings)})` : settings.k}, covariance ${settings.covariance}, ${settings.criterion.toUpperCase()}, ` +
+    `  k ${settings.k === 'auto' && detail.componentsSearched ? `auto (${detail.componentsSearched.from} to ${detail.componentsSearched.to})` : settings.k}, covariance ${settings.covariance}, ${settings.criterion.toUpperCase()}, ` +
       `${settings.restarts} restarts, seed ${settings.seed}`,
     ...(detail.fittedOn !== null && detail.fittedOn < detail.customers
       ? [`  fitted on a seeded sample of ${detail.fittedOn} of the ${detail.customers} placed customers (--fit-sample); all of them scored with that model`]

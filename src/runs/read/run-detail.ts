@@ -2,7 +2,7 @@
 import type { Database } from 'better-sqlite3';
 import type { RunDetail, RunSummary } from '../../api/contract.js';
 import { queueCounts } from './review-counts.js';
-import { fittedCustomerCount } from '../fit.js';
+import { componentsSearched, fittedCustomerCount } from '../fit.js';
 import { runSegments } from './run-segments.js';
 import { storedRun } from './stored-run.js';
 
@@ -54,5 +54,6 @@ export function getRunDetail(db: Database, runId: number): RunDetail {
     criterion: run.criterion,
     retiredSegments: run.retired.map((segment) => segment.name),
     fittedOn: run.mode === 'rescore' ? null : fittedCustomerCount(run.settings.fitSample, run.customers),
+    componentsSearched: run.mode === 'rescore' ? null : componentsSearched(run.settings),
   };
 }

@@ -291,6 +291,7 @@ function summary(runId: number): ApiOutput<'runSummary'> {
     features: featureNames.map((feature) => ({ feature, log1p: true, clipLowerPercentile: null, clipUpperPercentile: null, zScore: true })),
     storedFeatures: Object.keys(featureLabels), logLikelihood: -150_600.3, icl: 309_870.5, criterion: 'bic', retiredSegments: [],
     fittedOn: totalCustomers,
+    componentsSearched: { from: 2, to: 8 },
   };
 }
 
