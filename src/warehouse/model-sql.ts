@@ -13,7 +13,9 @@
  * The operations and their order follow the app's (src/model/missing.ts), so the results agree
  * with the app's to rounding in LN/EXP (the engines' maths libraries differ from JavaScript's in
  * the last bit). A row with empty features is scored on the marginal of its observed features,
- * as the app does: one precomputed factor per pattern of empty features.
+ * as the app does: with diagonal or spherical covariances each feature's term simply drops out
+ * (the marginal of independent coordinates), at any number of features; with full or tied ones,
+ * one precomputed factor per pattern of empty features, up to 6 features.
  */
 import { modelFromJSON, type MixtureModel } from '../model/index.js';
 import { sqlDialect, type SqlDialect, type SqlDialectName } from './dialects.js';
@@ -21,7 +23,7 @@ import { layer, sum } from './layers.js';
 import { quotedIdentifier, stringLiteral, tableReference } from './names.js';
 import { checkScoringModel, type ScoringModel } from './scoring-model.js';
 
-/** Up to this many features every pattern of empty features gets its own factors (2^6 − 2 = 62 patterns). */
+/** Full and tied covariances: up to this many features every pattern of empty features gets its own factors (2^6 − 2 = 62 patterns). */
 export const MAX_FEATURES_SCORED_WITH_EMPTY_VALUES = 6;
 /** |z| beyond this is not scored: PostgreSQL stops the whole query on a floating-point overflow. */
 export const LARGEST_SCORED_Z = 1e100;
@@ -102,10 +104,13 @@ export function modelSql(scoring: ScoringModel, options: ModelSqlOptions): Model
   const columnsOf = (prefix: string, count: number) => Array.from({ length: count }, (_, i) => `${prefix}${i}`);
   const zs = columnsOf('z', d);
   const allMissing = 2 ** d - 1;
-  const withEmptyValues = d <= MAX_FEATURES_SCORED_WITH_EMPTY_VALUES;
+  // Diagonal precision factors: an empty feature's term of the projection and the log constant
+  // drops out by itself, so no pattern needs factors of its own.
+  const separable = model.covarianceType === 'diag' || model.covarianceType === 'spherical';
+  const withEmptyValues = separable || d <= MAX_FEATURES_SCORED_WITH_EMPTY_VALUES;
 
   // Patterns by bit mask of empty features (bit j = feature j empty): all observed first.
-  const masks = withEmptyValues ? Array.from({ length: allMissing }, (_, mask) => mask) : [0];
+  const masks = withEmptyValues && !separable ? Array.from({ length: allMissing }, (_, mask) => mask) : [0];
   const patterns = masks.map((mask) => ({ mask, terms: patternTerms(model, Array.from({ length: d }, (_, a) => a).filter((a) => !(mask & (1 << a)))) }));
 
   const ctes: string[] = [];
@@ -182,15 +187,25 @@ export function modelSql(scoring: ScoringModel, options: ModelSqlOptions): Model
     patterns.length === 1
       ? term(patterns[0].terms)
       : `CASE WHEN missing_pattern = 0 THEN ${term(patterns[0].terms)} ELSE ${caseOf('missing_pattern', patterns.slice(1).map(({ mask, terms }) => [mask, term(terms)]), null)} END`;
+  const complete = patterns[0].terms;
+  // Separable: an empty feature contributes 0 to the projection and to the sum of log factors, and
+  // is not counted in (m/2) log 2π; the same operations in the same order as the app's marginal.
+  const ifObserved = (i: number, term: string, otherwise = number(0)) => `CASE WHEN ${zs[i]} IS NULL THEN ${otherwise} ELSE ${term} END`;
   const projections = Array.from({ length: k * d }, (_, index) => {
     const [c, i] = [Math.floor(index / d), index % d];
-    return `${byPattern((terms) => projection(terms, c, i))} AS p${c}_${i}`;
+    return `${separable ? ifObserved(i, projection(complete, c, i)) : byPattern((terms) => projection(terms, c, i))} AS p${c}_${i}`;
   });
-  push('projected', ['customer_id', 'missing_pattern', ...projections], 'transformed');
+  const observedCount = sum(zs.map((_, i) => ifObserved(i, number(1))));
+  const separableLogConstants = Array.from({ length: separable ? k : 0 }, (_, c) => {
+    const logFactors = sum(Array.from({ length: d }, (_, i) => ifObserved(i, number(Math.log(complete.factors[(c * d + i) * d + i])))));
+    return `((${number(Math.log(model.weights[c]))} + ${logFactors}) - ((${number(0.5)} * ${observedCount}) * ${number(LOG_2PI)})) AS log_constant${c}`;
+  });
+  push('projected', ['customer_id', 'missing_pattern', ...projections, ...separableLogConstants], 'transformed');
 
   const logDensities = Array.from({ length: k }, (_, c) => {
     const squares = sum(Array.from({ length: d }, (_, i) => `(p${c}_${i} * p${c}_${i})`));
-    return `(${byPattern((terms) => number(terms.logConstants[c]))} - (${number(0.5)} * ${squares})) AS l${c}`;
+    const logConstant = separable ? `log_constant${c}` : byPattern((terms) => number(terms.logConstants[c]));
+    return `(${logConstant} - (${number(0.5)} * ${squares})) AS l${c}`;
   });
   push('log_densities', ['customer_id', ...logDensities], 'projected');
   const ls = columnsOf('l', k);
@@ -220,7 +235,7 @@ export function modelSql(scoring: ScoringModel, options: ModelSqlOptions): Model
     `-- Reads customer_id and ${d} feature column(s) in original units from ${table}; returns customer_id, segment, confidence, margin, borderline, atypical.`,
     withEmptyValues
       ? '-- A row with empty features is scored on its observed ones; a row the app would refuse (no value, a value log1p cannot take, infinity) gets NULLs.'
-      : `-- A row with an empty feature gets NULLs (empty values are scored up to ${MAX_FEATURES_SCORED_WITH_EMPTY_VALUES} features), as does a row the app would refuse.`,
+      : `-- A row with an empty feature gets NULLs (with ${model.covarianceType} covariances empty values are scored up to ${MAX_FEATURES_SCORED_WITH_EMPTY_VALUES} features), as does a row the app would refuse.`,
     `-- Borderline: confidence below ${thresholds.borderlineConfidence} or margin below ${thresholds.borderlineMargin}. Atypical: log density below ${cut === null ? '(no cut: never)' : cut}.`,
   ];
   const sql = `${header.join('\n')}

@@ -6,9 +6,11 @@
  * DuckDB reads an in-memory table and writes the labels into another (CREATE TABLE … AS); the app
  * scores Float64Arrays in memory. Both sides are checked to agree (segment counts over all rows,
  * every field on 1 row in 100). Not part of npm test.
- *   npx tsx test/bench/warehouse-scoring.ts [--customers 10000000] [--repeat 3]
+ *   npx tsx test/bench/warehouse-scoring.ts [--customers 10000000] [--repeat 3] [--covariance auto|full|diag|spherical|tied]
+ * (covariance auto, the default here, tries all four structures on the sample and keeps the best.)
  */
 import { DuckDBInstance } from '@duckdb/node-api';
+import { covarianceTypes, type CovarianceType } from '../../src/api/contract.js';
 import { runMonth } from '../support/core-calls.js';
 import { modelSql, readScoringModel } from '../../src/warehouse/index.js';
 import { demoDatabase } from '../runs/demo-database.js';
@@ -22,8 +24,17 @@ const CHUNK = 1_000_000;
 
 const seconds = (since: number) => (performance.now() - since) / 1000;
 
+function covarianceFlag(): CovarianceType | 'auto' {
+  const at = process.argv.indexOf('--covariance');
+  if (at < 0) return 'auto';
+  const value = process.argv[at + 1];
+  if (value !== 'auto' && !(covarianceTypes as readonly string[]).includes(value)) throw new Error(`--covariance takes auto, ${covarianceTypes.join(', ')}; got "${value}".`);
+  return value as CovarianceType | 'auto';
+}
+
 const demo = await demoDatabase('sample');
-const run = await runMonth(demo.db, { asOf: '2026-11-30', windowMonths: 12, mode: 'refit', k: 'auto', covariance: 'auto', parentRunId: null });
+const covariance = covarianceFlag();
+const run = await runMonth(demo.db, { asOf: '2026-11-30', windowMonths: 12, mode: 'refit', k: 'auto', covariance, parentRunId: null });
 const scoring = readScoringModel(demo.db, run.runId);
 demo.close();
 const d = scoring.features.length;

@@ -277,7 +277,25 @@ describe('every covariance structure, clipping and unscaled features', () => {
     for (const engine of engines.values()) expectAgreement(await agreementOn(engine, scoring, rows, table, app));
   });
 
-  it(`above ${MAX_FEATURES_SCORED_WITH_EMPTY_VALUES} features, complete rows agree and rows with an empty value are left unscored`, async () => {
+  it.each(['diag', 'spherical'] as const)(
+    `%s covariance above ${MAX_FEATURES_SCORED_WITH_EMPTY_VALUES} features: rows with empty values are scored on their observed features, as the app does`,
+    async (covariance) => {
+      const scoring = fittedScoring(covariance, MAX_FEATURES_SCORED_WITH_EMPTY_VALUES + 2, 13);
+      const rows = syntheticRows(scoring, 5_000, 7, 0.4);
+      const partial = rows.customerIds.filter((_, i) => rows.columns.some((column) => Number.isNaN(column[i])));
+      expect(partial.length).toBeGreaterThan(1_000);
+      expect(modelSql(scoring, { dialect: 'duckdb', featuresTable: 'x' }).emptyValues).toBe('scored on the observed features');
+      const app = appScores(scoring, rows);
+      const table = await loadEverywhere(scoring.features, rows);
+      for (const engine of engines.values()) {
+        const scores = await engineScores(engine, modelSql(scoring, { dialect: engine.name, featuresTable: table }).sql);
+        expect(partial.filter((id) => scores.get(id)?.segment === null || scores.get(id)?.segment === undefined)).toEqual([]);
+        expectAgreement(compareScores(app, scores));
+      }
+    },
+  );
+
+  it(`full covariance above ${MAX_FEATURES_SCORED_WITH_EMPTY_VALUES} features: complete rows agree and rows with an empty value are left unscored`, async () => {
     const scoring = fittedScoring('full', MAX_FEATURES_SCORED_WITH_EMPTY_VALUES + 1, 12);
     const rows = syntheticRows(scoring, 5_000, 6, 0.1);
     const complete = rows.customerIds.flatMap((_, i) => (rows.columns.every((column) => !Number.isNaN(column[i])) ? [i] : []));
