@@ -69,8 +69,24 @@ function band(percentile: number): 0 | 1 | 2 | 3 | 4 {
   return percentile < 0.2 ? 0 : percentile < 0.4 ? 1 : percentile < 0.6 ? 2 : percentile < 0.8 ? 3 : 4;
 }
 
-/** The words for a trait: the feature's own five, or "very low … very high" and its label. */
+/**
+ * A median above this share of all customers is said as "top 1 %": the top band alone would give a
+ * handful of business buyers and a household tier the same words.
+ */
+const TOP_PERCENT_FROM = 0.99;
+
+/** What the top 1 % of a feature is called in a name. */
+const topPercentNoun: Record<string, string> = {
+  spend_per_month: 'spend',
+  visits_per_month: 'visit rate',
+  average_basket: 'baskets',
+  days_since_last_visit: 'days away',
+  fresh_share: 'fresh share',
+};
+
+/** The words for a trait: the feature's own five, or "very low … very high" and its label; "top 1 % …" above 99 % of customers. */
 export function traitWords(feature: string, percentile: number): string {
+  if (percentile >= TOP_PERCENT_FROM) return `top 1 % ${topPercentNoun[feature] ?? featureLabel(feature)}`;
   const words = bandWords[feature];
   if (words) return words[band(percentile)];
   const level = ['very low', 'low', 'mid', 'high', 'very high'][band(percentile)];

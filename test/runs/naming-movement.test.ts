@@ -30,6 +30,11 @@ describe('segment names from measured traits', () => {
     expect(traits[0].label).toBe('visit rate');
     expect(traitWords('average_basket', 0.79)).toBe('large baskets');
     expect(traitWords('spend_per_month', 0.1)).toBe('very low spend');
+    // Above 99 % of customers the top band is split off, so business buyers do not read like a household tier.
+    expect(traitWords('spend_per_month', 0.98)).toBe('very high spend');
+    expect(traitWords('spend_per_month', 0.995)).toBe('top 1 % spend');
+    expect(traitWords('average_basket', 0.999)).toBe('top 1 % baskets');
+    expect(traitWords('refund_share', 0.99)).toBe('top 1 % refund share');
     const names = defaultNames([traits], [1]);
     expect(names).toEqual(['Very frequent · small baskets · very recent']);
     // No word of a named customer scheme, only restated measurements.
