@@ -195,7 +195,8 @@ export function modelSql(scoring: ScoringModel, options: ModelSqlOptions): Model
     const [c, i] = [Math.floor(index / d), index % d];
     return `${separable ? ifObserved(i, projection(complete, c, i)) : byPattern((terms) => projection(terms, c, i))} AS p${c}_${i}`;
   });
-  const observedCount = sum(zs.map((_, i) => ifObserved(i, number(1))));
+  // No observed feature (a row the app refuses has every z NULL): NULL, so the row stays unscored.
+  const observedCount = `NULLIF(${sum(zs.map((_, i) => ifObserved(i, number(1))))}, ${number(0)})`;
   const separableLogConstants = Array.from({ length: separable ? k : 0 }, (_, c) => {
     const logFactors = sum(Array.from({ length: d }, (_, i) => ifObserved(i, number(Math.log(complete.factors[(c * d + i) * d + i])))));
     return `((${number(Math.log(model.weights[c]))} + ${logFactors}) - ((${number(0.5)} * ${observedCount}) * ${number(LOG_2PI)})) AS log_constant${c}`;

@@ -317,8 +317,11 @@ describe('every covariance structure, clipping and unscaled features', () => {
 });
 
 describe('rows the app refuses come out unscored, and no engine stops on them', () => {
-  it('no value, a value log1p cannot take, infinity', async () => {
-    const scoring = readScoringModel(demo.db, defaultRun);
+  it.each([
+    ['the default run', () => defaultRun],
+    ['a diagonal run, whose empty features drop out term by term', () => clippedRun],
+  ])('no value, a value log1p cannot take, infinity: %s', async (_, runOf) => {
+    const scoring = readScoringModel(demo.db, runOf());
     // The bad values go into the first feature, which takes log1p.
     expect(scoring.transforms[0].log1p).toBe(true);
     const d = scoring.features.length;
