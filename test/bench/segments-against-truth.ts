@@ -10,6 +10,11 @@
  *                --fit-seeds 1,2,3,4  also refresh the same month with these EM seeds (the default
  *                                run's is 0) and report each and the mean: one seed's ARI moves by a
  *                                few hundredths with the starts alone
+ *                --levels        also the ARI at every level of the default run's combining tree (the
+ *                                run is put back to the automatic level afterwards)
+ *                --best-grouping also the best ARI any grouping of the default run's components
+ *                                reaches (test/bench/best-grouping.py, Debian's /usr/bin/python3):
+ *                                what no combining rule can beat with these components
  *                --keep          keep the working folder (database and files)
  *                --json          one JSON object instead of the text report
  *
@@ -24,6 +29,7 @@ import { spawnSync } from 'node:child_process';
 import { existsSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join, resolve } from 'node:path';
+import { fileURLToPath } from 'node:url';
 import { parseArgs } from 'node:util';
 import { runMonth } from '../support/core-calls.js';
 import { spendmixJson, type ImportJson } from '../support/cli-runner.js';
@@ -40,6 +46,8 @@ const { values } = parseArgs({
     sklearn: { type: 'boolean', default: false },
     'two-features': { type: 'boolean', default: false },
     'fit-seeds': { type: 'string' },
+    levels: { type: 'boolean', default: false },
+    'best-grouping': { type: 'boolean', default: false },
     keep: { type: 'boolean', default: false },
     json: { type: 'boolean', default: false },
   },
@@ -88,6 +96,29 @@ function sklearnAri(work: string, dbPath: string, runId: number, truth: Truth): 
   const run = spawnSync('/usr/bin/python3', ['-c', script, csvPath], { encoding: 'utf8' });
   if (run.status !== 0) throw new Error(`scikit-learn cross-check failed: ${run.stderr}`);
   return Number(run.stdout.trim());
+}
+
+/** The ARI at every level of a run's combining tree, most segments first; the run ends at the automatic level again. */
+async function ariByLevel(dbPath: string, runId: number, truth: Truth): Promise<{ segments: number; ari: number; chosen: boolean }[]> {
+  const tree = await spendmixJson<{ segmentCount: number; levels: { segmentCount: number }[] }>('segments', '--db', dbPath, '--run', String(runId), 'tree', '--json');
+  const results: { segments: number; ari: number; chosen: boolean }[] = [];
+  try {
+    for (const { segmentCount } of tree.levels) {
+      await spendmixJson('segments', '--db', dbPath, '--run', String(runId), 'level', String(segmentCount), '--json');
+      results.push({ segments: segmentCount, ari: (await evaluateAgainstTruth(dbPath, runId, truth)).ari, chosen: segmentCount === tree.segmentCount });
+    }
+  } finally {
+    await spendmixJson('segments', '--db', dbPath, '--run', String(runId), 'level', 'auto', '--json');
+  }
+  return results;
+}
+
+/** test/bench/best-grouping.py on a run: its printed lines. */
+function bestGrouping(dbPath: string, truthPath: string, runId: number): string {
+  const script = fileURLToPath(new URL('./best-grouping.py', import.meta.url));
+  const run = spawnSync('/usr/bin/python3', [script, dbPath, truthPath, String(runId), '--max-groups', '8'], { encoding: 'utf8' });
+  if (run.status !== 0) throw new Error(`best-grouping.py failed: ${run.stderr}`);
+  return run.stdout.trimEnd();
 }
 
 /** The EM seeds of --fit-seeds ("1,2,3"): non-negative integers other than the default 0. */
@@ -177,6 +208,18 @@ async function main(): Promise<void> {
       log(`scikit-learn adjusted_rand_score on the same labels: ${sklearn.toFixed(4)} (difference ${Math.abs(sklearn - evaluation.ari).toExponential(1)})`);
     }
 
+    let levels: { segments: number; ari: number; chosen: boolean }[] = [];
+    if (values.levels) {
+      levels = await ariByLevel(dbPath, summary.runId, truth);
+      log('\nARI at every level of the combining tree (← the automatic level):');
+      for (const level of levels) log(`  ${String(level.segments).padStart(2)} segments: ARI ${level.ari.toFixed(4)}${level.chosen ? '  ←' : ''}`);
+    }
+    let bestGroupingLines: string | null = null;
+    if (values['best-grouping']) {
+      bestGroupingLines = bestGrouping(dbPath, join(dataDir, 'truth.csv'), summary.runId);
+      log(`\nbest grouping of the default run's components (each customer with its most probable component):\n${bestGroupingLines}`);
+    }
+
     const twoFeatures: { covariance: string; evaluation: TruthEvaluation }[] = [];
     if (values['two-features']) {
       for (const covariance of ['auto', 'full'] as const) {
@@ -207,7 +250,7 @@ async function main(): Promise<void> {
 
     if (values.json) {
       process.stdout.write(
-        `${JSON.stringify({ chain, dataDir, asOf, generationSeconds, importSeconds, refreshSeconds, imports, evaluation, sklearnAri: sklearn, twoFeatures, bySeed })}\n`,
+        `${JSON.stringify({ chain, dataDir, asOf, generationSeconds, importSeconds, refreshSeconds, imports, evaluation, sklearnAri: sklearn, levels, bestGrouping: bestGroupingLines, twoFeatures, bySeed })}\n`,
       );
     }
     if (values.keep) log(`\nkept ${work}`);
