@@ -28,3 +28,37 @@ export function continuations(counts: readonly (readonly number[])[], currentCou
   }
   return continues;
 }
+
+/** The components of a segment as one comparable string (any order in, ascending out). */
+export function componentsKey(components: readonly number[]): string {
+  return [...components].sort((a, b) => a - b).join(',');
+}
+
+/**
+ * Continuations within one run across regroups: a segment made of exactly the components of a
+ * segment the run showed before takes that earlier segment back (its key, and its name where the
+ * analyst renamed it); the others keep their continuation by shared customers (`byMembers`)
+ * unless its key is taken back by an exact match, then they are new. `current[s]` lists segment
+ * s's components; `shownBefore` holds one segment per component set.
+ */
+export function withSegmentsShownBefore<Earlier extends { key: string }>(
+  byMembers: readonly (Earlier | null)[],
+  current: readonly (readonly number[])[],
+  shownBefore: readonly (Earlier & { components: readonly number[] })[],
+): (Earlier | null)[] {
+  const shownByComponents = new Map(shownBefore.map((segment) => [componentsKey(segment.components), segment]));
+  const keysTakenBack = new Set<string>();
+  // A key is taken back once, by the first segment that matches it exactly (keys stay unique).
+  const takenBack = current.map((components) => {
+    const shown = shownByComponents.get(componentsKey(components));
+    if (!shown || keysTakenBack.has(shown.key)) return null;
+    keysTakenBack.add(shown.key);
+    return shown;
+  });
+  return current.map((_, s) => {
+    const exact = takenBack[s];
+    if (exact) return exact;
+    const continued = byMembers[s];
+    return continued && !keysTakenBack.has(continued.key) ? continued : null;
+  });
+}

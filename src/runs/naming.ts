@@ -195,7 +195,7 @@ export interface EarlierSegment {
  * earlier key and origin, and the earlier name where the analyst had renamed it; every other
  * name is the default. New segments get fresh keys (`nextKeyNumber` onwards) in spend order and
  * `originOfNew` ('first' in a run without a parent, else 'new'). Renames win over defaults when
- * names clash; a clashing default gets a number.
+ * names clash; a clashing default, or a second segment carrying the same rename, gets a number.
  */
 export function nameSegments(
   defaults: readonly string[],
@@ -207,12 +207,15 @@ export function nameSegments(
   const segments = new Array<NamedSegment>(defaults.length);
   const renamedNames = new Set(continues.flatMap((earlier) => (earlier?.renamed ? [earlier.name] : [])));
   const taken = new Set<string>(renamedNames);
+  // Two renames can meet (a segment a regroup brings back, renamed, beside one renamed the same since): the first in spend order keeps it.
+  const renamesUsed = new Set<string>();
   const order = ranks.map((rank, index) => ({ rank, index })).sort((a, b) => a.rank - b.rank);
   let next = nextKeyNumber;
   for (const { rank, index } of order) {
     const earlier = continues[index];
     const renamed = earlier?.renamed === true;
-    const name = renamed ? earlier!.name : uniqueName(defaults[index], taken);
+    const name = renamed ? (renamesUsed.has(earlier!.name) ? uniqueName(earlier!.name, taken) : earlier!.name) : uniqueName(defaults[index], taken);
+    if (renamed) renamesUsed.add(name);
     taken.add(name);
     segments[index] = {
       index,

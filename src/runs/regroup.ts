@@ -3,7 +3,8 @@
  * (a number of segments, or auto: where the entropy curve flattens), a merge of two segments,
  * or a split of one back into groups of its components. The segment memberships are re-summed
  * from the stored component posteriors (no refit), then flags, the review queue, names (renames
- * kept where a segment continues an old one: ./carry-keys.ts), profiles, movement and stability
+ * kept where a segment continues an old one: ./carry-keys.ts; a segment of exactly the components
+ * of one the run showed before gets that one's key and rename back), profiles, movement and stability
  * are recomputed, and later runs' movement against this run too — all in one transaction, after
  * everything is computed, so a refusal or a cancel stores nothing. Review decisions stay as they
  * were made; one whose segment is gone leaves the customer in the model's segment.
@@ -12,6 +13,7 @@ import type { Database } from 'better-sqlite3';
 import type { RegroupResult, RegroupSegmentsInput, SegmentationMethod, StoredRunSettings } from '../api/contract.js';
 import { throwIfAborted } from '../errors.js';
 import { mergeSegments, splitSegment, type Segmentation } from '../model/index.js';
+import { componentsKey } from './carry-keys.js';
 import { chosenSegmentation, storedHierarchy, type LevelledHierarchy } from './combine.js';
 import { movementAgainst } from './movement.js';
 import { loadParentRun } from './parent.js';
@@ -23,6 +25,7 @@ import { storedRun } from './read/stored-run.js';
 import { nextKeyNumber } from './run.js';
 import { segmentPlaced } from './segmenting.js';
 import { loadPlacement } from './stored-placement.js';
+import type { ShownSegment } from './types.js';
 
 export interface RegroupProgress {
   phase: 'read' | 'combine' | 'store';
@@ -81,6 +84,7 @@ export async function regroupSegments(db: Database, input: RegroupSegmentsInput,
   const current: Segmentation = { components: run.k, segments: run.segmentation.segments.map((group) => [...group]) };
   const { segmentation, method, words } = changedSegmentation(input.change, hierarchy, current, before);
   const parent = run.parentRunId === null ? null : loadParentRun(db, run.parentRunId);
+  const shownBefore = withSegmentsLeft(stored.shownBefore ?? [], before.list);
   const segmentOf = new Map<string, number>();
   placed.customerIds.forEach((customerId, p) => segmentOf.set(customerId, labels[p]));
   const outcome = segmentPlaced({
@@ -96,6 +100,7 @@ export async function regroupSegments(db: Database, input: RegroupSegmentsInput,
       kind: 'members',
       segments: before.list.map(({ index, key, name, renamed, origin }) => ({ index, key, name, renamed, origin })),
       segmentOf,
+      shownBefore,
     },
     parent,
     nextKeyNumber: nextKeyNumber(db),
@@ -139,7 +144,7 @@ export async function regroupSegments(db: Database, input: RegroupSegmentsInput,
       `UPDATE run_samples SET segment_index = (SELECT m.segment_index FROM run_memberships m WHERE m.run_id = run_samples.run_id AND m.customer_id = run_samples.customer_id)
        WHERE run_id = ?`,
     ).run(runId);
-    const columns = segmentColumns(outcome, { ...stored, method, segments: segmentation.segments.map((group) => [...group]) });
+    const columns = segmentColumns(outcome, { ...stored, method, segments: segmentation.segments.map((group) => [...group]), shownBefore });
     db.prepare(
       `UPDATE runs SET borderline = @borderline, atypical = @atypical, atypical_log_density_below = @atypicalCut, stability = @stability,
          retired = @retired, movement = @movement, segmentation = @segmentation, settings = @settings, revision = revision + 1
@@ -150,14 +155,35 @@ export async function regroupSegments(db: Database, input: RegroupSegmentsInput,
 
   const keysBefore = new Set(before.list.map((segment) => segment.key));
   const keysAfter = new Set(outcome.segments.map((segment) => segment.key));
+  const keysShownBefore = new Set(shownBefore.map((segment) => segment.key));
+  const arrived = outcome.segments.filter((segment) => !keysBefore.has(segment.key));
   return {
     summary: getRunSummary(db, runId),
     change: words,
     keptKeys: [...keysAfter].filter((key) => keysBefore.has(key)),
     retired: before.list.filter((segment) => !keysAfter.has(segment.key)).map((segment) => segment.name),
-    added: outcome.segments.filter((segment) => !keysBefore.has(segment.key)).map((segment) => segment.name),
+    added: arrived.filter((segment) => !keysShownBefore.has(segment.key)).map((segment) => segment.name),
+    returned: arrived.filter((segment) => keysShownBefore.has(segment.key)).map((segment) => segment.name),
     laterRunsUpdated: children,
   };
+}
+
+/** At most this many earlier segments are remembered per run (the newest), to keep the run row small. */
+const SHOWN_BEFORE_LIMIT = 200;
+
+/**
+ * The run's remembered segments after leaving the current ones: one per set of components, the
+ * newest state of each (a segment left now replaces an older one of the same components).
+ */
+function withSegmentsLeft(remembered: readonly ShownSegment[], left: RunSegments['list']): ShownSegment[] {
+  const byComponents = new Map<string, ShownSegment>();
+  const leftNow = left.map(({ components, key, name, renamed, origin }) => ({ components: [...components].sort((a, b) => a - b), key, name, renamed, origin }));
+  for (const segment of [...remembered, ...leftNow]) {
+    const id = componentsKey(segment.components);
+    byComponents.delete(id);
+    byComponents.set(id, segment);
+  }
+  return [...byComponents.values()].slice(-SHOWN_BEFORE_LIMIT);
 }
 
 /**

@@ -11,7 +11,7 @@ import type { SegmentTrait } from '../api/contract.js';
 import { InputError } from '../errors.js';
 import { sortedFinite } from '../features/quantiles.js';
 import type { Segmentation } from '../model/index.js';
-import { continuations } from './carry-keys.js';
+import { continuations, withSegmentsShownBefore } from './carry-keys.js';
 import { computeFlags, type Flags, type FlagThresholds } from './flags.js';
 import { countMovement, movementAgainst, type StoredMovement } from './movement.js';
 import { defaultNames, nameSegments, NAME_TRAITS, spendRanks, segmentTraits, type EarlierSegment, type NamedSegment } from './naming.js';
@@ -38,8 +38,16 @@ export interface PlacedCustomers {
 export type EarlierSegments =
   /** The parent's own segmentation (rescore): segment s continues the parent's segment s. */
   | { kind: 'same'; segments: readonly (EarlierSegment & { index: number })[] }
-  /** Continuations by shared customers (refit, regroup). */
-  | { kind: 'members'; segments: readonly (EarlierSegment & { index: number })[]; segmentOf: ReadonlyMap<string, number> }
+  /**
+   * Continuations by shared customers (refit, regroup); a regroup also passes the segments the run
+   * showed before, which a segment of exactly the same components takes back (./carry-keys.ts).
+   */
+  | {
+      kind: 'members';
+      segments: readonly (EarlierSegment & { index: number })[];
+      segmentOf: ReadonlyMap<string, number>;
+      shownBefore?: readonly (EarlierSegment & { components: readonly number[] })[];
+    }
   | null;
 
 export interface SegmentingInput {
@@ -92,13 +100,15 @@ function meanSpendOf(placed: PlacedCustomers, labels: Int32Array, count: number)
 }
 
 /** The segments a customer placement continues, keyed by the current segment index. */
-function continuedSegments(earlier: EarlierSegments, placed: PlacedCustomers, labels: Int32Array, count: number): (EarlierSegment | null)[] {
+function continuedSegments(earlier: EarlierSegments, placed: PlacedCustomers, labels: Int32Array, segmentation: Segmentation): (EarlierSegment | null)[] {
+  const count = segmentation.segments.length;
   if (earlier === null) return new Array<EarlierSegment | null>(count).fill(null);
   if (earlier.kind === 'same') return Array.from({ length: count }, (_, s) => earlier.segments.find((segment) => segment.index === s) ?? null);
   const current = new Map<string, number>();
   placed.customerIds.forEach((customerId, p) => current.set(customerId, labels[p]));
   const { counts } = countMovement(earlier.segmentOf, current, earlier.segments.length, count);
-  return continuations(counts, count).map((index) => (index === null ? null : (earlier.segments.find((segment) => segment.index === index) ?? null)));
+  const byMembers = continuations(counts, count).map((index) => (index === null ? null : (earlier.segments.find((segment) => segment.index === index) ?? null)));
+  return earlier.shownBefore ? withSegmentsShownBefore<EarlierSegment>(byMembers, segmentation.segments, earlier.shownBefore) : byMembers;
 }
 
 export function segmentPlaced(input: SegmentingInput): SegmentOutcome {
@@ -125,7 +135,7 @@ export function segmentPlaced(input: SegmentingInput): SegmentOutcome {
     segmentTraits(Object.fromEntries(candidates.map((feature) => [feature, profile.features[feature]?.median ?? null])), sortedByFeature, candidates),
   );
   const ranks = spendRanks(meanSpendOf(placed, labels, count));
-  const continues = continuedSegments(input.earlier, placed, labels, count);
+  const continues = continuedSegments(input.earlier, placed, labels, segmentation);
   const named = nameSegments(defaultNames(traits, ranks), ranks, continues, input.nextKeyNumber, input.parent ? 'new' : 'first');
   const segments = named.map((segment, s) => ({ ...segment, components: [...segmentation.segments[s]], traits: traits[s] }));
 

@@ -58,4 +58,20 @@ export interface StoredSegmentation {
   autoSegmentCount: number | null;
   autoSegmentCountByMergedRows: number | null;
   levels: CombiningLevelSummary[] | null;
+  /**
+   * Segments this run showed before its latest regroups, by their exact components, with the key
+   * and name they had when left (absent in runs stored before it was kept). A regroup that brings
+   * back the same components brings back that key and the analyst's rename, so trying other
+   * levels and returning loses neither the rename nor review decisions that move customers there.
+   */
+  shownBefore?: ShownSegment[];
+}
+
+/** A segment as it was when a regroup left it (see StoredSegmentation.shownBefore). */
+export interface ShownSegment {
+  components: number[];
+  key: string;
+  name: string;
+  renamed: boolean;
+  origin: 'first' | 'matched' | 'new';
 }

@@ -154,8 +154,10 @@ describe('Spendmix in Chromium through the browser host', () => {
     const caption = page.getByTestId('combining-caption');
     await expect.poll(() => caption.innerText(), { timeout: 30_000 }).toMatch(/combined into \d+ segments?: chosen where the entropy curve flattens/);
     const [, components, automatic] = /^(\d+) components?.*into (\d+) segments?/.exec(await caption.innerText())!.map(Number) as number[];
-    // Any other level: one more segment when the tree has it, else one fewer.
-    const level = automatic < components ? automatic + 1 : automatic - 1;
+    // Another level: one fewer segment (a merge, whose segment comes back on return) when there is
+    // more than one, else one more.
+    const level = automatic > 1 ? automatic - 1 : automatic + 1;
+    expect(level).toBeLessThanOrEqual(components);
     expect(level).toBeGreaterThanOrEqual(1);
     await page.getByTestId('level-select').selectOption(String(level));
     await page.getByTestId('level-apply').click();
@@ -170,6 +172,10 @@ describe('Spendmix in Chromium through the browser host', () => {
     await page.getByTestId('level-auto').click();
     await waitForTask(page, 'regroup-task');
     await expect.poll(() => caption.innerText()).toMatch(new RegExp(`into ${automatic} segments?: chosen where the entropy curve flattens`));
+    // The segment the merge took away is back with its key and name (same components as before).
+    if (level < automatic) await expect.poll(() => page.getByTestId('regroup-result').innerText()).toMatch(/Back with their earlier key and name: \S/);
+    await screenshot(page, '04c-model-back');
+    await page.getByTestId('regroup-task-dismiss').click();
   });
 
   it('paints the Segments screen and renames a segment in place', async () => {

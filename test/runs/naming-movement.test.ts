@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { defaultNames, nameSegments, segmentTraits, spendRanks, traitWords, uniqueName } from '../../src/runs/naming.js';
-import { continuations } from '../../src/runs/carry-keys.js';
+import { continuations, withSegmentsShownBefore } from '../../src/runs/carry-keys.js';
 import { countMovement, driftWarnings, segmentMoments } from '../../src/runs/movement.js';
 import { carriesOver, finalSegmentKey, isLowConfidenceMover, reviewMask, reviewReasons } from '../../src/runs/review-rules.js';
 import { computeFlags } from '../../src/runs/flags.js';
@@ -94,6 +94,14 @@ describe('segment names from measured traits', () => {
     expect(uniqueName('Regular', new Set(['Regular', 'Regular (2)']))).toBe('Regular (3)');
     const first = nameSegments(['A', 'B'], [2, 1], [null, null], 1, 'first');
     expect(first.map((s) => [s.key, s.origin])).toEqual([['S2', 'first'], ['S1', 'first']]);
+    // Two segments carrying the same rename (one brought back by a regroup): names stay unique.
+    const winBack = (key: string) => ({ key, name: 'Win-back list', renamed: true, origin: 'first' as const });
+    const twice = nameSegments(['A', 'B', 'Win-back list (2)'], [2, 1, 3], [winBack('S5'), winBack('S2'), null], 9, 'first');
+    expect(twice.map((s) => [s.key, s.name, s.renamed])).toEqual([
+      ['S5', 'Win-back list (2)', true],
+      ['S2', 'Win-back list', true],
+      ['S9', 'Win-back list (2) (2)', false],
+    ]);
   });
 
   it('continuation: Hungarian pairing on shared customers, a pair counts only with half of either side', () => {
@@ -110,6 +118,23 @@ describe('segment names from measured traits', () => {
     expect(continuations([[20, 20, 20], [25, 40, 0], [25, 0, 40]], 3)).toEqual([null, 1, 2]);
     // More current segments than earlier ones: the extra one is new.
     expect(continuations([[10, 0], [0, 1]], 3)).toEqual([0, 1, null]);
+  });
+
+  it('within a run, exact components take an earlier segment back; a continuation whose key is taken back is new; a key is taken once', () => {
+    const shown = [
+      { key: 'S5', components: [4] },
+      { key: 'S2', components: [3, 0, 1] },
+      { key: 'S2', components: [2] },
+    ];
+    const byMembers = [{ key: 'S2' }, { key: 'S1' }, null, { key: 'S9' }];
+    // Current segments {0,1,3} (any order) takes S2 back; {6} keeps its continuation S1; {4} takes S5
+    // back; {2} matches S2 too, already taken, so it keeps its continuation by customers (S9).
+    const result = withSegmentsShownBefore(byMembers, [[1, 0, 3], [6], [4], [2]], shown);
+    expect(result.map((segment) => segment?.key ?? null)).toEqual(['S2', 'S1', 'S5', 'S9']);
+    // A continuation by customers whose key an exact match takes back gives way.
+    expect(withSegmentsShownBefore([{ key: 'S5' }, null], [[0, 4], [4]], shown).map((segment) => segment?.key ?? null)).toEqual([null, 'S5']);
+    // Nothing shown before: the continuations by customers as they are.
+    expect(withSegmentsShownBefore(byMembers, [[1], [6], [4], [2]], [])).toEqual(byMembers);
   });
 });
 

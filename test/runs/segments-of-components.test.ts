@@ -7,7 +7,7 @@ import { segmentationOf } from '../../src/runs/read/segmentation.js';
 import { listSegments } from '../../src/runs/read/segments.js';
 import { storedRun } from '../../src/runs/read/stored-run.js';
 import type { Database } from '../../src/store/database.js';
-import { acceptRest, allMemberships, regroup, rename, reviewQueue, runMonth } from '../support/core-calls.js';
+import { acceptRest, allMemberships, decide, regroup, rename, reviewQueue, runMonth } from '../support/core-calls.js';
 import { demoDatabase, type DemoDatabase } from './demo-database.js';
 
 /**
@@ -345,5 +345,45 @@ describe('the feature set before fitting', () => {
       features: [{ feature: 'flat_points' }, { feature: 'coupon_count' }],
     });
     expect(message).toMatch(/^Every fit was refused: .*Try fewer components, other features, or a larger regularisation\.$/);
+  });
+});
+
+describe('trying another level and coming back', () => {
+  it('a segment of the same components gets its key, its rename and the decisions moving customers there back', async () => {
+    // Last in the file: its own run, so that no other test sees it as a parent.
+    const run = await runMonth(db, { ...base, asOf: '2026-08-31', parentRunId: null });
+    const shown = listSegments(db, run.runId).segments;
+    expect(shown.length).toBeGreaterThanOrEqual(2);
+    const target = [...shown].sort((a, b) => a.customers - b.customers)[0];
+    rename(db, { runId: run.runId, segment: target.key, name: 'Win-back list' });
+    const mover = allMemberships(db, run.runId).find((row) => row.flagged && row.segment !== target.segment)!;
+    expect(mover).toBeDefined();
+    decide(db, { runId: run.runId, customerId: mover.customerId, action: 'move', segment: target.key, reviewer: 'tester' });
+    const finalOf = () => allMemberships(db, run.runId).find((row) => row.customerId === mover.customerId)!.finalSegmentName;
+    expect(finalOf()).toBe('Win-back list');
+
+    const one = await regroup(db, { runId: run.runId, change: { level: 1 } });
+    expect(one.retired).toContain('Win-back list');
+    expect(one.returned).toEqual([]);
+    const [only] = listSegments(db, run.runId).segments;
+    // With its segment gone the decision leaves the customer in the model's segment, and stays stored.
+    expect(finalOf()).toBe(only.name);
+
+    const back = await regroup(db, { runId: run.runId, change: { level: 'auto' } });
+    const again = listSegments(db, run.runId).segments;
+    const byKey = (list: typeof again) => new Map(list.map((segment) => [segment.key, canonical([segment.components])]));
+    expect(byKey(again)).toEqual(byKey(shown));
+    expect(again.find((segment) => segment.key === target.key)).toMatchObject({ name: 'Win-back list', renamed: true });
+    expect(back.added).toEqual([]);
+    expect(back.returned).toContain('Win-back list');
+    expect(back.returned).toHaveLength(shown.length - 1);
+    expect(finalOf()).toBe('Win-back list');
+
+    // A grouping never shown before still gets fresh keys.
+    const components = segmentationOf(db, run.runId).levels[0].groups.length;
+    const all = await regroup(db, { runId: run.runId, change: { level: components } });
+    if (components > shown.length) expect(all.added.length).toBeGreaterThan(0);
+    const fresh = listSegments(db, run.runId).segments.filter((segment) => !shown.some((earlier) => earlier.key === segment.key));
+    expect(fresh.length).toBe(all.added.length);
   });
 });

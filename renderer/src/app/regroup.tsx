@@ -41,6 +41,7 @@ export function RegroupPanel({ regroup, format }: { regroup: ReturnType<typeof u
             review queue.
           </p>
           {result.added.length ? <p>New: {result.added.join(', ')}.</p> : null}
+          {result.returned.length ? <p>Back with their earlier key and name: {result.returned.join(', ')}.</p> : null}
           {result.retired.length ? <p>No longer there: {result.retired.join(', ')}.</p> : null}
           {result.laterRunsUpdated.length ? <p>Movement of later runs recomputed: {result.laterRunsUpdated.map((id) => `#${id}`).join(', ')}.</p> : null}
         </div>

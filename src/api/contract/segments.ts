@@ -186,6 +186,8 @@ export interface RegroupResult {
   retired: string[];
   /** Segments (new names) that are new. */
   added: string[];
+  /** Segments back with the key (and the analyst's name) they had earlier in this run: the same components as then. */
+  returned: string[];
   /** Later runs (children) whose movement against this run was recomputed. */
   laterRunsUpdated: number[];
 }

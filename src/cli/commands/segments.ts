@@ -51,6 +51,7 @@ function describeRegroup(value: RegroupResult): string {
     ),
     ...(value.retired.length > 0 ? [`  no longer a segment: ${value.retired.join('; ')}`] : []),
     ...(value.added.length > 0 ? [`  new: ${value.added.join('; ')}`] : []),
+    ...(value.returned.length > 0 ? [`  back with their earlier key and name: ${value.returned.join('; ')}`] : []),
     ...(value.laterRunsUpdated.length > 0 ? [`  movement of later run${value.laterRunsUpdated.length > 1 ? 's' : ''} ${value.laterRunsUpdated.join(', ')} worked out again`] : []),
   ].join('\n');
 }
@@ -114,7 +115,7 @@ export const registerSegments: RegisterCommand = (program, io, setExitCode) => {
   segments
     .command('level <count>')
     .description('Combine the components into this many segments (a level of the hierarchy), or auto: merged while customers are unsure between the two, where the entropy curve flattens.')
-    .option('--json', 'print one JSON object {summary, change, keptKeys, retired, added, laterRunsUpdated}')
+    .option('--json', 'print one JSON object {summary, change, keptKeys, retired, added, returned, laterRunsUpdated}')
     .action((count: string, options: Record<string, unknown>) =>
       onGroupRun(segments, io, setExitCode, (api, runId) =>
         regroup(api, runId, { level: (count.trim() === 'auto' ? 'auto' : numberOrText(count)) as number | 'auto' }, io, progress(options)),
@@ -124,7 +125,7 @@ export const registerSegments: RegisterCommand = (program, io, setExitCode) => {
   segments
     .command('merge <a> <b>')
     .description('Merge two segments (index, key or name) into one.')
-    .option('--json', 'print one JSON object {summary, change, keptKeys, retired, added, laterRunsUpdated}')
+    .option('--json', 'print one JSON object {summary, change, keptKeys, retired, added, returned, laterRunsUpdated}')
     .action((a: string, b: string, options: Record<string, unknown>) =>
       onGroupRun(segments, io, setExitCode, (api, runId) => regroup(api, runId, { merge: [segmentArgument(a), segmentArgument(b)] }, io, progress(options)))(options),
     );
@@ -133,7 +134,7 @@ export const registerSegments: RegisterCommand = (program, io, setExitCode) => {
     .command('split <segment>')
     .description('Split a segment (index, key or name) back into groups of its components.')
     .requiredOption('--parts <groups>', 'groups of the segment\'s component indices separated by ";", e.g. "0,3;5"')
-    .option('--json', 'print one JSON object {summary, change, keptKeys, retired, added, laterRunsUpdated}')
+    .option('--json', 'print one JSON object {summary, change, keptKeys, retired, added, returned, laterRunsUpdated}')
     .action((segment: string, options: Record<string, unknown>) =>
       onGroupRun(segments, io, setExitCode, (api, runId) =>
         regroup(

@@ -396,7 +396,7 @@ const api: Api = {
     pretendTask('regroupSegments', {
       summary: summary(input.runId),
       change: 'level' in input.change ? `combined into ${String(input.change.level)} segments` : 'merge' in input.change ? 'merged two segments' : 'split a segment',
-      keptKeys: ['s1', 's2', 's3', 's4'], retired: [], added: [], laterRunsUpdated: [],
+      keptKeys: ['s1', 's2', 's3', 's4'], retired: [], added: [], returned: [], laterRunsUpdated: [],
     }, ['reading', 'combining', 'storing']),
   sweepTable: async () => {
     const rows: ApiOutput<'sweepTable'> = [];

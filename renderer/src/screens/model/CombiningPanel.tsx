@@ -164,7 +164,7 @@ function LevelPicker({
       >
         Back to the automatic choice
       </button>
-      <span className="hint">Changes this stored run in place: memberships, flags, the review queue, names and movement are recomputed. Renamed segments keep their names where they survive.</span>
+      <span className="hint">Changes this stored run in place: memberships, flags, the review queue, names and movement are recomputed. Renamed segments keep their names where they survive, and a segment that comes back with the same components gets its key and name back.</span>
     </div>
   );
 }
