@@ -93,6 +93,44 @@ export function traitWords(feature: string, percentile: number): string {
   return `${level} ${featureLabel(feature)}`;
 }
 
+/**
+ * A trait keeps the word it had last time (the segment it continues) while its percentile stays
+ * within this distance of that word's band: a segment whose median sits at a band edge does not
+ * change name every month. Past the 99 % edge of "top 1 %" the margin is a tenth of it.
+ */
+export const WORD_STICKINESS = 0.05;
+
+/** The band a trait's word stands for (0–4, 5 for "top 1 %"), or null for words these rules do not say. */
+function bandOfWords(feature: string, words: string): number | null {
+  for (let b = 0; b < 5; b++) if (traitWords(feature, 0.2 * b + 0.1) === words) return b;
+  return traitWords(feature, 1) === words ? 5 : null;
+}
+
+/** The percentiles that may keep a band's word: the band widened by the stickiness margins. */
+function stickyRange(b: number): [number, number] {
+  if (b === 5) return [TOP_PERCENT_FROM - WORD_STICKINESS / 10, Infinity];
+  const low = b === 0 ? -Infinity : 0.2 * b - WORD_STICKINESS;
+  const high = b === 4 ? TOP_PERCENT_FROM + WORD_STICKINESS / 10 : 0.2 * (b + 1) + WORD_STICKINESS;
+  return [low, high];
+}
+
+/**
+ * A continuing segment's traits, with the earlier word kept (and marked `kept`) where the new
+ * percentile is still within the earlier word's band widened by the stickiness margin. Words these
+ * rules no longer say (an older version's) are not kept.
+ */
+export function withStickyWords(traits: readonly SegmentTrait[], earlier: readonly SegmentTrait[] | undefined): SegmentTrait[] {
+  const before = new Map((earlier ?? []).map((trait) => [trait.feature, trait]));
+  return traits.map((trait) => {
+    const old = before.get(trait.feature);
+    if (!old || old.words === trait.words) return trait;
+    const b = bandOfWords(trait.feature, old.words);
+    if (b === null) return trait;
+    const [low, high] = stickyRange(b);
+    return trait.percentile >= low && trait.percentile < high ? { ...trait, words: old.words, kept: true } : trait;
+  });
+}
+
 /** Share of the sorted values strictly below x (NaN for an empty list). */
 function shareBelow(sorted: Float64Array, x: number): number {
   return sorted.length === 0 ? NaN : countBelowSorted(sorted, x) / sorted.length;
@@ -185,6 +223,8 @@ export interface EarlierSegment {
   key: string;
   name: string;
   renamed: boolean;
+  /** Its traits as stored (their words are kept near a band edge: withStickyWords). */
+  traits?: readonly SegmentTrait[];
   /** The origin a segment continuing it takes ('matched' for last month's segments; its own for a regrouped run's). */
   origin: NamedSegment['origin'];
 }

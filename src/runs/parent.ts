@@ -9,7 +9,7 @@ import { transformValue, type FeatureTransform } from '../features/transforms.js
 import { modelFromJSON, type MixtureModel } from '../model/index.js';
 import { decodeFloat64 } from './blobs.js';
 import { segmentMoments, type SegmentMoments } from './movement.js';
-import type { ReviewAction, SegmentationMethod } from '../api/contract.js';
+import type { ReviewAction, SegmentationMethod, SegmentTrait } from '../api/contract.js';
 
 export interface ParentDecision {
   customerId: string;
@@ -29,7 +29,7 @@ export interface ParentRun {
   transforms: Record<string, FeatureTransform>;
   model: MixtureModel;
   /** Its segments (index = segment index), each with its components. */
-  segments: { index: number; key: string; name: string; renamed: boolean; share: number; components: number[] }[];
+  segments: { index: number; key: string; name: string; renamed: boolean; share: number; components: number[]; traits: SegmentTrait[] }[];
   /** Customer → segment index (-1 when too new there). */
   segmentOf: Map<string, number>;
   /** Members' moments per segment over the model features, in the parent's transformed space. */
@@ -79,8 +79,8 @@ export function loadParentRun(db: Database, runId: number): ParentRun {
   const model = modelFromJSON(JSON.parse(row.model));
   const segments = (
     db
-      .prepare('SELECT segment_index, segment_key, name, renamed, share, components FROM run_segments WHERE run_id = ? ORDER BY segment_index')
-      .all(runId) as { segment_index: number; segment_key: string; name: string; renamed: number; share: number; components: string }[]
+      .prepare('SELECT segment_index, segment_key, name, renamed, share, components, traits FROM run_segments WHERE run_id = ? ORDER BY segment_index')
+      .all(runId) as { segment_index: number; segment_key: string; name: string; renamed: number; share: number; components: string; traits: string }[]
   ).map((segment) => ({
     index: segment.segment_index,
     key: segment.segment_key,
@@ -88,6 +88,7 @@ export function loadParentRun(db: Database, runId: number): ParentRun {
     renamed: segment.renamed === 1,
     share: segment.share,
     components: JSON.parse(segment.components) as number[],
+    traits: JSON.parse(segment.traits) as SegmentTrait[],
   }));
 
   const positions = features.map((feature) => storedFeatures.indexOf(feature));

@@ -98,7 +98,7 @@ export async function regroupSegments(db: Database, input: RegroupSegmentsInput,
     reviewCapacity: run.settings.reviewCapacity,
     earlier: {
       kind: 'members',
-      segments: before.list.map(({ index, key, name, renamed, origin }) => ({ index, key, name, renamed, origin })),
+      segments: before.list.map(({ index, key, name, renamed, origin }) => ({ index, key, name, renamed, origin, traits: before.traitsOf(index) })),
       segmentOf,
       shownBefore,
     },

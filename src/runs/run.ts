@@ -191,7 +191,7 @@ function parentSegmentation(parent: ParentRun, components: number): { segmentati
 /** Which earlier segments the new ones may continue: the parent's own (rescore), by shared customers (refit), none (first run). */
 function earlierSegments(settings: RunningSettings, parent: ParentRun | null): EarlierSegments {
   if (!parent) return null;
-  const segments = parent.segments.map(({ index, key, name, renamed }) => ({ index, key, name, renamed, origin: 'matched' as const }));
+  const segments = parent.segments.map(({ index, key, name, renamed, traits }) => ({ index, key, name, renamed, traits, origin: 'matched' as const }));
   return settings.mode === 'rescore' ? { kind: 'same', segments } : { kind: 'members', segments, segmentOf: parent.segmentOf };
 }
 

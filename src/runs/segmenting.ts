@@ -14,7 +14,7 @@ import type { Segmentation } from '../model/index.js';
 import { continuations, withSegmentsShownBefore } from './carry-keys.js';
 import { computeFlags, type Flags, type FlagThresholds } from './flags.js';
 import { countMovement, movementAgainst, type StoredMovement } from './movement.js';
-import { defaultNames, nameSegments, NAME_TRAITS, spendRanks, segmentTraits, type EarlierSegment, type NamedSegment } from './naming.js';
+import { defaultNames, nameSegments, NAME_TRAITS, spendRanks, segmentTraits, withStickyWords, type EarlierSegment, type NamedSegment } from './naming.js';
 import { previousKeyOf, type ParentRun } from './parent.js';
 import { segmentProfiles, type ProfileNumbers } from './profiles.js';
 import { isLowConfidenceMover, queueByValue, reviewMask, reviewUncertainty, reviewValue } from './review-rules.js';
@@ -131,11 +131,14 @@ export function segmentPlaced(input: SegmentingInput): SegmentOutcome {
 
   const sortedByFeature = new Map(placed.features.map((feature, j) => [feature, sortedFinite(placed.columns[j])]));
   const candidates = traitCandidates(input.modelFeatures, placed.features);
-  const traits = profiles.map((profile) =>
-    segmentTraits(Object.fromEntries(candidates.map((feature) => [feature, profile.features[feature]?.median ?? null])), sortedByFeature, candidates),
+  const continues = continuedSegments(input.earlier, placed, labels, segmentation);
+  const traits = profiles.map((profile, s) =>
+    withStickyWords(
+      segmentTraits(Object.fromEntries(candidates.map((feature) => [feature, profile.features[feature]?.median ?? null])), sortedByFeature, candidates),
+      continues[s]?.traits,
+    ),
   );
   const ranks = spendRanks(meanSpendOf(placed, labels, count));
-  const continues = continuedSegments(input.earlier, placed, labels, segmentation);
   const named = nameSegments(defaultNames(traits, ranks), ranks, continues, input.nextKeyNumber, input.parent ? 'new' : 'first');
   const segments = named.map((segment, s) => ({ ...segment, components: [...segmentation.segments[s]], traits: traits[s] }));
 

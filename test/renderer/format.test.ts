@@ -56,6 +56,10 @@ describe('locale formatting', () => {
     expect(traitText({ label: 'visit rate', median: 6.1, unit: 'visits per month', percentile: 0.72, words: 'frequent' }, f)).toBe('visit rate 6.1 visits/month — frequent (top 28%)');
     expect(traitText({ label: 'basket size', median: 21, unit: 'EUR', percentile: 0.22, words: 'small baskets' }, f)).toBe('basket size €21.00 — small baskets (bottom 22%)');
     expect(traitText({ label: 'days since last visit', median: 3, unit: 'days', percentile: 0.5, words: 'recent' }, f)).toBe('days since last visit 3 days — recent (top 50%)');
+    // A word kept from the continued segment near the edge of its fifth says so.
+    expect(traitText({ label: 'spend per month', median: 22.7, unit: 'EUR per month', percentile: 0.183, words: 'low spend', kept: true }, f)).toBe(
+      'spend per month €22.70/month — low spend (bottom 18%; word kept)',
+    );
     // A small share keeps a decimal rather than reading "top 0%".
     const spend = (percentile: number) => traitText({ label: 'spend per month', median: 2400, unit: 'EUR per month', percentile, words: 'very high spend' }, f);
     expect(spend(0.997)).toBe('spend per month €2,400/month — very high spend (top 0.3%)');

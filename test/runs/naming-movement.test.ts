@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { defaultNames, nameSegments, segmentTraits, spendRanks, traitWords, uniqueName } from '../../src/runs/naming.js';
+import { defaultNames, nameSegments, segmentTraits, spendRanks, traitWords, uniqueName, withStickyWords } from '../../src/runs/naming.js';
 import { continuations, withSegmentsShownBefore } from '../../src/runs/carry-keys.js';
 import { countMovement, driftWarnings, segmentMoments } from '../../src/runs/movement.js';
 import { carriesOver, finalSegmentKey, isLowConfidenceMover, reviewMask, reviewReasons } from '../../src/runs/review-rules.js';
@@ -102,6 +102,29 @@ describe('segment names from measured traits', () => {
       ['S2', 'Win-back list', true],
       ['S9', 'Win-back list (2) (2)', false],
     ]);
+  });
+
+  it('a continuing segment keeps a word near the edge of its fifth, and says the new one once the rank is clearly past it', () => {
+    const trait = (feature: string, percentile: number, words = traitWords(feature, percentile)) => ({ feature, label: feature, median: 1, unit: '', percentile, words });
+    const spend = (percentile: number, earlier: ReturnType<typeof trait>[]) => withStickyWords([trait('spend_per_month', percentile)], earlier)[0];
+    // October 0.211 said "low spend"; November 0.183 would say "very low spend" but is within 5 points of 0.20.
+    const november = spend(0.183, [trait('spend_per_month', 0.211)]);
+    expect(november).toMatchObject({ words: 'low spend', kept: true, percentile: 0.183 });
+    // December from November's kept word: still near (0.16), then clearly past (0.14).
+    expect(spend(0.16, [november])).toMatchObject({ words: 'low spend', kept: true });
+    expect(spend(0.14, [november])).toMatchObject({ words: 'very low spend' });
+    expect(spend(0.14, [november]).kept).toBeUndefined();
+    // Upward too, and the top band's "top 1 %" edge has a tenth of the margin.
+    expect(spend(0.645, [trait('spend_per_month', 0.59)]).words).toBe('mid spend');
+    expect(spend(0.66, [trait('spend_per_month', 0.59)]).words).toBe('high spend');
+    expect(spend(0.987, [trait('spend_per_month', 0.995)]).words).toBe('top 1 % spend');
+    expect(spend(0.98, [trait('spend_per_month', 0.995)]).words).toBe('very high spend');
+    expect(spend(0.993, [trait('spend_per_month', 0.95)]).words).toBe('very high spend');
+    // Unchanged words, no earlier trait, or words these rules do not say: the new trait as it is.
+    expect(spend(0.3, [trait('spend_per_month', 0.35)]).kept).toBeUndefined();
+    expect(spend(0.183, [trait('visits_per_month', 0.211)]).words).toBe('very low spend');
+    expect(spend(0.183, [trait('spend_per_month', 0.211, 'modest spenders')]).words).toBe('very low spend');
+    expect(withStickyWords([trait('spend_per_month', 0.183)], undefined)[0].words).toBe('very low spend');
   });
 
   it('continuation: Hungarian pairing on shared customers, a pair counts only with half of either side', () => {

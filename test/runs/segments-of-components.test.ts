@@ -1,10 +1,11 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import type { RunSummary, StartRunInput } from '../../src/api/contract.js';
+import type { RunSummary, SegmentTrait, StartRunInput } from '../../src/api/contract.js';
 import { isInputError } from '../../src/errors.js';
 import { decodeFloat64, encodeFloat64 } from '../../src/runs/blobs.js';
 import { listRuns } from '../../src/runs/read/runs-list.js';
 import { segmentationOf } from '../../src/runs/read/segmentation.js';
 import { listSegments } from '../../src/runs/read/segments.js';
+import { NAME_TRAITS, traitWords } from '../../src/runs/naming.js';
 import { storedRun } from '../../src/runs/read/stored-run.js';
 import type { Database } from '../../src/store/database.js';
 import { acceptRest, allMemberships, decide, regroup, rename, reviewQueue, runMonth } from '../support/core-calls.js';
@@ -385,5 +386,51 @@ describe('trying another level and coming back', () => {
     if (components > shown.length) expect(all.added.length).toBeGreaterThan(0);
     const fresh = listSegments(db, run.runId).segments.filter((segment) => !shown.some((earlier) => earlier.key === segment.key));
     expect(fresh.length).toBe(all.added.length);
+  });
+});
+
+describe('names that continue', () => {
+  it('a refit keeps the parent segment\'s word for a trait near the edge of its fifth, and not one far from it', async () => {
+    // Last in the file: its own runs. The parent's stored words are set by hand to the neighbouring
+    // fifth's, as if last month had sat just across the edge.
+    const parent = await runMonth(db, { ...base, asOf: '2026-06-30', parentRunId: null });
+    const first = await runMonth(db, { ...base, asOf: '2026-07-31', parentRunId: parent.runId });
+    const matched = listSegments(db, first.runId).segments.filter((segment) => segment.origin === 'matched');
+    const fifth = (p: number) => Math.min(4, Math.floor(p / 0.2));
+    const neighbour = (p: number) => (p % 0.2 < 0.1 ? fifth(p) - 1 : fifth(p) + 1);
+    const candidates = matched.flatMap((segment) =>
+      segment.traits
+        .filter((trait) => trait.percentile < 0.99 && neighbour(trait.percentile) >= 0 && neighbour(trait.percentile) <= 4)
+        .map((trait) => ({ key: segment.key, trait, edgeDistance: Math.min(trait.percentile % 0.2, 0.2 - (trait.percentile % 0.2)) })),
+    );
+    const near = candidates.find((candidate) => candidate.edgeDistance < 0.045);
+    const far = candidates.find((candidate) => candidate.edgeDistance > 0.055);
+    expect(near, 'a matched trait within 5 points of an edge').toBeDefined();
+    expect(far, 'a matched trait further than 5 points from every edge').toBeDefined();
+
+    const setParentWords = (key: string, feature: string, words: string) => {
+      const row = db.prepare('SELECT traits FROM run_segments WHERE run_id = ? AND segment_key = ?').get(parent.runId, key) as { traits: string };
+      const traits = (JSON.parse(row.traits) as SegmentTrait[]).map((trait) => (trait.feature === feature ? { ...trait, words } : trait));
+      db.prepare('UPDATE run_segments SET traits = ? WHERE run_id = ? AND segment_key = ?').run(JSON.stringify(traits), parent.runId, key);
+    };
+    const neighbourWords = (candidate: NonNullable<typeof near>) => traitWords(candidate.trait.feature, 0.2 * neighbour(candidate.trait.percentile) + 0.1);
+    setParentWords(near!.key, near!.trait.feature, neighbourWords(near!));
+    setParentWords(far!.key, far!.trait.feature, neighbourWords(far!));
+
+    const again = await runMonth(db, { ...base, asOf: '2026-07-31', parentRunId: parent.runId });
+    const segments = listSegments(db, again.runId).segments;
+    const traitOf = (candidate: NonNullable<typeof near>) =>
+      segments.find((segment) => segment.key === candidate.key)!.traits.find((trait) => trait.feature === candidate.trait.feature)!;
+    expect(traitOf(near!)).toMatchObject({ words: neighbourWords(near!), kept: true });
+    expect(traitOf(far!)).toMatchObject({ words: far!.trait.words });
+    expect(traitOf(far!).kept).toBeUndefined();
+    // The name says the kept word where the trait is one the name uses.
+    const nearSegment = segments.find((segment) => segment.key === near!.key)!;
+    const words = nearSegment.defaultName.toLowerCase().split(' · ');
+    if (NAME_TRAITS.includes(near!.trait.feature)) {
+      expect(words).toContain(neighbourWords(near!));
+      expect(words).not.toContain(near!.trait.words);
+    }
+    expect(nearSegment.traits.filter((trait) => trait.kept)).toHaveLength(1);
   });
 });

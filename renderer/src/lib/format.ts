@@ -128,9 +128,10 @@ export function countOf(count: number, singular: string, format: Formatters, plu
 /**
  * A segment trait in words: "visit rate 6.1 visits/month — frequent (top 28 %)". The rank says
  * where the segment's median sits among all placed customers: the top share above it when it is
- * in the upper half, the bottom share below it otherwise.
+ * in the upper half, the bottom share below it otherwise. "; word kept" when the words are the
+ * continued segment's, kept near the edge of their fifth.
  */
-export function traitText(trait: { label: string; median: number; unit: string; percentile: number; words: string }, format: Formatters): string {
+export function traitText(trait: { label: string; median: number; unit: string; percentile: number; words: string; kept?: boolean }, format: Formatters): string {
   const value =
     trait.unit === 'visits per month'
       ? `${format.decimal(trait.median, 1)} visits/month`
@@ -138,7 +139,7 @@ export function traitText(trait: { label: string; median: number; unit: string; 
         ? `${formatInUnit(trait.median, 'EUR', format)}/month`
         : formatInUnit(trait.median, trait.unit, format);
   const rank = trait.percentile >= 0.5 ? `top ${rankShare(1 - trait.percentile, format)}` : `bottom ${rankShare(trait.percentile, format)}`;
-  return `${trait.label} ${value} — ${trait.words} (${rank})`;
+  return `${trait.label} ${value} — ${trait.words} (${rank}${trait.kept ? '; word kept' : ''})`;
 }
 
 /** A rank's share in whole percent, or with one decimal below 1 % so that a small share never reads "0 %". */

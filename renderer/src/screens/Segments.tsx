@@ -124,6 +124,10 @@ function SegmentsView({ runId }: { runId: number }) {
           {format.count(ordered.reduce((sum, s) => sum + s.customers, 0))} placed customers in {countOf(ordered.length, 'segment', format)} made of{' '}
           {countOf(segments?.components.length ?? 0, 'Gaussian component', format)}, ordered by spend.
         </p>
+        <p className="hint" data-testid="segment-names-hint">
+          Default names say where each segment&apos;s median customer sits among all placed customers, in fifths (very low to very high; &ldquo;top 1 %&rdquo; above
+          99 %). A segment that continues an earlier one keeps a word while its rank stays near that fifth, so names do not flip at an edge (&ldquo;word kept&rdquo;).
+        </p>
       </header>
       <MergeBar segments={ordered} regroup={regroup} />
       <RegroupPanel regroup={regroup} format={format} />

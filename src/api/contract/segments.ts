@@ -41,6 +41,8 @@ export interface SegmentTrait {
   percentile: number;
   /** The words the name uses for it ("frequent", "large baskets", "recent"). */
   words: string;
+  /** True when the words are the continued segment's, kept because the percentile is still near their fifth (src/runs/naming.ts). */
+  kept?: boolean;
 }
 
 export interface SegmentProfile {
