@@ -120,10 +120,11 @@ function stickyRange(b: number): [number, number] {
  * rules no longer say (an older version's) are not kept.
  */
 export function withStickyWords(traits: readonly SegmentTrait[], earlier: readonly SegmentTrait[] | undefined): SegmentTrait[] {
-  const before = new Map((earlier ?? []).map((trait) => [trait.feature, trait]));
+  // Stored traits come from the database: anything but a list of them keeps no word.
+  const before = new Map((Array.isArray(earlier) ? earlier : []).map((trait) => [trait?.feature, trait]));
   return traits.map((trait) => {
     const old = before.get(trait.feature);
-    if (!old || old.words === trait.words) return trait;
+    if (!old || typeof old.words !== 'string' || old.words === trait.words) return trait;
     const b = bandOfWords(trait.feature, old.words);
     if (b === null) return trait;
     const [low, high] = stickyRange(b);

@@ -84,7 +84,7 @@ export async function regroupSegments(db: Database, input: RegroupSegmentsInput,
   const current: Segmentation = { components: run.k, segments: run.segmentation.segments.map((group) => [...group]) };
   const { segmentation, method, words } = changedSegmentation(input.change, hierarchy, current, before);
   const parent = run.parentRunId === null ? null : loadParentRun(db, run.parentRunId);
-  const shownBefore = withSegmentsLeft(stored.shownBefore ?? [], before.list);
+  const shownBefore = withSegmentsLeft(rememberedSegments(stored.shownBefore, run.k), before.list);
   const segmentOf = new Map<string, number>();
   placed.customerIds.forEach((customerId, p) => segmentOf.set(customerId, labels[p]));
   const outcome = segmentPlaced({
@@ -170,6 +170,26 @@ export async function regroupSegments(db: Database, input: RegroupSegmentsInput,
 
 /** At most this many earlier segments are remembered per run (the newest), to keep the run row small. */
 const SHOWN_BEFORE_LIMIT = 200;
+
+/**
+ * The remembered segments as stored, keeping only well-formed entries of this model's components:
+ * they are a convenience, so a database edited by hand loses them rather than the regroup.
+ */
+function rememberedSegments(stored: unknown, components: number): ShownSegment[] {
+  if (!Array.isArray(stored)) return [];
+  return stored.filter(
+    (entry): entry is ShownSegment =>
+      typeof entry === 'object' &&
+      entry !== null &&
+      Array.isArray(entry.components) &&
+      entry.components.length > 0 &&
+      entry.components.every((c: unknown) => Number.isInteger(c) && (c as number) >= 0 && (c as number) < components) &&
+      typeof entry.key === 'string' &&
+      typeof entry.name === 'string' &&
+      typeof entry.renamed === 'boolean' &&
+      ['first', 'matched', 'new'].includes(entry.origin),
+  );
+}
 
 /**
  * The run's remembered segments after leaving the current ones: one per set of components, the

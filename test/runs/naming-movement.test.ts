@@ -125,6 +125,9 @@ describe('segment names from measured traits', () => {
     expect(spend(0.183, [trait('visits_per_month', 0.211)]).words).toBe('very low spend');
     expect(spend(0.183, [trait('spend_per_month', 0.211, 'modest spenders')]).words).toBe('very low spend');
     expect(withStickyWords([trait('spend_per_month', 0.183)], undefined)[0].words).toBe('very low spend');
+    // Stored traits that are not a list of traits (a database edited by hand) keep nothing.
+    expect(withStickyWords([trait('spend_per_month', 0.183)], { feature: 'spend_per_month' } as never)[0].words).toBe('very low spend');
+    expect(withStickyWords([trait('spend_per_month', 0.183)], [null, { feature: 'spend_per_month', words: 3 }] as never)[0].words).toBe('very low spend');
   });
 
   it('continuation: Hungarian pairing on shared customers, a pair counts only with half of either side', () => {

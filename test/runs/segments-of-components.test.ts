@@ -389,6 +389,18 @@ describe('trying another level and coming back', () => {
   });
 });
 
+describe('a database edited by hand', () => {
+  it('malformed remembered segments are ignored by a regroup, not an internal error', async () => {
+    const run = await runMonth(db, { ...base, asOf: '2026-05-31', parentRunId: null });
+    for (const garbage of ['{"a":1}', '[{"components":5,"key":7}]', '[{"components":[99],"key":"S1","name":"x","renamed":false,"origin":"first"}]']) {
+      db.prepare("UPDATE runs SET segmentation = json_set(segmentation, '$.shownBefore', json(?)) WHERE run_id = ?").run(garbage, run.runId);
+      const result = await regroup(db, { runId: run.runId, change: { level: 1 } });
+      expect(result.summary.segmentCount).toBe(1);
+      expect(result.returned).toEqual([]);
+    }
+  });
+});
+
 describe('names that continue', () => {
   it('a refit keeps the parent segment\'s word for a trait near the edge of its fifth, and not one far from it', async () => {
     // Last in the file: its own runs. The parent's stored words are set by hand to the neighbouring
