@@ -100,6 +100,9 @@ export function traitWords(feature: string, percentile: number): string {
  */
 export const WORD_STICKINESS = 0.05;
 
+/** What a continuing segment's earlier trait needs to keep its word: the feature and the word. */
+export type EarlierWords = Pick<SegmentTrait, 'feature' | 'words'>;
+
 /** The band a trait's word stands for (0–4, 5 for "top 1 %"), or null for words these rules do not say. */
 function bandOfWords(feature: string, words: string): number | null {
   for (let b = 0; b < 5; b++) if (traitWords(feature, 0.2 * b + 0.1) === words) return b;
@@ -119,7 +122,7 @@ function stickyRange(b: number): [number, number] {
  * percentile is still within the earlier word's band widened by the stickiness margin. Words these
  * rules no longer say (an older version's) are not kept.
  */
-export function withStickyWords(traits: readonly SegmentTrait[], earlier: readonly SegmentTrait[] | undefined): SegmentTrait[] {
+export function withStickyWords(traits: readonly SegmentTrait[], earlier: readonly EarlierWords[] | undefined): SegmentTrait[] {
   // Stored traits come from the database: anything but a list of them keeps no word.
   const before = new Map((Array.isArray(earlier) ? earlier : []).map((trait) => [trait?.feature, trait]));
   return traits.map((trait) => {
@@ -224,8 +227,8 @@ export interface EarlierSegment {
   key: string;
   name: string;
   renamed: boolean;
-  /** Its traits as stored (their words are kept near a band edge: withStickyWords). */
-  traits?: readonly SegmentTrait[];
+  /** Its traits' words (kept near a band edge: withStickyWords). */
+  traits?: readonly EarlierWords[];
   /** The origin a segment continuing it takes ('matched' for last month's segments; its own for a regrouped run's). */
   origin: NamedSegment['origin'];
 }

@@ -84,7 +84,7 @@ export async function regroupSegments(db: Database, input: RegroupSegmentsInput,
   const current: Segmentation = { components: run.k, segments: run.segmentation.segments.map((group) => [...group]) };
   const { segmentation, method, words } = changedSegmentation(input.change, hierarchy, current, before);
   const parent = run.parentRunId === null ? null : loadParentRun(db, run.parentRunId);
-  const shownBefore = withSegmentsLeft(rememberedSegments(stored.shownBefore, run.k), before.list);
+  const shownBefore = withSegmentsLeft(rememberedSegments(stored.shownBefore, run.k), before);
   const segmentOf = new Map<string, number>();
   placed.customerIds.forEach((customerId, p) => segmentOf.set(customerId, labels[p]));
   const outcome = segmentPlaced({
@@ -195,9 +195,16 @@ function rememberedSegments(stored: unknown, components: number): ShownSegment[]
  * The run's remembered segments after leaving the current ones: one per set of components, the
  * newest state of each (a segment left now replaces an older one of the same components).
  */
-function withSegmentsLeft(remembered: readonly ShownSegment[], left: RunSegments['list']): ShownSegment[] {
+function withSegmentsLeft(remembered: readonly ShownSegment[], left: RunSegments): ShownSegment[] {
   const byComponents = new Map<string, ShownSegment>();
-  const leftNow = left.map(({ components, key, name, renamed, origin }) => ({ components: [...components].sort((a, b) => a - b), key, name, renamed, origin }));
+  const leftNow = left.list.map(({ index, components, key, name, renamed, origin }) => ({
+    components: [...components].sort((a, b) => a - b),
+    key,
+    name,
+    renamed,
+    origin,
+    traits: left.traitsOf(index).map(({ feature, words }) => ({ feature, words })),
+  }));
   for (const segment of [...remembered, ...leftNow]) {
     const id = componentsKey(segment.components);
     byComponents.delete(id);

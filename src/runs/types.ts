@@ -74,4 +74,6 @@ export interface ShownSegment {
   name: string;
   renamed: boolean;
   origin: 'first' | 'matched' | 'new';
+  /** Its traits' words then, so a segment that comes back keeps words kept near a band edge. */
+  traits?: { feature: string; words: string }[];
 }

@@ -444,5 +444,14 @@ describe('names that continue', () => {
       expect(words).not.toContain(near!.trait.words);
     }
     expect(nearSegment.traits.filter((trait) => trait.kept)).toHaveLength(1);
+
+    // Another level and back: every segment returns with the same name, the kept word included.
+    const names = (runId: number) => new Map(listSegments(db, runId).segments.map((segment) => [segment.key, segment.name]));
+    const before = names(again.runId);
+    await regroup(db, { runId: again.runId, change: { level: 1 } });
+    await regroup(db, { runId: again.runId, change: { level: 'auto' } });
+    expect(names(again.runId)).toEqual(before);
+    const nearNow = listSegments(db, again.runId).segments.find((segment) => segment.key === near!.key)!;
+    expect(nearNow.traits.find((trait) => trait.feature === near!.trait.feature)).toMatchObject({ words: neighbourWords(near!), kept: true });
   });
 });
