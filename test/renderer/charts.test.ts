@@ -151,4 +151,14 @@ describe('Model, Certainty and Movement charts', () => {
     expect(series.links.reduce((sum, link) => sum + link.value, 0)).toBe(movement.common);
     expect(new Set(series.data.map((node) => node.name)).size).toBe(4);
   });
+
+  it('fits this run\'s labels in the right margin, cut with an ellipsis, so long names do not run off the chart', () => {
+    const series = (flowOption(movement, () => '#000000', format).series as { right: number; data: { name: string; label?: { width: number; overflow: string } }[] }[])[0];
+    const labels = series.data.filter((node) => node.name.startsWith('now: ')).map((node) => node.label!);
+    expect(labels).toHaveLength(2);
+    for (const label of labels) {
+      expect(label.overflow).toBe('truncate');
+      expect(label.width).toBeLessThan(series.right);
+    }
+  });
 });

@@ -48,12 +48,20 @@ export function heatmapOption(movement: MovementResult, format: Formatters): ECh
  * the chart rather than inventing flows. Node names carry a side prefix because a sankey needs
  * unique names and matched segments keep theirs.
  */
+/** Width of this run's labels in the flow chart's right margin, px. */
+const FLOW_LABEL_WIDTH = 150;
+
 export function flowOption(movement: MovementResult, colourForNode: (node: string) => string, format: Formatters): EChartsCoreOption {
   const before = (name: string) => `before: ${name}`;
   const after = (name: string) => `now: ${name}`;
   const nodes: Record<string, unknown>[] = [
     ...movement.parentSegments.map((s) => ({ name: before(s.name), itemStyle: { color: colourForNode(before(s.name)) } })),
-    ...movement.currentSegments.map((s) => ({ name: after(s.name), itemStyle: { color: colourForNode(after(s.name)) } })),
+    // This run's labels sit in the right margin, cut with an ellipsis at its width (the tooltip has the whole name): names of four traits are wider.
+    ...movement.currentSegments.map((s) => ({
+      name: after(s.name),
+      itemStyle: { color: colourForNode(after(s.name)) },
+      label: { width: FLOW_LABEL_WIDTH, overflow: 'truncate', ellipsis: '…' },
+    })),
   ];
   const links: { source: string; target: string; value: number }[] = [];
   movement.matrix.forEach((row, i) =>
@@ -75,7 +83,7 @@ export function flowOption(movement: MovementResult, colourForNode: (node: strin
       {
         type: 'sankey',
         left: 8,
-        right: 140,
+        right: FLOW_LABEL_WIDTH + 12,
         top: 12,
         bottom: 12,
         nodeGap: 10,
