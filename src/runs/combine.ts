@@ -11,6 +11,7 @@
  */
 import type { CombiningLevelSummary, SegmentationMethod } from '../api/contract.js';
 import { checkSegmentation, segmentationAtLevel, segmentsWhileAmbiguous, type CombiningHierarchy, type Segmentation } from '../model/index.js';
+import { componentsKey } from './carry-keys.js';
 import type { StoredSegmentation } from './types.js';
 
 /**
@@ -80,7 +81,7 @@ export function storedSegmentation(hierarchy: CombiningHierarchy, segmentation: 
 
 /** The segment count of the level whose grouping equals this one (order of groups aside), or null. */
 export function levelOfGrouping(levels: readonly CombiningLevelSummary[], segments: readonly (readonly number[])[]): number | null {
-  const canonical = (groups: readonly (readonly number[])[]) => groups.map((group) => [...group].sort((a, b) => a - b).join(',')).sort().join(';');
+  const canonical = (groups: readonly (readonly number[])[]) => groups.map(componentsKey).sort().join(';');
   const wanted = canonical(segments);
   return levels.find((level) => canonical(level.groups) === wanted)?.segmentCount ?? null;
 }

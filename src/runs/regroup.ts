@@ -198,7 +198,7 @@ function rememberedSegments(stored: unknown, components: number): ShownSegment[]
 function withSegmentsLeft(remembered: readonly ShownSegment[], left: RunSegments): ShownSegment[] {
   const byComponents = new Map<string, ShownSegment>();
   const leftNow = left.list.map(({ index, components, key, name, renamed, origin }) => ({
-    components: [...components].sort((a, b) => a - b),
+    components: [...components],
     key,
     name,
     renamed,

@@ -42,15 +42,15 @@ export function heatmapOption(movement: MovementResult, format: Formatters): ECh
   };
 }
 
+/** Width of this run's labels in the flow chart's right margin, px. */
+const FLOW_LABEL_WIDTH = 150;
+
 /**
  * Flow from last run's segments to this run's over the customers in both. Entered and left are
  * totals without a split by segment in the movement result, so the screen states them beside
  * the chart rather than inventing flows. Node names carry a side prefix because a sankey needs
  * unique names and matched segments keep theirs.
  */
-/** Width of this run's labels in the flow chart's right margin, px. */
-const FLOW_LABEL_WIDTH = 150;
-
 export function flowOption(movement: MovementResult, colourForNode: (node: string) => string, format: Formatters): EChartsCoreOption {
   const before = (name: string) => `before: ${name}`;
   const after = (name: string) => `now: ${name}`;
