@@ -4,6 +4,8 @@
  * plus the adjusted Rand index (ARI) of the segments against the truth on placed customers.
  *
  *   npx tsx test/bench/segments-against-truth.ts [--chain second|demo] [--customers N] [--seed N]
+ *       [--tiers overlapping|separated]   (second chain only: its tiers as first written, or further
+ *                                          apart as on the chain the segments issue measured)
  *   npx tsx test/bench/segments-against-truth.ts --dir FOLDER [--as-of YYYY-MM-DD]
  *       options: --sklearn       cross-check the ARI with scikit-learn (Debian's /usr/bin/python3)
  *                --two-features  also fit 4 components on log visit rate and log basket only
@@ -33,7 +35,7 @@ import { fileURLToPath } from 'node:url';
 import { parseArgs } from 'node:util';
 import { runMonth } from '../support/core-calls.js';
 import { spendmixJson, type ImportJson } from '../support/cli-runner.js';
-import { CHAIN_SIZE, generateSecondChain } from '../support/second-chain/generate.js';
+import { CHAIN_SIZE, generateSecondChain, type TierSpacing } from '../support/second-chain/generate.js';
 import { describeEvaluation, evaluateAgainstTruth, placedLabels, readTruthFile, type Truth, type TruthEvaluation } from '../support/truth-evaluation.js';
 
 const { values } = parseArgs({
@@ -43,6 +45,7 @@ const { values } = parseArgs({
     'as-of': { type: 'string' },
     customers: { type: 'string' },
     seed: { type: 'string' },
+    tiers: { type: 'string', default: 'overlapping' },
     sklearn: { type: 'boolean', default: false },
     'two-features': { type: 'boolean', default: false },
     'fit-seeds': { type: 'string' },
@@ -177,10 +180,11 @@ async function main(): Promise<void> {
         outDir: dataDir,
         customers: values.customers ? Number(values.customers) : CHAIN_SIZE.defaultCustomers,
         seed: values.seed ? Number(values.seed) : CHAIN_SIZE.defaultSeed,
+        tiers: values.tiers as TierSpacing,
       });
       generationSeconds = seconds(started);
       log(
-        `${generated.chain} (seed ${generated.seed}): ${generated.customers} customers, ${generated.receipts} receipts, ${generated.visits} visits, ` +
+        `${generated.chain} (seed ${generated.seed}, ${generated.tierSpacing} tiers): ${generated.customers} customers, ${generated.receipts} receipts, ${generated.visits} visits, ` +
           `tiers ${JSON.stringify(generated.tiers)}, groups ${JSON.stringify(generated.groups)} (${generationSeconds} s)`,
       );
       importSeconds = 0;

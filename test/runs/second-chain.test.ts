@@ -88,6 +88,33 @@ describe('the second test chain generator', () => {
     expect(chain.groups.new).toBeGreaterThan(0);
   });
 
+  it('with separated tiers: the same customers, tier for tier, with bigger weekly and household baskets and a smaller occasional one', () => {
+    const write = (tiers: 'overlapping' | 'separated') => generateSecondChain({ outDir: join(folder, `spacing-${tiers}`), customers: 400, tiers });
+    const [first, separated] = [write('overlapping'), write('separated')];
+    expect(first.tierSpacing).toBe('overlapping');
+    expect(separated.tierSpacing).toBe('separated');
+    // Only the tiers' parameters differ: the draws of tier, joining and consent are the same.
+    expect(readFileSync(join(separated.dir, 'truth.csv'), 'utf8')).toBe(readFileSync(join(first.dir, 'truth.csv'), 'utf8'));
+    expect(readFileSync(join(separated.dir, 'customers.csv'), 'utf8')).toBe(readFileSync(join(first.dir, 'customers.csv'), 'utf8'));
+    const medianBasket = (dir: string, tier: string) => {
+      const tierOf = new Map(readFileSync(join(dir, 'truth.csv'), 'utf8').trim().split('\n').slice(1).map((line) => line.split(',') as [string, string]));
+      const amounts = readFileSync(join(dir, 'receipts.csv'), 'utf8')
+        .trim()
+        .split('\n')
+        .slice(1)
+        .map((line) => line.split(','))
+        .filter((row) => tierOf.get(row[1]) === tier && Number(row[5]) > 0)
+        .map((row) => Number(row[5]))
+        .sort((a, b) => a - b);
+      return amounts[Math.floor(amounts.length / 2)];
+    };
+    // Median basket per receipt (the generator's medians are EUR 24 → 20, 58 → 70, 105 → 170).
+    expect(medianBasket(separated.dir, 'occasional')).toBeLessThan(medianBasket(first.dir, 'occasional'));
+    expect(medianBasket(separated.dir, 'weekly') / medianBasket(first.dir, 'weekly')).toBeGreaterThan(1.1);
+    expect(medianBasket(separated.dir, 'household') / medianBasket(first.dir, 'household')).toBeGreaterThan(1.4);
+    expect(() => generateSecondChain({ outDir: join(folder, 'spacing-bad'), customers: 10, tiers: 'wide' as 'separated' })).toThrow(/tiers must be "overlapping" or "separated"/);
+  });
+
   it('tells its story in the data: median spend per month rises from occasional to top-up, weekly and household', () => {
     const spendCents = new Map<string, number>();
     for (const [, customerId, , date, , amount] of rowsOf('receipts.csv')) {

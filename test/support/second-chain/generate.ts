@@ -15,6 +15,7 @@ import {
   LAST_DATE,
   LAST_DAY_NUMBER,
   POPULATION,
+  SEPARATED_SPEND_TIERS,
   SPEND_TIERS,
   STORE_HOME_WEIGHTS,
   STORES,
@@ -36,7 +37,13 @@ export interface SecondChainOptions {
   customers?: number;
   /** Generator seed, 0 to 2^32 − 1 (default CHAIN_SIZE.defaultSeed). */
   seed?: number;
+  /** The tiers as first written ('overlapping', the default) or further apart ('separated'; chain.ts). */
+  tiers?: TierSpacing;
 }
+
+export type TierSpacing = 'overlapping' | 'separated';
+
+const TIERS_BY_SPACING: Record<TierSpacing, readonly SpendTier[]> = { overlapping: SPEND_TIERS, separated: SEPARATED_SPEND_TIERS };
 
 /** truth.csv `group`: an ordinary customer, one who joined too recently to place, or a business buyer. */
 export type TruthGroup = 'steady' | 'new' | 'atypical';
@@ -46,6 +53,7 @@ export interface SecondChainResult {
   chain: string;
   customers: number;
   seed: number;
+  tierSpacing: TierSpacing;
   firstDate: string;
   lastDate: string;
   /** Receipt rows: purchases plus refunds (one row per receipt). */
@@ -158,9 +166,9 @@ function chooseAtypical(customers: number, draws: Draws): Map<number, number> {
   return chosen;
 }
 
-function drawCustomer(index: number, draws: Draws, atypicalKind: number | undefined): Customer {
-  const tierIndex = draws.pick(SPEND_TIERS.map((tier) => tier.share));
-  const tier = SPEND_TIERS[tierIndex];
+function drawCustomer(index: number, draws: Draws, atypicalKind: number | undefined, tiers: readonly SpendTier[]): Customer {
+  const tierIndex = draws.pick(tiers.map((tier) => tier.share));
+  const tier = tiers[tierIndex];
   const atypical = atypicalKind !== undefined;
   const behaviour = atypical ? ATYPICAL_KINDS[atypicalKind] : tier;
   const group: TruthGroup = atypical ? 'atypical' : draws.chance(POPULATION.newShare) ? 'new' : 'steady';
@@ -256,6 +264,8 @@ export function generateSecondChain(options: SecondChainOptions): SecondChainRes
     throw new RangeError(`customers must be a whole number from 1 to ${CHAIN_SIZE.maxCustomers}; got ${customers}`);
   }
   if (!Number.isSafeInteger(seed) || seed < 0 || seed > 0xffffffff) throw new RangeError(`seed must be a whole number from 0 to ${0xffffffff}; got ${seed}`);
+  const tierSpacing = options.tiers ?? 'overlapping';
+  if (!(tierSpacing in TIERS_BY_SPACING)) throw new RangeError(`tiers must be "overlapping" or "separated"; got "${tierSpacing}"`);
   const dir = resolve(options.outDir);
   mkdirSync(dir, { recursive: true });
   const writers = Object.fromEntries(Object.entries(FILES).map(([kind, name]) => [kind, new FileWriter(join(dir, name))])) as Record<
@@ -263,12 +273,13 @@ export function generateSecondChain(options: SecondChainOptions): SecondChainRes
     FileWriter
   >;
   try {
-    const counts = writeChain(writers, customers, seed);
+    const counts = writeChain(writers, customers, seed, TIERS_BY_SPACING[tierSpacing]);
     const result: SecondChainResult = {
       dir,
       chain: CHAIN_NAME,
       customers,
       seed,
+      tierSpacing,
       firstDate: FIRST_DATE,
       lastDate: LAST_DATE,
       ...counts,
@@ -292,11 +303,11 @@ export function generateSecondChain(options: SecondChainOptions): SecondChainRes
   }
 }
 
-function writeChain(writers: Record<keyof typeof FILES, FileWriter>, customers: number, seed: number) {
+function writeChain(writers: Record<keyof typeof FILES, FileWriter>, customers: number, seed: number, spendTiers: readonly SpendTier[]) {
   const master = new Draws(seed);
   const atypical = chooseAtypical(customers, new Draws(master.childSeed()));
   const receiptNumbers = STORES.map(() => 0);
-  const tiers: Record<string, number> = Object.fromEntries([...SPEND_TIERS.map((tier) => [tier.name, 0]), [ATYPICAL_KINDS[0].name, 0]]);
+  const tiers: Record<string, number> = Object.fromEntries([...spendTiers.map((tier) => [tier.name, 0]), [ATYPICAL_KINDS[0].name, 0]]);
   const groups: Record<TruthGroup, number> = { steady: 0, new: 0, atypical: 0 };
   const consent = { yes: 0, no: 0, unknown: 0 };
   let purchases = 0;
@@ -312,7 +323,7 @@ function writeChain(writers: Record<keyof typeof FILES, FileWriter>, customers: 
 
   for (let index = 0; index < customers; index++) {
     const draws = new Draws(master.childSeed());
-    const customer = drawCustomer(index, draws, atypical.get(index));
+    const customer = drawCustomer(index, draws, atypical.get(index), spendTiers);
     tiers[customer.tier]++;
     groups[customer.group]++;
     consent[customer.consent === '' ? 'unknown' : customer.consent]++;
