@@ -33,6 +33,7 @@ export const computedFeatureNames = [
   'visits_per_month',
   'average_basket',
   'days_since_last_visit',
+  'gaps_since_last_visit',
   'tenure_months',
   'fresh_share',
   'spend_trend',
@@ -46,7 +47,7 @@ export interface FeatureDescription {
   /** Plain words for sentences ("basket size fits Tier 2"). */
   label: string;
   /** Unit shown beside values. */
-  unit: 'EUR' | 'EUR per month' | 'visits per month' | 'days' | 'months' | 'share' | 'purchases' | '';
+  unit: 'EUR' | 'EUR per month' | 'visits per month' | 'days' | 'usual gaps' | 'months' | 'share' | 'purchases' | '';
   /** What the number means, for tooltips and the overview sheet. */
   meaning: string;
   /** Smallest value the definition allows (log1p needs values above −1). */
@@ -76,6 +77,13 @@ export const featureDescriptions: Record<ComputedFeatureName, FeatureDescription
     label: 'days since last visit',
     unit: 'days',
     meaning: 'Days from the last visit or purchase up to the as-of date.',
+    minimum: 0,
+  },
+  gaps_since_last_visit: {
+    label: 'gaps since last visit',
+    unit: 'usual gaps',
+    meaning:
+      "Days since the last visit counted in the customer's own usual gap between visits (days in a month ÷ visit rate): about 1 while they keep to their rhythm, 5 when five usual gaps have passed without a visit.",
     minimum: 0,
   },
   tenure_months: {
@@ -229,6 +237,13 @@ export const featureFormulas: readonly FeatureFormula[] = [
   { name: 'visits_per_month', formula: dividedBy(v('visit_count'), v('observed_months')) },
   { name: 'average_basket', formula: choose(above(v('purchases'), constant(0)), dividedBy(v('net_spend'), v('purchases')), missing) },
   { name: 'days_since_last_visit', formula: minus(asOf, v('last_day')) },
+  // Recency in the customer's own rhythm: ten days away is nothing for a monthly shopper and a
+  // lapse for a daily one. Days alone also repeat the visit rate (frequent shoppers were in
+  // recently) with an exponential spread that mixture components split tiers on.
+  {
+    name: 'gaps_since_last_visit',
+    formula: dividedBy(times(minus(asOf, v('last_day')), dividedBy(v('visit_count'), v('observed_months'))), constant(DAYS_PER_MONTH)),
+  },
   { name: 'tenure_months', formula: v('tenure') },
   {
     name: 'fresh_share',
@@ -293,6 +308,7 @@ export function featureValueWords(name: string, value: number): string {
     case 'purchases':
       return `${number(Number.isInteger(value) ? 0 : 1)} ${unit}`;
     case 'visits per month':
+    case 'usual gaps':
       return `${number(1)} ${unit}`;
     default:
       return value.toLocaleString('en-GB', { maximumSignificantDigits: 4 });

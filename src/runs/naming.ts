@@ -58,6 +58,13 @@ const bandWords: Record<string, readonly [string, string, string, string, string
   visits_per_month: ['rare', 'infrequent', 'regular', 'frequent', 'very frequent'],
   average_basket: ['very small baskets', 'small baskets', 'mid-size baskets', 'large baskets', 'very large baskets'],
   days_since_last_visit: ['very recent', 'recent', 'fairly recent', 'not recent', 'long absent'],
+  gaps_since_last_visit: [
+    'well within their usual gap',
+    'within their usual gap',
+    'about their usual gap',
+    'past their usual gap',
+    'long past their usual gap',
+  ],
   fresh_share: ['very little fresh', 'little fresh', 'average fresh share', 'fresh-heavy', 'very fresh-heavy'],
   spend_per_month: ['very low spend', 'low spend', 'mid spend', 'high spend', 'very high spend'],
 };

@@ -90,10 +90,10 @@ describe('the API contract', () => {
     expect(explicitRunSettings(defaults, data(true)).features).toEqual([
       { feature: 'visits_per_month', log1p: true, clipLowerPercentile: null, clipUpperPercentile: null, zScore: true },
       { feature: 'average_basket', log1p: true, clipLowerPercentile: null, clipUpperPercentile: null, zScore: true },
-      { feature: 'days_since_last_visit', log1p: true, clipLowerPercentile: null, clipUpperPercentile: null, zScore: true },
+      { feature: 'gaps_since_last_visit', log1p: true, clipLowerPercentile: null, clipUpperPercentile: null, zScore: true },
       { feature: 'fresh_share', log1p: false, clipLowerPercentile: null, clipUpperPercentile: null, zScore: true },
     ]);
-    expect(explicitRunSettings(defaults, data(true, false)).features.map((spec) => spec.feature)).toEqual(['visits_per_month', 'average_basket', 'days_since_last_visit']);
+    expect(explicitRunSettings(defaults, data(true, false)).features.map((spec) => spec.feature)).toEqual(['visits_per_month', 'average_basket', 'gaps_since_last_visit']);
     const imported = explicitRunSettings(defaults, data(false));
     expect(imported.source).toBe('imported');
     expect(imported.features.map((spec) => [spec.feature, spec.log1p, spec.zScore])).toEqual([

@@ -82,6 +82,8 @@ describe('features worked by hand', () => {
     expect(a.visits_per_month).toBeCloseTo(5 / 12, 12);
     // Last visit 2026-11-02 → 28 days before 2026-11-30.
     expect(a.days_since_last_visit).toBe(28);
+    // Usual gap between A's visits: 30.4375 / (5 / 12) = 73.05 days, so 28 days away is 0.383 gaps.
+    expect(a.gaps_since_last_visit).toBeCloseTo((28 * 5) / 12 / 30.4375, 12);
     // Tenure: 2025-06-10 … 2026-11-30 inclusive is 539 days; / (365.25 / 12).
     expect(a.tenure_months).toBeCloseTo(539 / 30.4375, 12);
     // Fresh departments by default include dairy: 20 + 15 + 40 = 75 of 85 bought; refunds 5 of 85.
@@ -101,6 +103,8 @@ describe('features worked by hand', () => {
     // B has no visit rows although the visits table has some: its purchases are its visits.
     expect(b.visits_per_month).toBeCloseTo(2, 12);
     expect(b.days_since_last_visit).toBe(10);
+    // Two visits in one observed month: a usual gap of 15.2 days, 10 days away is 0.657 of one.
+    expect(b.gaps_since_last_visit).toBeCloseTo((10 * 2) / 30.4375, 12);
     expect(b.tenure_months).toBeCloseTo(30 / 30.4375, 12);
     // Bakery, dairy and fresh are all fresh departments by default.
     expect(b.fresh_share).toBe(1);

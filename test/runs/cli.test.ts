@@ -77,8 +77,13 @@ describe('refresh, runs, review', () => {
     const merged = await cli('segments', '--db', demo.path, '--run', '2', 'merge', a.key, b.key);
     expect(merged.code, merged.stderr).toBe(0);
     expect(merged.stdout).toMatch(new RegExp(`^Run 2: merged "${a.name}" and "${b.name}"; now ${tree.components - 1} segments?`));
+    // The merged segment keeps the key of whichever of the two it continues (the one with more customers).
+    const both = [...a.components, ...b.components].sort((x: number, y: number) => x - y).join(',');
+    const listed = JSON.parse((await cli('segments', '--db', demo.path, '--run', '2', 'list', '--json')).stdout);
+    const mergedSegment = listed.segments.find((segment: { components: number[] }) => segment.components.join(',') === both);
+    expect([a.key, b.key]).toContain(mergedSegment.key);
     const parts = [a.components, b.components].map((group: number[]) => group.join(',')).join(';');
-    const split = await cli('segments', '--db', demo.path, '--run', '2', 'split', a.key, '--parts', parts, '--json');
+    const split = await cli('segments', '--db', demo.path, '--run', '2', 'split', mergedSegment.key, '--parts', parts, '--json');
     expect(split.code, split.stderr).toBe(0);
     expect(JSON.parse(split.stdout).summary.segmentCount).toBe(tree.components);
     const itself = await cli('segments', '--db', demo.path, '--run', '2', 'merge', a.key, a.key);

@@ -35,6 +35,10 @@ describe('segment names from measured traits', () => {
     expect(traitWords('spend_per_month', 0.995)).toBe('top 1 % spend');
     expect(traitWords('average_basket', 0.999)).toBe('top 1 % baskets');
     expect(traitWords('refund_share', 0.99)).toBe('top 1 % refund share');
+    // Recency in the customer's own rhythm says so, rather than "high gaps since last visit".
+    expect(traitWords('gaps_since_last_visit', 0.5)).toBe('about their usual gap');
+    expect(traitWords('gaps_since_last_visit', 0.85)).toBe('long past their usual gap');
+    expect(traitWords('spend_trend', 0.85)).toBe('very high spend trend');
     const names = defaultNames([traits], [1]);
     expect(names).toEqual(['Very frequent · small baskets · very recent']);
     // No word of a named customer scheme, only restated measurements.

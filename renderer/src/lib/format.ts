@@ -88,7 +88,7 @@ export function sampleCaption(shown: number, total: number, format: Formatters, 
 
 /**
  * A feature value in its own unit, as the core labels it ('EUR', 'EUR per month', 'visits per
- * month', 'days', 'months', 'share', 'purchases', '' for unitless or imported features). The "per
+ * month', 'days', 'usual gaps', 'months', 'share', 'purchases', '' for unitless or imported features). The "per
  * month" is left to the feature's label ("spend per month"), so cells stay short.
  */
 export function formatInUnit(value: number, unit: string, format: Formatters): string {
@@ -98,6 +98,8 @@ export function formatInUnit(value: number, unit: string, format: Formatters): s
       return Math.abs(value) < 100 ? format.eurosPrecise(value) : format.euros(value);
     case 'visits per month':
       return format.decimal(value, 1);
+    case 'usual gaps':
+      return `${format.decimal(value, 1)} usual gaps`;
     case 'share':
       return format.percent(value);
     case 'days':

@@ -48,18 +48,21 @@ export interface FeatureTransformSpec {
 
 /**
  * Features the model uses when the analyst picks none and the features come from receipts
- * (DESIGN.md §4): how often (visit rate), how much per trip (basket) and how recently (days since
- * the last visit). They describe different behaviour and none is a function of the others; spend
- * per month is visits × basket, so it is not among them (with both it would make the set nearly
- * collinear, and full covariances would then fit that thin direction instead of the groups).
+ * (DESIGN.md §4): how often (visit rate), how much per trip (basket) and how recently, measured in
+ * the customer's own usual gaps between visits. They describe different behaviour and none is a
+ * function of the others; spend per month is visits × basket, so it is not among them (with both
+ * it would make the set nearly collinear, and full covariances would then fit that thin direction
+ * instead of the groups). Recency is in usual gaps rather than days (a departure from DESIGN.md
+ * §4, measured in the README): days since the last visit mostly repeat the visit rate, with a
+ * spread of their own that split every tier into "recent" and "not recent" components.
  */
-export const defaultModelFeatures: readonly string[] = ['visits_per_month', 'average_basket', 'days_since_last_visit'];
+export const defaultModelFeatures: readonly string[] = ['visits_per_month', 'average_basket', 'gaps_since_last_visit'];
 
 /** The mix feature added to the defaults where the receipts carry departments (DESIGN.md §4). */
 export const defaultMixFeature = 'fresh_share';
 
 /** Features that are counts, money or days: skewed to the right, so log1p before the z-score by default (common practice). */
-export const logScaleFeatures: readonly string[] = ['spend_per_month', 'visits_per_month', 'average_basket', 'days_since_last_visit'];
+export const logScaleFeatures: readonly string[] = ['spend_per_month', 'visits_per_month', 'average_basket', 'days_since_last_visit', 'gaps_since_last_visit'];
 
 /** Departments whose spend counts as fresh (the fresh-share feature; common practice in grocery reporting). */
 export const defaultFreshCategories: readonly string[] = ['fresh', 'produce', 'fruit', 'vegetables', 'meat', 'fish', 'bakery', 'dairy', 'deli'];

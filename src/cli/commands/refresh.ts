@@ -132,7 +132,7 @@ export const registerRefresh: RegisterCommand = (program, io, setExitCode) => {
   addSchemaOptions(command, settingFlags)
     .option(
       '--features <a,b>',
-      'model features, comma-separated (default from receipts: visits_per_month, average_basket, days_since_last_visit, and fresh_share where receipts carry departments; every imported feature otherwise)',
+      'model features, comma-separated (default from receipts: visits_per_month, average_basket, gaps_since_last_visit, and fresh_share where receipts carry departments; every imported feature otherwise)',
     )
     .option('--transform <feature=steps>', `a listed feature's transform, steps from ${transformSteps} (repeatable; default log1p,z for the money, rate and day features, z otherwise)`, collect, [])
     .option('--segmentation <groups>', 'segments as groups of component indices, groups separated by ";" (e.g. "0,2;1;3"; none: combined by --segment-count)')
