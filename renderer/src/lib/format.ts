@@ -88,8 +88,9 @@ export function sampleCaption(shown: number, total: number, format: Formatters, 
 
 /**
  * A feature value in its own unit, as the core labels it ('EUR', 'EUR per month', 'visits per
- * month', 'days', 'usual gaps', 'months', 'share', 'purchases', '' for unitless or imported features). The "per
- * month" is left to the feature's label ("spend per month"), so cells stay short.
+ * month', 'days', 'usual gaps', 'months', 'share', 'purchases', '' for unitless or imported
+ * features). The "per month" is left to the feature's label ("spend per month"), so cells stay
+ * short.
  */
 export function formatInUnit(value: number, unit: string, format: Formatters): string {
   switch (unit) {

@@ -54,7 +54,7 @@ export interface FeatureTransformSpec {
  * it would make the set nearly collinear, and full covariances would then fit that thin direction
  * instead of the groups). Recency is in usual gaps rather than days (a departure from DESIGN.md
  * §4, measured in the README): days since the last visit mostly repeat the visit rate, with a
- * spread of their own that split every tier into "recent" and "not recent" components.
+ * spread of their own along which components split tiers into "recent" and "not recent".
  */
 export const defaultModelFeatures: readonly string[] = ['visits_per_month', 'average_basket', 'gaps_since_last_visit'];
 
