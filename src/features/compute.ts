@@ -9,7 +9,7 @@
 import type { Database } from 'better-sqlite3';
 import { InputError, throwIfAborted } from '../errors.js';
 import { isoDateFromDay } from '../store/days.js';
-import { categorySpellings, featureDefinitions, type RowAggregate, type RowCondition } from './definitions.js';
+import { categorySpellings, featureDefinitions, shareOfDayWithoutTime, type RowAggregate, type RowCondition } from './definitions.js';
 import { javaScriptSyntax, renderCondition, renderExpression } from './expressions.js';
 import { featureWindow, type FeatureWindow } from './window.js';
 
@@ -72,6 +72,20 @@ export function checkAsOfInData(db: Database, window: FeatureWindow): void {
 /** The app's own columns for the row values the definitions read. */
 const receiptKeySql = "coalesce(receipt_id, day || '|' || ifnull(time, '') || '|' || ifnull(store_id, ''))";
 
+/**
+ * A customer's latest moment in the rows of the group: the last day plus the largest share of that
+ * day passed at a clock time of its rows (stored as HH:MM:SS; shareOfDayWithoutTime without one).
+ * Only the last day's rows are read, by one seek per customer into the (customer_id, day) index
+ * as the group is finished: a per-row expression over the whole window cost 0.2 µs a row (about a
+ * tenth of the feature build). Seconds over 86400.0 in doubles, then added to the day, as the
+ * generated SQL computes it, so the two agree bit for bit.
+ */
+function latestMomentSql(table: RowAggregate['table']): string {
+  const share = `CASE WHEN later.time IS NULL OR later.time = '00:00:00' THEN ${shareOfDayWithoutTime}
+    ELSE (CAST(substr(later.time, 1, 2) AS INTEGER) * 3600 + CAST(substr(later.time, 4, 2) AS INTEGER) * 60 + CAST(substr(later.time, 7, 2) AS INTEGER)) / 86400.0 END`;
+  return `max(${table}.day) + (SELECT max(${share}) FROM ${table} AS later WHERE later.customer_id = ${table}.customer_id AND later.day = max(${table}.day))`;
+}
+
 function rowConditionSql(condition: RowCondition, freshList: string): string {
   switch (condition) {
     case 'positive':
@@ -95,6 +109,11 @@ function rowConditionSql(condition: RowCondition, freshList: string): string {
 function aggregateSql(aggregate: RowAggregate, freshList: string): string {
   const conditions = aggregate.when.map((condition) => rowConditionSql(condition, freshList));
   const where = conditions.join(' AND ');
+  if (aggregate.operation === 'latestMoment') {
+    // The group's rows are the window's, so its last day is the window's.
+    if (where || aggregate.scope !== 'window') throw new Error(`Receipt aggregate ${aggregate.name}: a latest moment is over the window's rows, without conditions.`);
+    return latestMomentSql(aggregate.table);
+  }
   const column = aggregate.operation === 'sum' ? 'amount_cents' : aggregate.operation === 'countDistinct' ? receiptKeySql : aggregate.operation === 'count' ? '1' : 'day';
   const of = (expression: string) => (where ? `CASE WHEN ${where} THEN ${expression} END` : expression);
   if (aggregate.scope === 'history') {
@@ -132,6 +151,10 @@ function windowAggregateSql(freshCount: number): string {
 function visitAggregateSql(): string {
   const columns = visitAggregates.map((aggregate) => {
     if (aggregate.when.length > 0) throw new Error(`Visit aggregate ${aggregate.name}: conditions are not supported.`);
+    if (aggregate.operation === 'latestMoment') {
+      if (aggregate.scope === 'window') throw new Error(`Visit aggregate ${aggregate.name}: a latest moment reads every visit up to the as-of date.`);
+      return latestMomentSql('visits');
+    }
     const of = aggregate.operation === 'count' ? '1' : 'day';
     return aggregate.scope === 'window' ? `${aggregate.operation}(CASE WHEN day >= :start THEN ${of} END)` : `${aggregate.operation}(${of})`;
   });

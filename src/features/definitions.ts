@@ -83,7 +83,7 @@ export const featureDescriptions: Record<ComputedFeatureName, FeatureDescription
     label: 'gaps since last visit',
     unit: 'usual gaps',
     meaning:
-      "Days since the last visit counted in the customer's own usual gap between visits (days in a month ÷ visit rate): about 1 while they keep to their rhythm, 5 when five usual gaps have passed without a visit.",
+      "Time from the last visit to the end of the as-of day counted in the customer's own usual gap between visits (days in a month ÷ visit rate): about 1 while they keep to their rhythm, 5 when five usual gaps have passed without a visit.",
     minimum: 0,
   },
   tenure_months: {
@@ -145,12 +145,14 @@ export type RowCondition = 'positive' | 'fresh' | 'last3Months' | 'last6Months';
 /**
  * One per-customer aggregate over receipt or visit rows. `sum` adds amounts in cents (0 when no row
  * matches); `countDistinct` counts distinct receipts (the receipt id, or date-time and store
- * without one); `count` counts rows; `min`/`max` take the day number (missing when no row matches).
+ * without one); `count` counts rows; `min`/`max` take the day number (missing when no row matches);
+ * `latestMoment` takes the largest moment, the day number plus the share of the day passed at the
+ * row's clock time (see shareOfDayWithoutTime).
  */
 export interface RowAggregate {
   name: string;
   table: 'receipts' | 'visits';
-  operation: 'sum' | 'count' | 'countDistinct' | 'min' | 'max';
+  operation: 'sum' | 'count' | 'countDistinct' | 'min' | 'max' | 'latestMoment';
   scope: 'window' | 'history';
   when: readonly RowCondition[];
 }
@@ -170,13 +172,23 @@ export const receiptAggregates: readonly RowAggregate[] = [
   { name: 'purchases', table: 'receipts', operation: 'countDistinct', scope: 'window', when: ['positive'] },
   { name: 'last_receipt_day', table: 'receipts', operation: 'max', scope: 'window', when: [] },
   { name: 'first_receipt_day', table: 'receipts', operation: 'min', scope: 'history', when: [] },
+  { name: 'last_receipt_moment', table: 'receipts', operation: 'latestMoment', scope: 'window', when: [] },
 ];
+
+/**
+ * The share of the day a row without a clock time counts as passed: half, the middle of the day.
+ * A time of exactly 00:00:00 counts as no time too, because a date-only column reads as midnight
+ * in a chain's engine; the generated SQL and the app then agree, at the cost of half a day for a
+ * rare visit on the stroke of midnight.
+ */
+export const shareOfDayWithoutTime = 0.5;
 
 /** Visit aggregates; read only when the visits hold at least one visit in the window (else all missing). */
 export const visitAggregates: readonly RowAggregate[] = [
   { name: 'window_visits', table: 'visits', operation: 'count', scope: 'window', when: [] },
   { name: 'first_visit_day', table: 'visits', operation: 'min', scope: 'history', when: [] },
   { name: 'last_visit_day', table: 'visits', operation: 'max', scope: 'history', when: [] },
+  { name: 'last_visit_moment', table: 'visits', operation: 'latestMoment', scope: 'history', when: [] },
 ];
 
 /**
@@ -205,6 +217,10 @@ export const derivedValues: readonly { name: string; formula: Expression }[] = [
   },
   { name: 'first_day', formula: choose(above(v('earliest_day'), asOf), v('first_receipt_day'), v('earliest_day')) },
   { name: 'last_day', formula: larger(v('last_receipt_day'), orElse(visit('last_visit_day'), v('last_receipt_day'))) },
+  {
+    name: 'last_moment',
+    formula: larger(v('last_receipt_moment'), orElse(visit('last_visit_moment'), v('last_receipt_moment'))),
+  },
   // Months the customer could be seen in the window: the whole window, or from their first day.
   { name: 'observed_days', formula: plus(minus(asOf, larger(v('window_start_day'), v('first_day'))), constant(1)) },
   {
@@ -239,10 +255,15 @@ export const featureFormulas: readonly FeatureFormula[] = [
   { name: 'days_since_last_visit', formula: minus(asOf, v('last_day')) },
   // Recency in the customer's own rhythm: ten days away is nothing for a monthly shopper and a
   // lapse for a daily one. Days alone also repeat the visit rate (frequent shoppers were in
-  // recently) with an exponential spread that mixture components split tiers on.
+  // recently) with an exponential spread that mixture components split tiers on. Counted from
+  // the clock time of the last visit to the end of the as-of day: whole days would put everyone
+  // seen on one day at one value, a stack that components are spent on (measured in the README).
   {
     name: 'gaps_since_last_visit',
-    formula: dividedBy(times(minus(asOf, v('last_day')), dividedBy(v('visit_count'), v('observed_months'))), constant(DAYS_PER_MONTH)),
+    formula: dividedBy(
+      times(minus(plus(asOf, constant(1)), v('last_moment')), dividedBy(v('visit_count'), v('observed_months'))),
+      constant(DAYS_PER_MONTH),
+    ),
   },
   { name: 'tenure_months', formula: v('tenure') },
   {

@@ -1,6 +1,6 @@
 /**
- * Per-feature transforms applied before fitting (DESIGN.md §4): log1p, clipping at percentiles,
- * z-scoring, in that order. Fitting a transform records its parameters (clip bounds, mean,
+ * Per-feature transforms applied before fitting (DESIGN.md §4): log1p or cube root, clipping at
+ * percentiles, z-scoring, in that order. Fitting a transform records its parameters (clip bounds, mean,
  * standard deviation) so that next month's data is transformed with exactly the same numbers and
  * the parent's model can score it. NaN (missing) passes through unchanged.
  */
@@ -9,7 +9,13 @@ import { quantileOfSorted, sortedFinite } from './quantiles.js';
 
 export interface FeatureTransform {
   log1p: boolean;
-  /** Clip below/above these percentiles (0–100) of the (logged) values; null = no clipping on that side. */
+  /**
+   * Cube root instead of log1p (never both). For a gamma-like spread (waiting times) the cube
+   * root is close to normal (Wilson & Hilferty 1931), where a log leaves a long left tail.
+   * Absent in transforms stored before it existed: read as false.
+   */
+  cubeRoot?: boolean;
+  /** Clip below/above these percentiles (0–100) of the values after log1p or cube root; null = no clipping on that side. */
   clipLowerPercentile: number | null;
   clipUpperPercentile: number | null;
   zScore: boolean;
@@ -20,7 +26,7 @@ export interface FeatureTransform {
 export interface FittedTransformParameters {
   clipLower: number | null;
   clipUpper: number | null;
-  /** Mean and standard deviation after log1p and clipping (0 and 1 when zScore is off). */
+  /** Mean and standard deviation after log1p or cube root and clipping (0 and 1 when zScore is off). */
   mean: number;
   standardDeviation: number;
 }
@@ -38,6 +44,9 @@ export function validateTransform(feature: string, transform: FeatureTransform):
   };
   checkPercentile('lower', transform.clipLowerPercentile);
   checkPercentile('upper', transform.clipUpperPercentile);
+  if (transform.log1p && transform.cubeRoot) {
+    throw new InputError(`Transform of "${feature}": choose log1p or the cube root, not both.`);
+  }
   if (
     transform.clipLowerPercentile !== null &&
     transform.clipUpperPercentile !== null &&
@@ -47,6 +56,7 @@ export function validateTransform(feature: string, transform: FeatureTransform):
   }
   return {
     log1p: Boolean(transform.log1p),
+    cubeRoot: Boolean(transform.cubeRoot),
     clipLowerPercentile: transform.clipLowerPercentile ?? null,
     clipUpperPercentile: transform.clipUpperPercentile ?? null,
     zScore: Boolean(transform.zScore),
@@ -62,6 +72,12 @@ function applyLog(feature: string, value: number): number {
   return Math.log1p(value);
 }
 
+/** The shaping step of a transform (log1p, cube root or none) on one value in original units. */
+function shapeValue(feature: string, transform: FeatureTransform, value: number): number {
+  if (transform.log1p) return applyLog(feature, value);
+  return transform.cubeRoot ? Math.cbrt(value) : value;
+}
+
 function clamp(value: number, lower: number | null, upper: number | null): number {
   if (lower !== null && value < lower) return lower;
   if (upper !== null && value > upper) return upper;
@@ -71,12 +87,12 @@ function clamp(value: number, lower: number | null, upper: number | null): numbe
 /** Fits the transform's parameters on `values` (original units) and returns the fitted transform. */
 export function fitTransform(feature: string, spec: FeatureTransform, values: ArrayLike<number>): FeatureTransform {
   const transform = validateTransform(feature, spec);
-  const logged = new Float64Array(values.length);
+  const shaped = new Float64Array(values.length);
   for (let i = 0; i < values.length; i++) {
     const value = values[i];
-    logged[i] = Number.isNaN(value) ? NaN : transform.log1p ? applyLog(feature, value) : value;
+    shaped[i] = Number.isNaN(value) ? NaN : shapeValue(feature, transform, value);
   }
-  const sorted = transform.clipLowerPercentile !== null || transform.clipUpperPercentile !== null ? sortedFinite(logged) : null;
+  const sorted = transform.clipLowerPercentile !== null || transform.clipUpperPercentile !== null ? sortedFinite(shaped) : null;
   const clipLower = sorted && transform.clipLowerPercentile !== null ? quantileOfSorted(sorted, transform.clipLowerPercentile / 100) : null;
   const clipUpper = sorted && transform.clipUpperPercentile !== null ? quantileOfSorted(sorted, transform.clipUpperPercentile / 100) : null;
   let mean = 0;
@@ -84,17 +100,17 @@ export function fitTransform(feature: string, spec: FeatureTransform, values: Ar
   if (transform.zScore) {
     let count = 0;
     let sum = 0;
-    for (let i = 0; i < logged.length; i++) {
-      if (Number.isNaN(logged[i])) continue;
-      sum += clamp(logged[i], clipLower, clipUpper);
+    for (let i = 0; i < shaped.length; i++) {
+      if (Number.isNaN(shaped[i])) continue;
+      sum += clamp(shaped[i], clipLower, clipUpper);
       count++;
     }
     if (count === 0) throw new InputError(`Feature "${feature}" has no values to fit its transform on.`);
     mean = sum / count;
     let squares = 0;
-    for (let i = 0; i < logged.length; i++) {
-      if (Number.isNaN(logged[i])) continue;
-      const centred = clamp(logged[i], clipLower, clipUpper) - mean;
+    for (let i = 0; i < shaped.length; i++) {
+      if (Number.isNaN(shaped[i])) continue;
+      const centred = clamp(shaped[i], clipLower, clipUpper) - mean;
       squares += centred * centred;
     }
     // Population standard deviation, as scikit-learn's StandardScaler uses (from memory).
@@ -111,8 +127,8 @@ export function transformValue(feature: string, transform: FeatureTransform, val
   const fitted = transform.fitted;
   if (!fitted) throw new Error(`Transform of "${feature}" has not been fitted.`);
   if (Number.isNaN(value)) return NaN;
-  const logged = transform.log1p ? applyLog(feature, value) : value;
-  return (clamp(logged, fitted.clipLower, fitted.clipUpper) - fitted.mean) / fitted.standardDeviation;
+  const shaped = shapeValue(feature, transform, value);
+  return (clamp(shaped, fitted.clipLower, fitted.clipUpper) - fitted.mean) / fitted.standardDeviation;
 }
 
 /** Applies a fitted transform to a column (original units) into a new Float64Array. */
@@ -129,14 +145,16 @@ export function transformColumn(feature: string, transform: FeatureTransform, va
 export function untransformValue(transform: FeatureTransform, value: number): number {
   const fitted = transform.fitted;
   if (!fitted) throw new Error('Transform has not been fitted.');
-  const logged = value * fitted.standardDeviation + fitted.mean;
-  return transform.log1p ? Math.expm1(logged) : logged;
+  const shaped = value * fitted.standardDeviation + fitted.mean;
+  if (transform.log1p) return Math.expm1(shaped);
+  return transform.cubeRoot ? shaped * shaped * shaped : shaped;
 }
 
 /** Human words for a transform, e.g. "log1p, clipped at the 99th percentile, z-scored". */
 export function describeTransform(transform: FeatureTransform): string {
   const parts: string[] = [];
   if (transform.log1p) parts.push('log1p');
+  if (transform.cubeRoot) parts.push('cube root');
   if (transform.clipLowerPercentile !== null) parts.push(`clipped below the ${transform.clipLowerPercentile}th percentile`);
   if (transform.clipUpperPercentile !== null) parts.push(`clipped above the ${transform.clipUpperPercentile}th percentile`);
   if (transform.zScore) parts.push('z-scored');

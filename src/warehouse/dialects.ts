@@ -12,6 +12,11 @@ export interface SqlDialect {
   name: SqlDialectName;
   /** Days since 1970-01-01 of a date or date-time column (the app's day numbers, src/store/days.ts). */
   dayNumber: (column: string) => string;
+  /**
+   * Seconds since midnight of a date or date-time column's clock time, whole seconds (0 for a
+   * date without a time), as an integer the engine then divides in doubles.
+   */
+  secondsOfDay: (column: string) => string;
   /** A calendar date that the date column compares with (`date < <literal>`). */
   dateLiteral: (isoDate: string) => string;
   /** A double written so that the engine reads back exactly the same double. */
@@ -41,10 +46,16 @@ function exponentLiteral(value: number): string {
   return value < 0 ? `(${text})` : text;
 }
 
+/** Clock time in whole seconds by EXTRACT (DuckDB and PostgreSQL); fractions of a second are dropped, as the app's importer drops them. */
+function secondsOfDayByExtract(timestamp: string): string {
+  return `(CAST(EXTRACT(HOUR FROM ${timestamp}) AS INTEGER) * 3600 + CAST(EXTRACT(MINUTE FROM ${timestamp}) AS INTEGER) * 60 + CAST(FLOOR(EXTRACT(SECOND FROM ${timestamp})) AS INTEGER))`;
+}
+
 const dialects: Record<SqlDialectName, SqlDialect> = {
   duckdb: {
     name: 'duckdb',
     dayNumber: (column) => `(CAST(${column} AS DATE) - DATE '1970-01-01')`,
+    secondsOfDay: (column) => secondsOfDayByExtract(`CAST(${column} AS TIMESTAMP)`),
     dateLiteral: (isoDate) => `DATE '${isoDate}'`,
     double: exponentLiteral,
     doubleType: 'DOUBLE',
@@ -54,6 +65,7 @@ const dialects: Record<SqlDialectName, SqlDialect> = {
   postgres: {
     name: 'postgres',
     dayNumber: (column) => `(CAST(${column} AS DATE) - DATE '1970-01-01')`,
+    secondsOfDay: (column) => secondsOfDayByExtract(`CAST(${column} AS TIMESTAMP)`),
     dateLiteral: (isoDate) => `DATE '${isoDate}'`,
     double: (value) => `CAST(${exponentLiteral(value)} AS DOUBLE PRECISION)`,
     doubleType: 'DOUBLE PRECISION',
@@ -64,6 +76,9 @@ const dialects: Record<SqlDialectName, SqlDialect> = {
     name: 'sqlite',
     // Dates are ISO text in SQLite: julianday of the day's midnight is N + 0.5 exactly.
     dayNumber: (column) => `CAST(julianday(date(${column})) - 2440587.5 AS INTEGER)`,
+    // strftime reads the ISO text's time part, 00 for a date alone.
+    secondsOfDay: (column) =>
+      `(CAST(strftime('%H', ${column}) AS INTEGER) * 3600 + CAST(strftime('%M', ${column}) AS INTEGER) * 60 + CAST(strftime('%S', ${column}) AS INTEGER))`,
     dateLiteral: (isoDate) => `'${isoDate}'`,
     double: exponentLiteral,
     doubleType: 'REAL',

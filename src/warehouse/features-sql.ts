@@ -10,7 +10,7 @@
  * under the app's name, and `too_new` (1/0) — which `import --features` reads as it is.
  */
 import { InputError } from '../errors.js';
-import { categorySpellings, featureDefinitions as definitions, type RowAggregate, type RowCondition } from '../features/definitions.js';
+import { categorySpellings, featureDefinitions as definitions, shareOfDayWithoutTime, type RowAggregate, type RowCondition } from '../features/definitions.js';
 import { namesRead, renderCondition, renderExpression, type ExpressionSyntax } from '../features/expressions.js';
 import { featureWindow } from '../features/window.js';
 import { isoDateFromDay } from '../store/days.js';
@@ -67,6 +67,7 @@ export function featuresSql(options: FeaturesSqlOptions): FeaturesSql {
   const windowStart = dialect.dateLiteral(isoDateFromDay(window.startDay));
   const fresh = categorySpellings(options.freshCategories).map(stringLiteral);
 
+  const asDouble = (expression: string) => `CAST(${expression} AS ${dialect.doubleType})`;
   const rowCondition = (condition: RowCondition): string => {
     switch (condition) {
       case 'positive':
@@ -93,7 +94,15 @@ export function featuresSql(options: FeaturesSqlOptions): FeaturesSql {
       case 'min':
       case 'max':
         return `${definition.operation.toUpperCase()}(${when('day')}) AS ${definition.name}`;
+      case 'latestMoment':
+        return `MAX(${when('moment')}) AS ${definition.name}`;
     }
+  };
+  // A row's day number plus the share of its day passed at its clock time, as the app computes it
+  // (src/features/compute.ts): seconds over 86400 in doubles, half a day without a time (00:00:00).
+  const moment = (date: string) => {
+    const seconds = dialect.secondsOfDay(date);
+    return `${asDouble(dialect.dayNumber(date))} + CASE WHEN ${seconds} = 0 THEN ${dialect.double(shareOfDayWithoutTime)} ELSE ${asDouble(seconds)} / ${dialect.double(86400)} END`;
   };
 
   const constants: Record<(typeof definitions.formulaConstants)[number], number | null> = {
@@ -117,7 +126,6 @@ export function featuresSql(options: FeaturesSqlOptions): FeaturesSql {
     and: 'AND',
     or: 'OR',
   };
-  const asDouble = (expression: string) => `CAST(${expression} AS ${dialect.doubleType})`;
 
   const once = dialect.computedOnce;
   const ctes: string[] = [];
@@ -129,6 +137,7 @@ export function featuresSql(options: FeaturesSqlOptions): FeaturesSql {
       [
         `${column('customer_id')} AS customer_id`,
         `${dialect.dayNumber(column('date'))} AS day`,
+        `${moment(column('date'))} AS moment`,
         `CAST(ROUND(${column('amount')} * 100) AS BIGINT) AS cents`,
         `COALESCE(CAST(${column('receipt_id')} AS TEXT), CAST(${column('date')} AS TEXT) || '|' || COALESCE(CAST(${column('store_id')} AS TEXT), '')) AS receipt_key`,
         `${column('category')} AS category`,
@@ -148,7 +157,7 @@ export function featuresSql(options: FeaturesSqlOptions): FeaturesSql {
       'visit_totals',
       '',
       ['customer_id', ...definitions.visitAggregates.map(aggregate)],
-      `(SELECT ${column('customer_id')} AS customer_id, ${dialect.dayNumber(column('date'))} AS day FROM ${tables.visits} WHERE ${dateBefore(nextDay)}) AS visit_rows`,
+      `(SELECT ${column('customer_id')} AS customer_id, ${dialect.dayNumber(column('date'))} AS day, ${moment(column('date'))} AS moment FROM ${tables.visits} WHERE ${dateBefore(nextDay)}) AS visit_rows`,
       ['GROUP BY customer_id'],
     ),
   );

@@ -3,7 +3,7 @@
  * query over a features table (`customer_id` plus the model features in original units), so a
  * chain's engine labels every customer as the app would. Layer by layer, as src/model scores:
  *
- *   transforms     log1p, clipping at the stored bounds, z-score with the stored mean and SD
+ *   transforms     log1p or cube root, clipping at the stored bounds, z-score with the stored mean and SD
  *   projections    p = W (z − μ_c) with W the inverse Cholesky factor of Σ_c (rows as literals)
  *   log densities  l_c = log w_c + Σ log W_ii − (d/2) log 2π − ½ ‖p‖²
  *   posteriors     log-sum-exp: m = max l_c, e_c = exp(l_c − m), τ_c = e_c / Σ e, log f = m + ln Σ e
@@ -128,6 +128,12 @@ export function modelSql(scoring: ScoringModel, options: ModelSqlOptions): Model
   const largest = number(Number.MAX_VALUE);
   const logged = transforms.map((transform, j) => {
     const x = `x${j}`;
+    if (transform.cubeRoot) {
+      // Cube root by EXP(LN(|x|) / 3) with the sign put back (SQLite has no CBRT); within a few
+      // units in the last place of Math.cbrt, far inside the agreement the tests hold it to.
+      const root = (value: string) => `EXP(LN(${value}) / ${number(3)})`;
+      return `CASE WHEN ${x} > ${number(0)} AND ${x} <= ${largest} THEN ${root(x)} WHEN ${x} < ${number(0)} AND ${x} >= -${largest} THEN -${root(`-${x}`)} WHEN ${x} = ${number(0)} THEN ${number(0)} END AS y${j}`;
+    }
     if (!transform.log1p) return `${x} AS y${j}`;
     const onePlus = `(${number(1)} + ${x})`;
     return `CASE WHEN ${x} > ${number(-1)} AND ${x} <= ${largest} THEN CASE WHEN ${onePlus} = ${number(1)} THEN ${x} ELSE ((LN(${onePlus}) * ${x}) / (${onePlus} - ${number(1)})) END END AS y${j}`;

@@ -82,18 +82,27 @@ describe('the API contract', () => {
       importedFeatureNames: () => ['loyalty_points', 'tenure'],
     });
     expect(explicitRunSettings(settings, data(true)).features).toEqual([
-      { feature: 'spend_per_month', log1p: true, clipLowerPercentile: null, clipUpperPercentile: null, zScore: true },
-      { feature: 'fresh_share', log1p: false, clipLowerPercentile: null, clipUpperPercentile: 99, zScore: true },
+      { feature: 'spend_per_month', log1p: true, cubeRoot: false, clipLowerPercentile: null, clipUpperPercentile: null, zScore: true },
+      { feature: 'fresh_share', log1p: false, cubeRoot: false, clipLowerPercentile: null, clipUpperPercentile: 99, zScore: true },
     ]);
     const defaults = startRunInput.parse({ asOf: '2026-11-30' });
     // How often, how much per trip, how recently, and the mix where the receipts carry departments; never spend next to visits and basket.
     expect(explicitRunSettings(defaults, data(true)).features).toEqual([
-      { feature: 'visits_per_month', log1p: true, clipLowerPercentile: null, clipUpperPercentile: null, zScore: true },
-      { feature: 'average_basket', log1p: true, clipLowerPercentile: null, clipUpperPercentile: null, zScore: true },
-      { feature: 'gaps_since_last_visit', log1p: true, clipLowerPercentile: null, clipUpperPercentile: null, zScore: true },
-      { feature: 'fresh_share', log1p: false, clipLowerPercentile: null, clipUpperPercentile: null, zScore: true },
+      { feature: 'visits_per_month', log1p: true, cubeRoot: false, clipLowerPercentile: null, clipUpperPercentile: null, zScore: true },
+      { feature: 'average_basket', log1p: true, cubeRoot: false, clipLowerPercentile: null, clipUpperPercentile: null, zScore: true },
+      { feature: 'gaps_since_last_visit', log1p: false, cubeRoot: true, clipLowerPercentile: null, clipUpperPercentile: null, zScore: true },
+      { feature: 'fresh_share', log1p: false, cubeRoot: false, clipLowerPercentile: null, clipUpperPercentile: null, zScore: true },
     ]);
     expect(explicitRunSettings(defaults, data(true, false)).features.map((spec) => spec.feature)).toEqual(['visits_per_month', 'average_basket', 'gaps_since_last_visit']);
+    // One shaping step: asking for one of log1p and the cube root turns the default other off; both at once is refused.
+    const shaped = startRunInput.parse({ asOf: '2026-11-30', features: [{ feature: 'gaps_since_last_visit', log1p: true }, { feature: 'visits_per_month', cubeRoot: true }] });
+    expect(explicitRunSettings(shaped, data(true)).features.map((spec) => [spec.feature, spec.log1p, spec.cubeRoot])).toEqual([
+      ['gaps_since_last_visit', true, false],
+      ['visits_per_month', false, true],
+    ]);
+    const both = startRunInput.safeParse({ asOf: '2026-11-30', features: [{ feature: 'visits_per_month', log1p: true, cubeRoot: true }] });
+    expect(both.success).toBe(false);
+    expect(both.error!.issues[0]).toMatchObject({ path: ['features', 0, 'cubeRoot'], message: 'choose log1p or the cube root, not both' });
     const imported = explicitRunSettings(defaults, data(false));
     expect(imported.source).toBe('imported');
     expect(imported.features.map((spec) => [spec.feature, spec.log1p, spec.zScore])).toEqual([

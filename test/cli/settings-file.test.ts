@@ -25,7 +25,7 @@ describe('run settings as a file', () => {
   it('repeats a month exactly: two runs from the same settings file give identical memberships', async () => {
     const first = await cli(
       'refresh', '--db', demo.path, '--as-of', '2026-10-31', '--k', 'auto', '--k-min', '2', '--k-max', '3', '--covariance', 'diag', '--restarts', '2',
-      '--seed', '17', '--features', 'spend_per_month,visits_per_month,fresh_share', '--transform', 'fresh_share=clip=:99,z', '--tol', '0.0001',
+      '--seed', '17', '--features', 'spend_per_month,visits_per_month,fresh_share', '--transform', 'fresh_share=clip=:99,z', '--transform', 'visits_per_month=cbrt,z', '--tol', '0.0001',
       '--init', 'kmeans++', '--review-movers-below', '0.9', '--json',
     );
     expect(first.code, first.stderr).toBe(0);
@@ -42,7 +42,7 @@ describe('run settings as a file', () => {
       reviewMoversBelowConfidence: 0.9,
       features: [
         { feature: 'spend_per_month', log1p: true, zScore: true },
-        { feature: 'visits_per_month', log1p: true, zScore: true },
+        { feature: 'visits_per_month', log1p: false, cubeRoot: true, zScore: true },
         { feature: 'fresh_share', log1p: false, clipLowerPercentile: null, clipUpperPercentile: 99, zScore: true },
       ],
     });

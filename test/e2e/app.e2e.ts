@@ -141,6 +141,19 @@ describe('Spendmix in Chromium through the browser host', () => {
     await screenshot(page, '03-sources-report');
   });
 
+  it('offers log(1 + x) or the cube root as one step: the gaps since the last visit take the cube root by default', async () => {
+    await openScreen(page, 'model');
+    const toggle = (step: string) => page.getByTestId(`model-transform-gaps_since_last_visit-${step}`);
+    await expect.poll(() => toggle('cubeRoot').isChecked()).toBe(true);
+    expect(await toggle('log1p').isChecked()).toBe(false);
+    expect(await page.getByTestId('model-transform-visits_per_month-log1p').isChecked()).toBe(true);
+    await toggle('log1p').check();
+    expect(await toggle('cubeRoot').isChecked()).toBe(false);
+    await toggle('cubeRoot').check();
+    expect(await toggle('log1p').isChecked()).toBe(false);
+    expect(await toggle('cubeRoot').isChecked()).toBe(true);
+  });
+
   it('runs two monthly refits and shows the information-criterion chart', async () => {
     await runRefit(page, '2026-10-31');
     await page.getByTestId('model-criterion-chart').waitFor({ state: 'visible' });

@@ -82,8 +82,9 @@ describe('features worked by hand', () => {
     expect(a.visits_per_month).toBeCloseTo(5 / 12, 12);
     // Last visit 2026-11-02 → 28 days before 2026-11-30.
     expect(a.days_since_last_visit).toBe(28);
-    // Usual gap between A's visits: 30.4375 / (5 / 12) = 73.05 days, so 28 days away is 0.383 gaps.
-    expect(a.gaps_since_last_visit).toBeCloseTo((28 * 5) / 12 / 30.4375, 12);
+    // Usual gap between A's visits: 30.4375 / (5 / 12) = 73.05 days. From the last visit at 10:00
+    // to the end of the as-of day is 28 days and 14 hours, so 0.391 gaps.
+    expect(a.gaps_since_last_visit).toBeCloseTo(((28 + 14 / 24) * 5) / 12 / 30.4375, 12);
     // Tenure: 2025-06-10 … 2026-11-30 inclusive is 539 days; / (365.25 / 12).
     expect(a.tenure_months).toBeCloseTo(539 / 30.4375, 12);
     // Fresh departments by default include dairy: 20 + 15 + 40 = 75 of 85 bought; refunds 5 of 85.
@@ -103,8 +104,9 @@ describe('features worked by hand', () => {
     // B has no visit rows although the visits table has some: its purchases are its visits.
     expect(b.visits_per_month).toBeCloseTo(2, 12);
     expect(b.days_since_last_visit).toBe(10);
-    // Two visits in one observed month: a usual gap of 15.2 days, 10 days away is 0.657 of one.
-    expect(b.gaps_since_last_visit).toBeCloseTo((10 * 2) / 30.4375, 12);
+    // Two visits in one observed month: a usual gap of 15.2 days; from 09:30 on the last day to
+    // the end of the as-of day is 10 days and 14.5 hours, 0.697 of one.
+    expect(b.gaps_since_last_visit).toBeCloseTo(((10 + 14.5 / 24) * 2) / 30.4375, 12);
     expect(b.tenure_months).toBeCloseTo(30 / 30.4375, 12);
     // Bakery, dairy and fresh are all fresh departments by default.
     expect(b.fresh_share).toBe(1);
@@ -183,5 +185,31 @@ describe('a window shorter than the trend months, with history before it', () =>
     expect(d.spend_trend).toBe(1);
     expect(d.refund_share).toBe(0);
     expect(table.tooNew[0]).toBe(0);
+    // From 10:00 on 2026-11-10 to the end of 2026-11-30: 20 days and 14 hours, at 1 visit a month.
+    expect(d.gaps_since_last_visit).toBeCloseTo((20 + 14 / 24) / 30.4375, 12);
+  });
+
+  it('counts a last visit without a clock time, or at 00:00:00 (how a date-only column reads), as half a day gone', () => {
+    const gaps = () => {
+      const table = computeReceiptFeatures(shortDb, { asOf: '2026-11-30', windowMonths: 2, minPurchases: 2, minTenureMonths: 2, freshCategories: defaultFreshCategories });
+      return table.columns[table.names.indexOf('gaps_since_last_visit')][0];
+    };
+    const setTime = shortDb.prepare("UPDATE receipts SET time = ? WHERE receipt_id = 'D3'");
+    try {
+      for (const time of [null, '00:00:00']) {
+        setTime.run(time);
+        expect(gaps()).toBeCloseTo(20.5 / 30.4375, 12);
+      }
+      setTime.run('23:59:30');
+      expect(gaps()).toBeCloseTo((20 + 30 / 86400) / 30.4375, 12);
+      // Two purchases on the last day, at 09:00 and without a time: the later moment (midday) counts,
+      // at 3 visits in the 2 months.
+      setTime.run('09:00:00');
+      shortDb.prepare("INSERT INTO receipts (receipt_id, customer_id, day, time, amount_cents, store_id, category, import_id) VALUES ('D4', 'D', ?, NULL, 500, 'S1', 'pantry', 1)").run(dayFromIsoDate('2026-11-10'));
+      expect(gaps()).toBeCloseTo((20.5 * 1.5) / 30.4375, 12);
+    } finally {
+      shortDb.prepare("DELETE FROM receipts WHERE receipt_id = 'D4'").run();
+      setTime.run('10:00:00');
+    }
   });
 });

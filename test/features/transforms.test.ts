@@ -27,6 +27,24 @@ describe('transforms', () => {
     expect(describeTransform(fitted)).toBe('log1p, z-scored');
   });
 
+  it('cube root then z-score, worked by hand, and back to original units', () => {
+    // Cube roots of 0, 1, 8, 27, 64 are 0 … 4: mean 2, population sd √2; −8 has the cube root −2.
+    const fitted = fitTransform('gaps_since_last_visit', { log1p: false, cubeRoot: true, clipLowerPercentile: null, clipUpperPercentile: null, zScore: true }, [0, 1, 8, 27, 64]);
+    expect(fitted.fitted!.mean).toBeCloseTo(2, 14);
+    expect(fitted.fitted!.standardDeviation).toBeCloseTo(Math.SQRT2, 14);
+    expect(transformValue('gaps_since_last_visit', fitted, 27)).toBeCloseTo(1 / Math.SQRT2, 14);
+    expect(transformValue('gaps_since_last_visit', fitted, -8)).toBeCloseTo(-4 / Math.SQRT2, 14);
+    expect(untransformValue(fitted, transformValue('gaps_since_last_visit', fitted, 27))).toBeCloseTo(27, 12);
+    expect(describeTransform(fitted)).toBe('cube root, z-scored');
+  });
+
+  it('reads a transform stored before the cube root existed (no cubeRoot field) as it was fitted', () => {
+    const stored = JSON.parse(JSON.stringify(fitTransform('x', { log1p: true, clipLowerPercentile: null, clipUpperPercentile: null, zScore: true }, [1, 2, 5])));
+    delete stored.cubeRoot;
+    expect(transformValue('x', stored, 5)).toBe(transformValue('x', fitTransform('x', stored, [1, 2, 5]), 5));
+    expect(describeTransform(stored)).toBe('log1p, z-scored');
+  });
+
   it('clips at percentiles of the fitted data and reuses the bounds on new data', () => {
     const fitted = fitTransform('x', { log1p: false, clipLowerPercentile: 10, clipUpperPercentile: 75, zScore: false }, [1, 2, 3, 4, 100]);
     expect(fitted.fitted!.clipLower).toBeCloseTo(1.4, 12);
@@ -49,6 +67,7 @@ describe('transforms', () => {
       () => fitTransform('x', { log1p: false, clipLowerPercentile: null, clipUpperPercentile: null, zScore: true }, [2, 2, 2]),
       () => fitTransform('x', { log1p: false, clipLowerPercentile: 90, clipUpperPercentile: 10, zScore: false }, [1, 2]),
       () => fitTransform('x', { log1p: false, clipLowerPercentile: null, clipUpperPercentile: 101, zScore: false }, [1, 2]),
+      () => fitTransform('x', { log1p: true, cubeRoot: true, clipLowerPercentile: null, clipUpperPercentile: null, zScore: false }, [1, 2]),
     ];
     const messages = bad.map((run) => {
       try {
@@ -63,5 +82,6 @@ describe('transforms', () => {
     expect(messages[1]).toContain('same value for every customer');
     expect(messages[2]).toContain('below the upper');
     expect(messages[3]).toContain('between 0 and 100');
+    expect(messages[4]).toBe('Transform of "x": choose log1p or the cube root, not both.');
   });
 });

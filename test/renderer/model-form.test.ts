@@ -4,7 +4,7 @@ import { errorsFromIssues, formFromSettings, readNumber, toStartRunInput } from 
 
 /** What modelOptions sends: the schema's defaults. */
 const defaults: RunSettings = startRunInput.parse({ asOf: '2026-11-30' });
-const transform = (feature: string, log1p: boolean) => ({ feature, log1p, clipLowerPercentile: null, clipUpperPercentile: null, zScore: true });
+const transform = (feature: string, log1p: boolean) => ({ feature, log1p, cubeRoot: false, clipLowerPercentile: null, clipUpperPercentile: null, zScore: true });
 const options: ModelOptions = {
   features: [
     { name: 'spend_per_month', label: 'spend per month', unit: 'EUR per month', meaning: '', inDefaultSet: true, defaultTransform: transform('spend_per_month', true) },
@@ -53,14 +53,14 @@ describe('Model settings form', () => {
   });
 
   it('keeps a previous run\'s features, transforms and fixed k', () => {
-    const previous: RunSettings = { ...defaults, k: 3, covariance: 'diag', features: [{ feature: 'fresh_share', log1p: false, clipLowerPercentile: 1, clipUpperPercentile: 99, zScore: true }] };
+    const previous: RunSettings = { ...defaults, k: 3, covariance: 'diag', features: [{ feature: 'fresh_share', log1p: false, cubeRoot: true, clipLowerPercentile: 1, clipUpperPercentile: 99, zScore: true }] };
     const form = formFromSettings(options, previous, '2026-10-31');
     expect(form.kMode).toBe('fixed');
-    expect(form.features.find((f) => f.feature === 'fresh_share')).toMatchObject({ selected: true, clip: true, clipLower: '1', clipUpper: '99' });
+    expect(form.features.find((f) => f.feature === 'fresh_share')).toMatchObject({ selected: true, log1p: false, cubeRoot: true, clip: true, clipLower: '1', clipUpper: '99' });
     expect(form.features.find((f) => f.feature === 'spend_per_month')?.selected).toBe(false);
     const { input } = toStartRunInput(form);
     expect(input).toMatchObject({ k: 3, covariance: 'diag', asOf: '2026-10-31' });
-    expect(input.features).toEqual([{ feature: 'fresh_share', log1p: false, clipLowerPercentile: 1, clipUpperPercentile: 99, zScore: true }]);
+    expect(input.features).toEqual([{ feature: 'fresh_share', log1p: false, cubeRoot: true, clipLowerPercentile: 1, clipUpperPercentile: 99, zScore: true }]);
   });
 
   it('reads numbers in either decimal style and flags what is not a number', () => {

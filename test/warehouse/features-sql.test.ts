@@ -30,8 +30,9 @@ const engineNames: SqlDialectName[] = havePostgres || process.env.CI ? ['duckdb'
  * id over two departments (one purchase), a refund-only window, a join date after the as-of date,
  * visits only before the window, a customer absent from the customers file, rows without a
  * department, a receipt split into one-decimal amounts, a customer whose only window rows are
- * refunds and zero amounts, and a visit long before the first receipt, which counts for tenure
- * only when some visit falls in the window.
+ * refunds and zero amounts, a visit long before the first receipt, which counts for tenure
+ * only when some visit falls in the window, and a last visit with a date but no time (half a day
+ * gone, in the app and in the engines, where the date alone reads as midnight).
  */
 const cornerReceipts = [
   'receipt_id,customer_id,store_id,date,category,amount',
@@ -60,7 +61,7 @@ const cornerVisits = [
   'A,2026-07-15T11:00:00,S1,store',
   'A,2026-10-05T12:00:00,S1,store',
   'A,2026-10-20T12:00:00,S1,store',
-  'A,2026-11-02T10:00:00,S1,online',
+  'A,2026-11-02,S1,online',
   'E,2025-06-01T10:00:00,S3,store',
   'D,2026-12-05T10:00:00,S2,store',
   'G,2025-05-01T10:00:00,S1,store',
@@ -206,6 +207,12 @@ describe.each(engineNames)('features-sql in %s agrees with the app after import 
     expect(comparison.maxRelativeDifference).toBeLessThanOrEqual(1e-9);
     // The same double operations in the same order: every value is the app's to the last bit.
     expect(comparison.exactValues).toBe(comparison.values);
+    if (data === 'corner' && windowMonths === 12) {
+      // A's last visit, 2026-11-02 with no time, is half a day gone by its end: 28.5 days to the
+      // end of the as-of day, at 5 visits in 12 months.
+      const gapsOfA = imported.columns[imported.names.indexOf('gaps_since_last_visit')][imported.customerIds.indexOf('A')];
+      expect(gapsOfA).toBeCloseTo((28.5 * 5) / 12 / 30.4375, 12);
+    }
   });
 });
 

@@ -249,6 +249,7 @@ function fittedScoring(covariance: CovarianceType, d: number, seed: number): Sco
   const features = Array.from({ length: d }, (_, j) => `feature_${j}`);
   const specs: FeatureTransform[] = features.map((_, j) => ({
     log1p: j !== 2,
+    cubeRoot: j === 2,
     clipLowerPercentile: j === 0 ? 1 : null,
     clipUpperPercentile: j % 2 === 1 ? 97.5 : null,
     zScore: j !== 3,

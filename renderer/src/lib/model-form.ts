@@ -8,8 +8,9 @@ import type { ApiInput, CovarianceType, FeatureOption, FeatureTransformSpec, Ini
 export interface FeatureChoice {
   feature: string;
   selected: boolean;
-  /** Applied in this order by the core: log(1 + x), clipping at percentiles, z-score. */
+  /** Applied in this order by the core: log(1 + x) or the cube root, clipping at percentiles, z-score. */
   log1p: boolean;
+  cubeRoot: boolean;
   clip: boolean;
   clipLower: string;
   clipUpper: string;
@@ -73,6 +74,7 @@ export function formFromSettings(options: ModelOptions, settings: RunSettings, a
       feature: option.name,
       selected: settings.features ? chosen.has(option.name) : option.inDefaultSet,
       log1p: Boolean(spec.log1p),
+      cubeRoot: Boolean(spec.cubeRoot),
       clip: lower !== null || upper !== null,
       clipLower: lower === null ? '1' : String(lower),
       clipUpper: upper === null ? '99' : String(upper),
@@ -149,7 +151,7 @@ export function toStartRunInput(form: ModelForm): { input: ApiInput<'startRun'>;
           errors[`features.${choice.feature}`] = 'enter the clipping percentiles as numbers';
         }
       }
-      return { feature: choice.feature, log1p: choice.log1p, clipLowerPercentile, clipUpperPercentile, zScore: choice.zScore };
+      return { feature: choice.feature, log1p: choice.log1p, cubeRoot: choice.cubeRoot, clipLowerPercentile, clipUpperPercentile, zScore: choice.zScore };
     });
   if (features.length === 0) errors.features = 'choose at least one feature';
   const freshCategories = form.freshCategories

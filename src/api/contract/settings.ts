@@ -34,12 +34,14 @@ export type FeatureSource = (typeof featureSources)[number];
 export const MAX_COMPONENTS = 20;
 
 /**
- * How one model feature is transformed before the fit: log1p, then clipping, then z-score. Stored
+ * How one model feature is transformed before the fit: log1p or cube root, then clipping, then z-score. Stored
  * with the run (with the fitted means and spreads) so next month's data is scored the same way.
  */
 export interface FeatureTransformSpec {
   feature: string;
   log1p: boolean;
+  /** Cube root instead of log1p (never both). */
+  cubeRoot: boolean;
   /** Clip below/above these percentiles (0–100); null = no clipping on that side. */
   clipLowerPercentile: number | null;
   clipUpperPercentile: number | null;
@@ -62,20 +64,28 @@ export const defaultModelFeatures: readonly string[] = ['visits_per_month', 'ave
 export const defaultMixFeature = 'fresh_share';
 
 /** Features that are counts, money or days: skewed to the right, so log1p before the z-score by default (common practice). */
-export const logScaleFeatures: readonly string[] = ['spend_per_month', 'visits_per_month', 'average_basket', 'days_since_last_visit', 'gaps_since_last_visit'];
+export const logScaleFeatures: readonly string[] = ['spend_per_month', 'visits_per_month', 'average_basket', 'days_since_last_visit'];
+
+/**
+ * Features that are waiting times in a customer's own rhythm: for a steady shopper the time since
+ * the last visit in usual gaps is spread like an exponential, which a log turns into a long left
+ * tail and the cube root into nearly a normal (Wilson & Hilferty 1931); measured in the README.
+ */
+export const cubeRootFeatures: readonly string[] = ['gaps_since_last_visit'];
 
 /** Departments whose spend counts as fresh (the fresh-share feature; common practice in grocery reporting). */
 export const defaultFreshCategories: readonly string[] = ['fresh', 'produce', 'fruit', 'vegetables', 'meat', 'fish', 'bakery', 'dairy', 'deli'];
 
 /**
  * The transform a feature gets when none is chosen: log1p then z-score for the skewed money, rate
- * and day features computed from receipts (common practice), z-score alone otherwise (shares,
- * trends, imported features).
+ * and day features computed from receipts (common practice), the cube root then z-score for the
+ * gaps since the last visit, z-score alone otherwise (shares, trends, imported features).
  */
 export function defaultTransform(feature: string, source: FeatureSource): FeatureTransformSpec {
   return {
     feature,
     log1p: source === 'receipts' && logScaleFeatures.includes(feature),
+    cubeRoot: source === 'receipts' && cubeRootFeatures.includes(feature),
     clipLowerPercentile: null,
     clipUpperPercentile: null,
     zScore: true,
@@ -89,10 +99,12 @@ export const transformSpecInput = z
   .strictObject({
     feature: named(nonEmpty, 'feature name', '--features'),
     log1p: named(z.boolean().optional(), "log(1 + x) before the fit (absent: the feature's default)", '--transform'),
+    cubeRoot: named(z.boolean().optional(), "cube root before the fit, instead of log1p (absent: the feature's default)", '--transform'),
     clipLowerPercentile: named(percentile.nullable().optional(), 'percentile to clip below (null: none)', '--transform'),
     clipUpperPercentile: named(percentile.nullable().optional(), 'percentile to clip above (null: none)', '--transform'),
     zScore: named(z.boolean().optional(), 'z-score after the other steps (absent: yes)', '--transform'),
   })
+  .refine((spec) => !(spec.log1p && spec.cubeRoot), { message: 'choose log1p or the cube root, not both', path: ['cubeRoot'] })
   .refine((spec) => spec.clipLowerPercentile == null || spec.clipUpperPercentile == null || spec.clipLowerPercentile < spec.clipUpperPercentile, {
     message: 'must be below the upper clipping percentile',
     path: ['clipLowerPercentile'],
@@ -269,7 +281,9 @@ export function explicitRunSettings(settings: RunSettings, data: FeatureData): E
     const fallback = defaultTransform(spec.feature, source);
     return {
       feature: spec.feature,
-      log1p: spec.log1p ?? fallback.log1p,
+      // One shaping step: choosing one of log1p and cube root turns the other off.
+      log1p: spec.log1p ?? (spec.cubeRoot ? false : fallback.log1p),
+      cubeRoot: spec.cubeRoot ?? (spec.log1p ? false : fallback.cubeRoot),
       clipLowerPercentile: spec.clipLowerPercentile ?? fallback.clipLowerPercentile,
       clipUpperPercentile: spec.clipUpperPercentile ?? fallback.clipUpperPercentile,
       zScore: spec.zScore ?? fallback.zScore,

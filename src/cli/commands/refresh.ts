@@ -63,7 +63,7 @@ function readSettingsFile(path: string): Record<string, unknown> {
   return value as Record<string, unknown>;
 }
 
-const transformSteps = 'log1p, clip=LOW:HIGH (percentiles; leave a side empty for none), z, or none';
+const transformSteps = 'log1p or cbrt (cube root), clip=LOW:HIGH (percentiles; leave a side empty for none), z, or none';
 
 /**
  * `--features a,b` with `--transform feature=steps` for any of them: the features of the run, each
@@ -84,10 +84,11 @@ function featuresFromFlags(names: string | undefined, transforms: readonly strin
     const feature = at > 0 ? text.slice(0, at).trim() : '';
     const target = features.find((spec) => spec.feature === feature);
     if (!target) throw new InputError(`--transform expects FEATURE=STEPS for a feature --features lists (${features.map((spec) => spec.feature).join(', ')}); got "${text}".`);
-    Object.assign(target, { log1p: false, zScore: false, clipLowerPercentile: null, clipUpperPercentile: null });
+    Object.assign(target, { log1p: false, cubeRoot: false, zScore: false, clipLowerPercentile: null, clipUpperPercentile: null });
     for (const step of text.slice(at + 1).split(',').map((part) => part.trim())) {
       const clip = /^clip=([^:]*):([^:]*)$/.exec(step);
       if (step === 'log1p') target.log1p = true;
+      else if (step === 'cbrt') target.cubeRoot = true;
       else if (step === 'z') target.zScore = true;
       else if (clip) {
         target.clipLowerPercentile = (clip[1].trim() === '' ? null : numberOrText(clip[1])) as number | null;
@@ -134,7 +135,7 @@ export const registerRefresh: RegisterCommand = (program, io, setExitCode) => {
       '--features <a,b>',
       'model features, comma-separated (default from receipts: visits_per_month, average_basket, gaps_since_last_visit, and fresh_share where receipts carry departments; every imported feature otherwise)',
     )
-    .option('--transform <feature=steps>', `a listed feature's transform, steps from ${transformSteps} (repeatable; default log1p,z for the money, rate and day features, z otherwise)`, collect, [])
+    .option('--transform <feature=steps>', `a listed feature's transform, steps from ${transformSteps} (repeatable; default log1p,z for the money, rate and day features, cbrt,z for gaps_since_last_visit, z otherwise)`, collect, [])
     .option('--segmentation <groups>', 'segments as groups of component indices, groups separated by ";" (e.g. "0,2;1;3"; none: combined by --segment-count)')
     .option(
       '--json',

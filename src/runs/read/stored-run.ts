@@ -85,7 +85,7 @@ const runColumns = `run_id, parent_run_id, created_at, as_of, window_months, mod
 /** The specification part of a fitted transform, as the contract names it. */
 export function transformSpecOf(feature: string, transform: FeatureTransform): FeatureTransformSpec {
   const { log1p, clipLowerPercentile, clipUpperPercentile, zScore } = transform;
-  return { feature, log1p, clipLowerPercentile, clipUpperPercentile, zScore };
+  return { feature, log1p, cubeRoot: Boolean(transform.cubeRoot), clipLowerPercentile, clipUpperPercentile, zScore };
 }
 
 /**

@@ -30,6 +30,7 @@ const featureLabels: Record<string, string> = {
   visitsPerMonth: 'visits per month',
   averageBasket: 'average basket',
   daysSinceLastVisit: 'days since last visit',
+  gapsSinceLastVisit: 'gaps since last visit',
   tenureMonths: 'tenure',
   freshShare: 'fresh share',
 };
@@ -38,9 +39,13 @@ const featureUnits: Record<string, string> = {
   visitsPerMonth: 'visits',
   averageBasket: 'EUR',
   daysSinceLastVisit: 'days',
+  gapsSinceLastVisit: 'usual gaps',
   tenureMonths: 'months',
   freshShare: 'share',
 };
+
+/** The shaping step of a feature's transform, as the core's defaults choose it. */
+const shapeOf = (feature: string) => ({ log1p: !['freshShare', 'gapsSinceLastVisit'].includes(feature), cubeRoot: feature === 'gapsSinceLastVisit' });
 
 const segmentShapes = [
   { name: 'Very high spend · very frequent · very large baskets · recent', weight: 0.08, mean: [1.9, 1.3, 1.2], sd: [0.45, 0.5, 0.5], rho: 0.4, spend: 620, visits: 11, basket: 56, percentiles: [0.93, 0.95, 0.2] },
@@ -275,7 +280,7 @@ const runSettings: ApiOutput<'runSummary'>['settings'] = {
   asOf: '2026-11-30', windowMonths: 12, mode: 'refit', parentRunId: null, source: 'receipts', k: 'auto', kMin: 2, kMax: 8, covariance: 'auto', criterion: 'bic', fitSample: null,
   restarts: 5, seed: 0, tol: 1e-3, maxIterations: 200, regularization: 1e-6, init: 'kmeans', borderlineConfidence: 0.7, borderlineMargin: 0.2,
   atypicalPercentile: 1, reviewMoversBelowConfidence: null, reviewCapacity: capacity, segmentCount: 'auto', minPurchases: 2, minTenureMonths: 2, freshCategories: ['fresh', 'bakery'],
-  features: featureNames.map((feature) => ({ feature, log1p: true, clipLowerPercentile: null, clipUpperPercentile: null, zScore: true })),
+  features: featureNames.map((feature) => ({ feature, ...shapeOf(feature), clipLowerPercentile: null, clipUpperPercentile: null, zScore: true })),
 };
 
 function summary(runId: number): ApiOutput<'runSummary'> {
@@ -288,7 +293,7 @@ function summary(runId: number): ApiOutput<'runSummary'> {
     review: queueCounts(),
     warnings: ['The features are nearly collinear: spend per month is explained by the others with R² = 0.97; drop spend per month.'],
     asOf: runId > 1 ? '2026-11-30' : '2026-10-31', windowMonths: 12, mode: 'refit', createdAt: '2026-12-01T09:12:00Z', settings: runSettings,
-    features: featureNames.map((feature) => ({ feature, log1p: true, clipLowerPercentile: null, clipUpperPercentile: null, zScore: true })),
+    features: featureNames.map((feature) => ({ feature, ...shapeOf(feature), clipLowerPercentile: null, clipUpperPercentile: null, zScore: true })),
     storedFeatures: Object.keys(featureLabels), logLikelihood: -150_600.3, icl: 309_870.5, criterion: 'bic', retiredSegments: [],
     fittedOn: totalCustomers,
     componentsSearched: { from: 2, to: 8 },
@@ -363,7 +368,7 @@ const api: Api = {
   modelOptions: async () => ({
     features: Object.keys(featureLabels).map((name) => ({
       name, label: featureLabels[name], unit: featureUnits[name], meaning: featureLabels[name], inDefaultSet: featureNames.includes(name),
-      defaultTransform: { feature: name, log1p: name !== 'freshShare', clipLowerPercentile: null, clipUpperPercentile: null, zScore: true },
+      defaultTransform: { feature: name, ...shapeOf(name), clipLowerPercentile: null, clipUpperPercentile: null, zScore: true },
     })),
     covarianceTypes: ['full', 'diag', 'spherical', 'tied'],
     defaults: runSettings,

@@ -1,7 +1,7 @@
 /*
  * The Model screen's settings form: one field per run setting of the contract. Test ids:
  * model-as-of, model-window, model-mode, model-min-purchases, model-min-tenure,
- * model-fresh-categories, model-feature-<feature>, model-transform-<feature>-<log1p|clip|zScore>,
+ * model-fresh-categories, model-feature-<feature>, model-transform-<feature>-<log1p|cubeRoot|clip|zScore>,
  * model-clip-lower-<feature>, model-clip-upper-<feature>, model-k-mode, model-k, model-k-min,
  * model-k-max, model-criterion, model-covariance, model-segment-mode, model-segment-count,
  * model-restarts, model-seed, model-init, model-tol, model-max-iter, model-reg, model-fit-sample,
@@ -13,13 +13,21 @@ import { useWorkspace } from '../../app/workspace.js';
 import { structureLabels } from '../../charts/model-charts.js';
 import type { FormErrors, ModelForm } from '../../lib/model-form.js';
 
-type TransformToggle = 'log1p' | 'clip' | 'zScore';
-/** In the order the core applies them. */
+type TransformToggle = 'log1p' | 'cubeRoot' | 'clip' | 'zScore';
+/** In the order the core applies them; log(1 + x) and the cube root are one step, so at most one is on. */
 const transformToggles: { key: TransformToggle; label: string }[] = [
   { key: 'log1p', label: 'log(1 + x)' },
+  { key: 'cubeRoot', label: 'cube root' },
   { key: 'clip', label: 'clip tails' },
   { key: 'zScore', label: 'standardise' },
 ];
+
+/** A toggle's change; turning on one shaping step (log or cube root) turns the other off. */
+function transformChange(key: TransformToggle, on: boolean): Partial<Record<TransformToggle, boolean>> {
+  if (on && key === 'log1p') return { log1p: true, cubeRoot: false };
+  if (on && key === 'cubeRoot') return { cubeRoot: true, log1p: false };
+  return { [key]: on };
+}
 
 /** Every start method the contract offers, in words (the type makes the list complete). */
 const initLabels: Record<InitMethod, string> = {
@@ -109,7 +117,7 @@ export function SettingsForm({ options, form, errors, running, onChange, onSubmi
                       type="checkbox"
                       disabled={!choice.selected}
                       checked={choice[toggle.key]}
-                      onChange={(e) => setFeature(choice.feature, { [toggle.key]: e.target.checked })}
+                      onChange={(e) => setFeature(choice.feature, transformChange(toggle.key, e.target.checked))}
                       data-testid={`model-transform-${choice.feature}-${toggle.key}`}
                     />
                     {toggle.label}
