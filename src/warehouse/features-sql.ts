@@ -213,6 +213,7 @@ export function featuresSql(options: FeaturesSqlOptions): FeaturesSql {
     `-- Spendmix customer features, ${dialect.name} dialect: the ${window.windowMonths} months ${isoDateFromDay(window.startDay)} to ${options.asOf}.`,
     `-- Reads ${tables.receipts} (customer_id, date, amount, receipt_id, store_id, category), ${tables.visits} (customer_id, date)`,
     `-- and ${tables.customers} (customer_id, joined); each row once (the app drops repeated rows when it imports files).`,
+    `-- A date-time's clock time counts for gaps_since_last_visit; a date alone (or 00:00:00) counts as midday.`,
     `-- One row per customer with a receipt row in the window: ${columns.join(', ')}.`,
   ];
   const sql = `${header.join('\n')}
