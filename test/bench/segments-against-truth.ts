@@ -36,7 +36,18 @@ import { parseArgs } from 'node:util';
 import { runMonth } from '../support/core-calls.js';
 import { spendmixJson, type ImportJson } from '../support/cli-runner.js';
 import { CHAIN_SIZE, generateSecondChain, type TierSpacing } from '../support/second-chain/generate.js';
-import { describeEvaluation, evaluateAgainstTruth, placedLabels, readTruthFile, type Truth, type TruthEvaluation } from '../support/truth-evaluation.js';
+import {
+  describeDrift,
+  describeEvaluation,
+  evaluateAgainstTruth,
+  evaluateDrift,
+  placedLabels,
+  readStoppedOn,
+  readTruthFile,
+  type DriftEvaluation,
+  type Truth,
+  type TruthEvaluation,
+} from '../support/truth-evaluation.js';
 
 const { values } = parseArgs({
   options: {
@@ -205,6 +216,11 @@ async function main(): Promise<void> {
     const evaluation = await evaluateAgainstTruth(dbPath, summary.runId, truth);
     log(`\ndefault refresh --as-of ${asOf} (${refreshSeconds} s; import ${importSeconds} s)`);
     log(describeEvaluation(evaluation));
+    // The second chain's customers who drifted away keep their tier in the truth; where they end up is shown apart.
+    const stoppedOn = readStoppedOn(join(dataDir, 'truth.csv'));
+    const driftOf = (runId: number): DriftEvaluation | null => (stoppedOn.size === 0 ? null : evaluateDrift(dbPath, runId, truth, stoppedOn, asOf));
+    const drift = driftOf(summary.runId);
+    if (drift) log(`\n${describeDrift(drift)}`);
 
     let sklearn: number | null = null;
     if (values.sklearn) {
@@ -235,17 +251,18 @@ async function main(): Promise<void> {
       }
     }
 
-    const bySeed: { seed: number; evaluation: TruthEvaluation }[] = [{ seed: 0, evaluation }];
+    const bySeed: { seed: number; evaluation: TruthEvaluation; drift: DriftEvaluation | null }[] = [{ seed: 0, evaluation, drift }];
     for (const seed of fitSeeds(values['fit-seeds'])) {
       const other = await spendmixJson<{ runId: number }>('refresh', '--db', dbPath, '--as-of', asOf, '--seed', String(seed));
-      bySeed.push({ seed, evaluation: await evaluateAgainstTruth(dbPath, other.runId, truth) });
+      bySeed.push({ seed, evaluation: await evaluateAgainstTruth(dbPath, other.runId, truth), drift: driftOf(other.runId) });
     }
     if (bySeed.length > 1) {
       log('\nthe same month with other EM seeds (the default is 0):');
-      for (const { seed, evaluation: result } of bySeed) {
+      for (const { seed, evaluation: result, drift: seedDrift } of bySeed) {
         log(
           `  seed ${seed}: k = ${result.k}, ${result.segments} segments, ARI ${result.ari.toFixed(4)}, ` +
-            `borderline ${(100 * result.borderlineShare).toFixed(1)} %, queue ${result.queue}`,
+            `borderline ${(100 * result.borderlineShare).toFixed(1)} %, queue ${result.queue}` +
+            (seedDrift ? `; ${seedDrift.segmentsMostlyStopped} mostly stopped coming, ARI of those who kept coming ${seedDrift.ariKeptComing.toFixed(4)}` : ''),
         );
       }
       const aris = bySeed.map(({ evaluation: result }) => result.ari);
@@ -254,7 +271,7 @@ async function main(): Promise<void> {
 
     if (values.json) {
       process.stdout.write(
-        `${JSON.stringify({ chain, dataDir, asOf, generationSeconds, importSeconds, refreshSeconds, imports, evaluation, sklearnAri: sklearn, levels, bestGrouping: bestGroupingLines, twoFeatures, bySeed })}\n`,
+        `${JSON.stringify({ chain, dataDir, asOf, generationSeconds, importSeconds, refreshSeconds, imports, evaluation, drift, sklearnAri: sklearn, levels, bestGrouping: bestGroupingLines, twoFeatures, bySeed })}\n`,
       );
     }
     if (values.keep) log(`\nkept ${work}`);

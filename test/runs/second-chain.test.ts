@@ -89,13 +89,41 @@ describe('the second test chain generator', () => {
     expect(chain.groups.new).toBeGreaterThan(0);
   });
 
+  it('truth.csv stopped_on: only ordinary customers drifted away, none shops after that day, and the occasional tier drifts most', () => {
+    const lastActivity = new Map<string, string>();
+    for (const [, customerId, , date] of rowsOf('receipts.csv')) if ((lastActivity.get(customerId) ?? '') < date) lastActivity.set(customerId, date);
+    for (const [customerId, date] of rowsOf('visits.csv')) if ((lastActivity.get(customerId) ?? '') < date) lastActivity.set(customerId, date);
+    const drifted: Record<string, number> = {};
+    const byTier: Record<string, number> = {};
+    for (const [customerId, tier, group, stoppedOn = ''] of rowsOf('truth.csv')) {
+      byTier[tier] = (byTier[tier] ?? 0) + 1;
+      if (stoppedOn === '') continue;
+      expect(group, customerId).toBe('steady');
+      expect(stoppedOn >= '2026-02-01' && stoppedOn <= chain.lastDate, stoppedOn).toBe(true);
+      const last = lastActivity.get(customerId);
+      if (last !== undefined) expect(last <= stoppedOn, `${customerId} shops on ${last} after stopping on ${stoppedOn}`).toBe(true);
+      drifted[tier] = (drifted[tier] ?? 0) + 1;
+    }
+    // chain.ts: 22 % of the occasional tier drifts away, 3–6 % of the others.
+    const share = (tier: string) => (drifted[tier] ?? 0) / byTier[tier];
+    expect(share('occasional')).toBeGreaterThan(0.12);
+    for (const tier of ['top-up', 'weekly', 'household']) expect(share(tier), tier).toBeLessThan(share('occasional'));
+  });
+
   it('with separated tiers: the same customers, tier for tier, with bigger weekly and household baskets and a smaller occasional one', () => {
     const write = (tiers: 'overlapping' | 'separated') => generateSecondChain({ outDir: join(folder, `spacing-${tiers}`), customers: 400, tiers });
     const [first, separated] = [write('overlapping'), write('separated')];
     expect(first.tierSpacing).toBe('overlapping');
     expect(separated.tierSpacing).toBe('separated');
-    // Only the tiers' parameters differ: the draws of tier, joining and consent are the same.
-    expect(readFileSync(join(separated.dir, 'truth.csv'), 'utf8')).toBe(readFileSync(join(first.dir, 'truth.csv'), 'utf8'));
+    // Only the tiers' parameters differ: the draws of tier, joining, consent and drifting away are
+    // the same (the day a drifted customer stops is drawn after the tier's gamma, so it may differ).
+    const truthOf = (dir: string) =>
+      readFileSync(join(dir, 'truth.csv'), 'utf8')
+        .trim()
+        .split('\n')
+        .map((line) => line.split(','))
+        .map(([customerId, tier, group, stoppedOn]) => [customerId, tier, group, stoppedOn === '' ? '' : 'stopped']);
+    expect(truthOf(separated.dir)).toEqual(truthOf(first.dir));
     expect(readFileSync(join(separated.dir, 'customers.csv'), 'utf8')).toBe(readFileSync(join(first.dir, 'customers.csv'), 'utf8'));
     const medianBasket = (dir: string, tier: string) => {
       const tierOf = new Map(readFileSync(join(dir, 'truth.csv'), 'utf8').trim().split('\n').slice(1).map((line) => line.split(',') as [string, string]));

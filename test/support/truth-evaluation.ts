@@ -190,3 +190,89 @@ export function describeEvaluation(evaluation: TruthEvaluation): string {
     ),
   ].join('\n');
 }
+
+/**
+ * truth.csv's `stopped_on` column where a generator writes one (the second chain): customer id →
+ * the last day a customer who drifted away shopped. Customers who kept coming have it empty and
+ * are left out; a file without the column gives an empty map.
+ */
+export function readStoppedOn(path: string): Map<string, string> {
+  const lines = readFileSync(path, 'utf8').split(/\r?\n/).filter((line) => line.length > 0);
+  const column = (lines[0] ?? '').split(',').indexOf('stopped_on');
+  const stoppedOn = new Map<string, string>();
+  if (column < 0) return stoppedOn;
+  for (let line = 1; line < lines.length; line++) {
+    const fields = lines[line].split(',');
+    const date = fields[column] ?? '';
+    if (date === '') continue;
+    if (!/^\d{4}-\d{2}-\d{2}$/.test(date)) throw new Error(`${path}, line ${line + 1}: stopped_on must be YYYY-MM-DD or empty; got "${date}"`);
+    stoppedOn.set(fields[0], date);
+  }
+  return stoppedOn;
+}
+
+/** Where the customers who stopped coming ended up in a run, and the ARI without them. */
+export interface DriftEvaluation {
+  /** Per segment, highest spend first: its customers, those of them who stopped coming, and the median days from stopping to the as-of date. */
+  bySegment: { name: string; customers: number; stopped: number; medianDaysSinceStopping: number | null }[];
+  /** Placed customers who stopped coming. */
+  stopped: number;
+  /** ARI against the truth over the placed customers who kept coming (the others left out), and how many they are. */
+  keptComing: number;
+  ariKeptComing: number;
+  /** Segments more than half of whose customers stopped coming. */
+  segmentsMostlyStopped: number;
+}
+
+/** The run's segments against the customers who stopped coming (`readStoppedOn`), days counted to `asOf`. */
+export function evaluateDrift(dbPath: string, runId: number, truth: Truth, stoppedOn: ReadonlyMap<string, string>, asOf: string): DriftEvaluation {
+  const labels = placedLabels(dbPath, runId, truth);
+  const segments = storedSegments(dbPath, runId);
+  const asOfDay = Date.parse(`${asOf}T00:00:00Z`) / 86_400_000;
+  const daysSince = new Map(segments.map((segment) => [segment.index, [] as number[]]));
+  const keptTruth: string[] = [];
+  const keptSegments: number[] = [];
+  labels.customerIds.forEach((customerId, i) => {
+    const stopped = stoppedOn.get(customerId);
+    if (stopped === undefined) {
+      keptTruth.push(labels.truthLabels[i]);
+      keptSegments.push(labels.segments[i]);
+    } else {
+      daysSince.get(labels.segments[i])!.push(asOfDay - Date.parse(`${stopped}T00:00:00Z`) / 86_400_000);
+    }
+  });
+  const median = (values: number[]) => {
+    if (values.length === 0) return null;
+    const sorted = [...values].sort((a, b) => a - b);
+    const middle = sorted.length >> 1;
+    return sorted.length % 2 === 1 ? sorted[middle] : (sorted[middle - 1] + sorted[middle]) / 2;
+  };
+  const bySegment = segments.map((segment) => {
+    const days = daysSince.get(segment.index)!;
+    return { name: segment.name, customers: segment.customers, stopped: days.length, medianDaysSinceStopping: median(days) };
+  });
+  const truthNames = [...new Set(keptTruth)].sort();
+  const truthCode = new Map(truthNames.map((name, code) => [name, code]));
+  return {
+    bySegment,
+    stopped: labels.customerIds.length - keptTruth.length,
+    keptComing: keptTruth.length,
+    ariKeptComing: adjustedRandIndex(Int32Array.from(keptTruth, (label) => truthCode.get(label)!), Int32Array.from(keptSegments)),
+    segmentsMostlyStopped: bySegment.filter((segment) => 2 * segment.stopped > segment.customers).length,
+  };
+}
+
+/** The drift evaluation as plain text. */
+export function describeDrift(drift: DriftEvaluation): string {
+  const nameWidth = Math.max(...drift.bySegment.map((segment) => segment.name.length), 'segment'.length);
+  return [
+    `customers who stopped coming (truth.csv stopped_on): ${drift.stopped} placed; by segment (median days since they stopped):`,
+    ...drift.bySegment.map(
+      (segment) =>
+        `  ${segment.name.padEnd(nameWidth)}  ${String(segment.stopped).padStart(5)} of ${String(segment.customers).padStart(5)}` +
+        (segment.medianDaysSinceStopping === null ? '' : `  (${segment.medianDaysSinceStopping} days)`),
+    ),
+    `segments made mostly of customers who stopped coming: ${drift.segmentsMostlyStopped}; the others: ${drift.bySegment.length - drift.segmentsMostlyStopped}`,
+    `ARI against the truth on the ${drift.keptComing} placed customers who kept coming: ${drift.ariKeptComing.toFixed(4)}`,
+  ].join('\n');
+}

@@ -2,7 +2,8 @@
  * Writes the second test chain (Marrowdine Provisions, invented) as the files an analyst would
  * import — receipts.csv (one row per receipt, no departments, date and time in separate columns,
  * an item count), visits.csv (store visits, no channel), customers.csv — plus truth.csv (each
- * customer's generated tier, for tests only), stores.csv and manifest.json. Same seed and size,
+ * customer's generated tier and group, and the day a customer who drifted away last shopped; for
+ * tests only), stores.csv and manifest.json. Same seed and size,
  * same bytes. Rows are written customer by customer, each customer's in time order.
  */
 import { closeSync, mkdirSync, openSync, renameSync, rmSync, writeSync } from 'node:fs';
@@ -136,6 +137,8 @@ interface Customer {
   usualBasketEur: number;
   /** Last day the customer shops (the last day of the history unless they drifted away). */
   lastShoppingDay: number;
+  /** Whether the customer drifted away (truth.csv `stopped_on` then holds `lastShoppingDay`). */
+  drifted: boolean;
 }
 
 /** One row's worth of a customer's activity: a purchase, a refund, or a visit without a receipt. */
@@ -197,6 +200,7 @@ function drawCustomer(index: number, draws: Draws, atypicalKind: number | undefi
     tripsPerMonth: draws.gamma(behaviour.visitsShape, behaviour.visitsMean),
     usualBasketEur: draws.logNormal(behaviour.basketMedian, behaviour.basketLogSd),
     lastShoppingDay: drifts ? LAST_DAY_NUMBER - draws.wholeBetween(0, POPULATION.driftDays - 1) : LAST_DAY_NUMBER,
+    drifted: drifts,
   };
 }
 
@@ -318,7 +322,7 @@ function writeChain(writers: Record<keyof typeof FILES, FileWriter>, customers: 
   writers.receipts.write('receipt_id,customer_id,store_id,date,time,amount,items\n');
   writers.visits.write('customer_id,date,time,store_id\n');
   writers.customers.write('customer_id,joined,marketing_consent,home_store\n');
-  writers.truth.write('customer_id,tier,group\n');
+  writers.truth.write('customer_id,tier,group,stopped_on\n');
   writers.stores.write(`store_id,name\n${STORES.map((store) => `${store.id},${store.name}\n`).join('')}`);
 
   for (let index = 0; index < customers; index++) {
@@ -328,7 +332,7 @@ function writeChain(writers: Record<keyof typeof FILES, FileWriter>, customers: 
     groups[customer.group]++;
     consent[customer.consent === '' ? 'unknown' : customer.consent]++;
     writers.customers.write(`${customer.id},${isoDay(customer.joinedDay)},${customer.consent},${STORES[customer.homeStore].id}\n`);
-    writers.truth.write(`${customer.id},${customer.tier},${customer.group}\n`);
+    writers.truth.write(`${customer.id},${customer.tier},${customer.group},${customer.drifted ? isoDay(customer.lastShoppingDay) : ''}\n`);
 
     for (const event of drawActivity(customer, draws)) {
       const [date, time] = dateAndTime(event.minute);
