@@ -4,12 +4,14 @@
  *
  * Default names describe a segment's measured traits relative to ALL placed customers of the run,
  * in plain words: how much it spends (spend per month), how often (visit rate), how much per trip
- * (basket size), how recently (days since the last visit), e.g. "High spend · frequent · large
- * baskets · recent". Spend leads because the lists are spend tiers: a campaign team sorts and
- * reads them by it. A trait's position is the share of placed customers whose value lies below the
- * segment's median, cut into five bands. Names are unique within a run: segments whose words
- * coincide get the next most distinctive trait added (the one whose median lies furthest from the
- * middle of all customers), then their spend rank.
+ * (basket size), e.g. "High spend · frequent · large baskets". A trait's position is the share of
+ * placed customers whose value lies below the segment's median, cut into five bands. How recently
+ * is said against the customers' own rhythm (gaps since the last visit, see RHYTHM_BANDS), and only
+ * where it sets the segment apart: "just been in", "overdue", "long absent". Days since the last
+ * visit would mostly repeat the visit rate (a rare shopper's last visit is always weeks ago).
+ * Spend leads because the lists are spend tiers: a campaign team sorts and reads them by it.
+ * Names are unique within a run: segments whose words coincide get the next most distinctive trait
+ * added (the one whose median lies furthest from the middle of all customers), then their spend rank.
  * Nothing here names a customer type from any known scheme; the words only restate measurements.
  */
 import type { SegmentTrait } from '../api/contract.js';
@@ -57,20 +59,58 @@ export function keyNumber(key: string): number {
 const bandWords: Record<string, readonly [string, string, string, string, string]> = {
   visits_per_month: ['rare', 'infrequent', 'regular', 'frequent', 'very frequent'],
   average_basket: ['very small baskets', 'small baskets', 'mid-size baskets', 'large baskets', 'very large baskets'],
-  days_since_last_visit: ['very recent', 'recent', 'fairly recent', 'not recent', 'long absent'],
-  gaps_since_last_visit: [
-    'well within their usual gap',
-    'within their usual gap',
-    'about their usual gap',
-    'past their usual gap',
-    'long past their usual gap',
-  ],
+  days_since_last_visit: ['very recent', 'recent', 'fairly recent', 'not recent', 'long ago'],
   fresh_share: ['very little fresh', 'little fresh', 'average fresh share', 'fresh-heavy', 'very fresh-heavy'],
   spend_per_month: ['very low spend', 'low spend', 'mid spend', 'high spend', 'very high spend'],
 };
 
 /** The features whose words make the name, in the order they are said: how much, how often, how much per trip, how recently. */
-export const NAME_TRAITS: readonly string[] = ['spend_per_month', 'visits_per_month', 'average_basket', 'days_since_last_visit'];
+export const NAME_TRAITS: readonly string[] = ['spend_per_month', 'visits_per_month', 'average_basket', 'gaps_since_last_visit'];
+
+/** The feature that says how recently against the customer's own rhythm (in usual gaps between visits). */
+const RHYTHM_FEATURE = 'gaps_since_last_visit';
+
+/**
+ * Words for a segment's median gaps since the last visit, by the median itself rather than its rank:
+ * the unit is already each customer's own usual gap, and a rank would call a group "overdue" merely
+ * because others had lapsed less. A steady shopper's gaps are spread like an exponential of mean 1
+ * (visits as a Poisson process, common practice; median ln 2 ≈ 0.69): a group whose median is
+ * past 2 (one steady shopper in e² ≈ 7 gets that far) has mostly left its rhythm, past 4 (one in
+ * e⁴ ≈ 55) it has mostly stopped coming; below 0.25 it was picked out by having just come in.
+ */
+export const RHYTHM_BANDS: readonly { below: number; words: string }[] = [
+  { below: 0.25, words: 'just been in' },
+  { below: 2, words: 'on their usual rhythm' },
+  { below: 4, words: 'overdue' },
+  { below: Infinity, words: 'long absent' },
+];
+
+/** Keeping to one's rhythm sets no segment apart, so a name leaves it out. */
+const UNSAID_IN_NAMES: ReadonlySet<string> = new Set(['on their usual rhythm']);
+
+/**
+ * A rhythm word is kept (the segment it continues had it) while the median stays within this
+ * factor of its band's edges, as WORD_STICKINESS does for the banded traits.
+ */
+export const RHYTHM_STICKINESS = 1.25;
+
+/** The words for a median of gaps since the last visit (RHYTHM_BANDS). */
+export function rhythmWords(medianGaps: number): string {
+  return RHYTHM_BANDS.find((band) => medianGaps < band.below)!.words;
+}
+
+/** A trait's words: by its median for how recently against the rhythm, by its percentile for every other trait. */
+function wordsFor(feature: string, median: number, percentile: number): string {
+  return feature === RHYTHM_FEATURE ? rhythmWords(median) : traitWords(feature, percentile);
+}
+
+/** Whether a rhythm word may stay for this median: inside its band widened by RHYTHM_STICKINESS. */
+function keepsRhythmWords(words: string, median: number): boolean | null {
+  const b = RHYTHM_BANDS.findIndex((band) => band.words === words);
+  if (b < 0) return null;
+  const low = b === 0 ? -Infinity : RHYTHM_BANDS[b - 1].below / RHYTHM_STICKINESS;
+  return median >= low && median < RHYTHM_BANDS[b].below * RHYTHM_STICKINESS;
+}
 
 function band(percentile: number): 0 | 1 | 2 | 3 | 4 {
   return percentile < 0.2 ? 0 : percentile < 0.4 ? 1 : percentile < 0.6 ? 2 : percentile < 0.8 ? 3 : 4;
@@ -135,6 +175,7 @@ export function withStickyWords(traits: readonly SegmentTrait[], earlier: readon
   return traits.map((trait) => {
     const old = before.get(trait.feature);
     if (!old || typeof old.words !== 'string' || old.words === trait.words) return trait;
+    if (trait.feature === RHYTHM_FEATURE) return keepsRhythmWords(old.words, trait.median) ? { ...trait, words: old.words, kept: true } : trait;
     const b = bandOfWords(trait.feature, old.words);
     if (b === null) return trait;
     const [low, high] = stickyRange(b);
@@ -163,7 +204,7 @@ export function segmentTraits(
     const sorted = sortedByFeature.get(feature);
     if (median === null || median === undefined || !Number.isFinite(median) || !sorted || sorted.length === 0) continue;
     const percentile = shareBelow(sorted, median);
-    traits.push({ feature, label: featureLabel(feature), median, unit: featureUnit(feature), percentile, words: traitWords(feature, percentile) });
+    traits.push({ feature, label: featureLabel(feature), median, unit: featureUnit(feature), percentile, words: wordsFor(feature, median, percentile) });
   }
   const inName = (trait: SegmentTrait) => NAME_TRAITS.indexOf(trait.feature);
   return traits.sort((a, b) => {
@@ -192,7 +233,10 @@ function joinWords(words: readonly string[]): string {
 export function defaultNames(traitsBySegment: readonly SegmentTrait[][], ranks: readonly number[]): string[] {
   const used = traitsBySegment.map(baseTraitCount);
   const nameOf = (s: number) => {
-    const words = traitsBySegment[s].slice(0, used[s]).map((trait) => trait.words);
+    const words = traitsBySegment[s]
+      .slice(0, used[s])
+      .map((trait) => trait.words)
+      .filter((words) => !UNSAID_IN_NAMES.has(words));
     return words.length > 0 ? joinWords(words) : `Spend rank ${ranks[s]}`;
   };
   const names = traitsBySegment.map((_, s) => nameOf(s));

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { defaultNames, nameSegments, segmentTraits, spendRanks, traitWords, uniqueName, withStickyWords } from '../../src/runs/naming.js';
+import { defaultNames, nameSegments, rhythmWords, segmentTraits, spendRanks, traitWords, uniqueName, withStickyWords } from '../../src/runs/naming.js';
 import { continuations, withSegmentsShownBefore } from '../../src/runs/carry-keys.js';
 import { countMovement, driftWarnings, segmentMoments } from '../../src/runs/movement.js';
 import { carriesOver, finalSegmentKey, isLowConfidenceMover, reviewMask, reviewReasons } from '../../src/runs/review-rules.js';
@@ -7,7 +7,7 @@ import { computeFlags } from '../../src/runs/flags.js';
 
 /** Ten placed customers' values of the three name traits (sorted), 0.5 … 9.5 apart so percentiles are tenths. */
 const sorted = new Map(
-  ['visits_per_month', 'average_basket', 'days_since_last_visit'].map((feature) => [feature, Float64Array.from({ length: 10 }, (_, i) => i + 1)]),
+  ['visits_per_month', 'average_basket', 'gaps_since_last_visit'].map((feature) => [feature, Float64Array.from({ length: 10 }, (_, i) => i + 1)]),
 );
 
 describe('segment names from measured traits', () => {
@@ -18,14 +18,15 @@ describe('segment names from measured traits', () => {
   it('places each trait median among all customers and says it in five bands, in the order how often · per trip · how recently', () => {
     // Medians 9.5 (9 of 10 below → 0.9), 2.5 (0.2), 1 (0.0); fresh share is not stored here, so it is left out.
     const traits = segmentTraits(
-      { days_since_last_visit: 1, average_basket: 2.5, visits_per_month: 9.5, fresh_share: 0.3 },
+      { gaps_since_last_visit: 0.1, average_basket: 2.5, visits_per_month: 9.5, fresh_share: 0.3 },
       sorted,
-      ['days_since_last_visit', 'fresh_share', 'average_basket', 'visits_per_month'],
+      ['gaps_since_last_visit', 'fresh_share', 'average_basket', 'visits_per_month'],
     );
+    // How recently is said by the median in the customers' own gaps, not by its rank (0 here).
     expect(traits.map((t) => [t.feature, t.percentile, t.words])).toEqual([
       ['visits_per_month', 0.9, 'very frequent'],
       ['average_basket', 0.2, 'small baskets'],
-      ['days_since_last_visit', 0, 'very recent'],
+      ['gaps_since_last_visit', 0, 'just been in'],
     ]);
     expect(traits[0].label).toBe('visit rate');
     expect(traitWords('average_basket', 0.79)).toBe('large baskets');
@@ -35,46 +36,65 @@ describe('segment names from measured traits', () => {
     expect(traitWords('spend_per_month', 0.995)).toBe('top 1 % spend');
     expect(traitWords('average_basket', 0.999)).toBe('top 1 % baskets');
     expect(traitWords('refund_share', 0.99)).toBe('top 1 % refund share');
-    // Recency in the customer's own rhythm says so, rather than "high gaps since last visit".
-    expect(traitWords('gaps_since_last_visit', 0.5)).toBe('about their usual gap');
-    expect(traitWords('gaps_since_last_visit', 0.85)).toBe('long past their usual gap');
+    // Recency against the customer's own rhythm: a steady shopper's median is ln 2 ≈ 0.69 usual gaps.
+    expect([0.1, 0.249, 0.25, 0.69, 1.99, 2, 3.99, 4, 40].map(rhythmWords)).toEqual([
+      'just been in',
+      'just been in',
+      'on their usual rhythm',
+      'on their usual rhythm',
+      'on their usual rhythm',
+      'overdue',
+      'overdue',
+      'long absent',
+      'long absent',
+    ]);
+    // Days since the last visit by rank: "long ago" (a rare shopper's last visit is, without being absent).
+    expect(traitWords('days_since_last_visit', 0.85)).toBe('long ago');
     expect(traitWords('spend_trend', 0.85)).toBe('very high spend trend');
     const names = defaultNames([traits], [1]);
-    expect(names).toEqual(['Very frequent · small baskets · very recent']);
+    expect(names).toEqual(['Very frequent · small baskets · just been in']);
     // No word of a named customer scheme, only restated measurements.
     expect(names[0]).not.toMatch(/champion|loyal|risk|hibernat|tier/i);
   });
 
   it('leads with spend where the run stores it: how much · how often · per trip · how recently', () => {
-    const candidates = ['visits_per_month', 'average_basket', 'days_since_last_visit', 'spend_per_month'];
+    const candidates = ['visits_per_month', 'average_basket', 'gaps_since_last_visit', 'spend_per_month'];
     const withSpend = new Map([...sorted, ['spend_per_month', Float64Array.from({ length: 10 }, (_, i) => 10 * (i + 1))]]);
     // Spend median 95: 9 of 10 customers below it, the top band.
-    const traits = segmentTraits({ visits_per_month: 5.5, average_basket: 9.5, days_since_last_visit: 3, spend_per_month: 95 }, withSpend, candidates);
-    expect(traits.map((t) => t.feature)).toEqual(['spend_per_month', 'visits_per_month', 'average_basket', 'days_since_last_visit']);
-    expect(defaultNames([traits], [1])).toEqual(['Very high spend · regular · very large baskets · recent']);
+    const traitsWithGaps = (gaps: number) =>
+      segmentTraits({ visits_per_month: 5.5, average_basket: 9.5, gaps_since_last_visit: gaps, spend_per_month: 95 }, withSpend, candidates);
+    const traits = traitsWithGaps(0.7);
+    expect(traits.map((t) => t.feature)).toEqual(['spend_per_month', 'visits_per_month', 'average_basket', 'gaps_since_last_visit']);
+    // Keeping to their rhythm sets no segment apart: the name leaves it out (the trait keeps its words).
+    expect(traits[3].words).toBe('on their usual rhythm');
+    expect(defaultNames([traits], [1])).toEqual(['Very high spend · regular · very large baskets']);
+    expect(defaultNames([traitsWithGaps(2.5), traitsWithGaps(6)], [1, 2])).toEqual([
+      'Very high spend · regular · very large baskets · overdue',
+      'Very high spend · regular · very large baskets · long absent',
+    ]);
   });
 
   it('makes clashing names unique by the next trait, then by spend rank', () => {
-    const candidates = ['visits_per_month', 'average_basket', 'days_since_last_visit', 'spend_per_month', 'fresh_share'];
+    const candidates = ['visits_per_month', 'average_basket', 'gaps_since_last_visit', 'spend_per_month', 'fresh_share'];
     const withMore = new Map([
       ...sorted,
       ['spend_per_month', Float64Array.from({ length: 10 }, (_, i) => 10 * (i + 1))],
       ['fresh_share', Float64Array.from({ length: 10 }, (_, i) => (i + 1) / 10)],
     ]);
     const traitsOf = (spend: number, fresh: number) =>
-      segmentTraits({ visits_per_month: 9.5, average_basket: 9.5, days_since_last_visit: 1, spend_per_month: spend, fresh_share: fresh }, withMore, candidates);
+      segmentTraits({ visits_per_month: 9.5, average_basket: 9.5, gaps_since_last_visit: 0.1, spend_per_month: spend, fresh_share: fresh }, withMore, candidates);
     const [a, b, c] = [traitsOf(95, 0.95), traitsOf(45, 0.15), traitsOf(47, 0.95)];
     // a differs by its spend word; b and c share theirs, so each adds its next trait (the mix).
     expect(defaultNames([a, b, c], [1, 3, 2])).toEqual([
-      'Very high spend · very frequent · very large baskets · very recent',
-      'Mid spend · very frequent · very large baskets · very recent · very little fresh',
-      'Mid spend · very frequent · very large baskets · very recent · very fresh-heavy',
+      'Very high spend · very frequent · very large baskets · just been in',
+      'Mid spend · very frequent · very large baskets · just been in · very little fresh',
+      'Mid spend · very frequent · very large baskets · just been in · very fresh-heavy',
     ]);
     // Agreeing on every trait, the spend rank tells them apart.
     const d = traitsOf(47, 0.15);
     expect(defaultNames([b, d], [3, 2])).toEqual([
-      'Mid spend · very frequent · very large baskets · very recent · very little fresh · spend rank 3',
-      'Mid spend · very frequent · very large baskets · very recent · very little fresh · spend rank 2',
+      'Mid spend · very frequent · very large baskets · just been in · very little fresh · spend rank 3',
+      'Mid spend · very frequent · very large baskets · just been in · very little fresh · spend rank 2',
     ]);
     expect(defaultNames([[]], [4])).toEqual(['Spend rank 4']);
   });
@@ -132,6 +152,25 @@ describe('segment names from measured traits', () => {
     // Stored traits that are not a list of traits (a database edited by hand) keep nothing.
     expect(withStickyWords([trait('spend_per_month', 0.183)], { feature: 'spend_per_month' } as never)[0].words).toBe('very low spend');
     expect(withStickyWords([trait('spend_per_month', 0.183)], [null, { feature: 'spend_per_month', words: 3 }] as never)[0].words).toBe('very low spend');
+  });
+
+  it('a continuing segment keeps its rhythm word while the median gaps stay within a quarter of the band edge', () => {
+    const gaps = (median: number, earlierWords: string) => {
+      const trait = { feature: 'gaps_since_last_visit', label: 'gaps since last visit', median, unit: 'usual gaps', percentile: 0.5, words: rhythmWords(median) };
+      return withStickyWords([trait], [{ feature: 'gaps_since_last_visit', words: earlierWords }])[0];
+    };
+    // The edges are 0.25, 2 and 4 usual gaps; the earlier word stays down to edge / 1.25 and up to edge × 1.25.
+    expect(gaps(1.7, 'overdue')).toMatchObject({ words: 'overdue', kept: true });
+    expect(gaps(1.5, 'overdue').words).toBe('on their usual rhythm');
+    expect(gaps(2.4, 'on their usual rhythm')).toMatchObject({ words: 'on their usual rhythm', kept: true });
+    expect(gaps(2.6, 'on their usual rhythm').words).toBe('overdue');
+    expect(gaps(3.3, 'long absent')).toMatchObject({ words: 'long absent', kept: true });
+    expect(gaps(3.1, 'long absent').words).toBe('overdue');
+    expect(gaps(0.3, 'just been in')).toMatchObject({ words: 'just been in', kept: true });
+    expect(gaps(0.35, 'just been in').words).toBe('on their usual rhythm');
+    // Words of the earlier percentile-banded rhythm (or any other) are not kept.
+    expect(gaps(2.1, 'past their usual gap').words).toBe('overdue');
+    expect(gaps(2.1, 'past their usual gap').kept).toBeUndefined();
   });
 
   it('continuation: Hungarian pairing on shared customers, a pair counts only with half of either side', () => {

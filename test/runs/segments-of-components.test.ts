@@ -412,6 +412,8 @@ describe('names that continue', () => {
     const neighbour = (p: number) => (p % 0.2 < 0.1 ? fifth(p) - 1 : fifth(p) + 1);
     const candidates = matched.flatMap((segment) =>
       segment.traits
+        // The rhythm trait's words go by its median, not its fifth (its stickiness: test/runs/naming-movement.test.ts).
+        .filter((trait) => trait.feature !== 'gaps_since_last_visit')
         .filter((trait) => trait.percentile < 0.99 && neighbour(trait.percentile) >= 0 && neighbour(trait.percentile) <= 4)
         .map((trait) => ({ key: segment.key, trait, edgeDistance: Math.min(trait.percentile % 0.2, 0.2 - (trait.percentile % 0.2)) })),
     );

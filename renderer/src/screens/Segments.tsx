@@ -126,7 +126,9 @@ function SegmentsView({ runId }: { runId: number }) {
         </p>
         <p className="hint" data-testid="segment-names-hint">
           Default names say where each segment&apos;s median customer sits among all placed customers, in fifths (very low to very high; &ldquo;top 1 %&rdquo; above
-          99 %). A segment that continues an earlier one keeps a word while its rank stays near that fifth, so names do not flip at an edge (&ldquo;word kept&rdquo;).
+          99 %). How recently is said against the customers&apos; own rhythm, only where it sets a segment apart: &ldquo;just been in&rdquo; (median under a
+          quarter of their usual gap), &ldquo;overdue&rdquo; (2 usual gaps or more without a visit), &ldquo;long absent&rdquo; (4 or more). A segment that
+          continues an earlier one keeps a word while it stays near that band&apos;s edge, so names do not flip at an edge (&ldquo;word kept&rdquo;).
         </p>
       </header>
       <MergeBar segments={ordered} regroup={regroup} />

@@ -39,9 +39,9 @@ export interface SegmentTrait {
   unit: string;
   /** Share (0–1) of all placed customers whose value is below the segment's median. */
   percentile: number;
-  /** The words the name uses for it ("frequent", "large baskets", "recent"). */
+  /** The words the name uses for it ("frequent", "large baskets", "long absent"; "on their usual rhythm" is shown but not said in a name). */
   words: string;
-  /** True when the words are the continued segment's, kept because the percentile is still near their fifth (src/runs/naming.ts). */
+  /** True when the words are the continued segment's, kept because the percentile (for the rhythm, the median) is still near their band (src/runs/naming.ts). */
   kept?: boolean;
 }
 

@@ -48,10 +48,10 @@ const featureUnits: Record<string, string> = {
 const shapeOf = (feature: string) => ({ log1p: !['freshShare', 'gapsSinceLastVisit'].includes(feature), cubeRoot: feature === 'gapsSinceLastVisit' });
 
 const segmentShapes = [
-  { name: 'Very high spend · very frequent · very large baskets · recent', weight: 0.08, mean: [1.9, 1.3, 1.2], sd: [0.45, 0.5, 0.5], rho: 0.4, spend: 620, visits: 11, basket: 56, percentiles: [0.93, 0.95, 0.2] },
-  { name: 'High spend · frequent · large baskets · recent', weight: 0.27, mean: [0.7, 0.6, 0.3], sd: [0.45, 0.45, 0.5], rho: 0.5, spend: 310, visits: 8, basket: 38, percentiles: [0.74, 0.7, 0.3] },
-  { name: 'Mid spend · regular · mid-size baskets · fairly recent', weight: 0.38, mean: [-0.3, -0.1, -0.2], sd: [0.5, 0.55, 0.45], rho: 0.3, spend: 140, visits: 5, basket: 27, percentiles: [0.48, 0.45, 0.5] },
-  { name: 'Very low spend · rare · small baskets · long absent', weight: 0.27, mean: [-1.2, -0.9, -0.5], sd: [0.5, 0.55, 0.6], rho: 0.2, spend: 52, visits: 2.4, basket: 21, percentiles: [0.15, 0.22, 0.8] },
+  { name: 'Very high spend · very frequent · very large baskets', gaps: 0.6, weight: 0.08, mean: [1.9, 1.3, 1.2], sd: [0.45, 0.5, 0.5], rho: 0.4, spend: 620, visits: 11, basket: 56, percentiles: [0.93, 0.95, 0.2] },
+  { name: 'High spend · frequent · large baskets', gaps: 0.7, weight: 0.27, mean: [0.7, 0.6, 0.3], sd: [0.45, 0.45, 0.5], rho: 0.5, spend: 310, visits: 8, basket: 38, percentiles: [0.74, 0.7, 0.3] },
+  { name: 'Mid spend · regular · mid-size baskets', gaps: 0.8, weight: 0.38, mean: [-0.3, -0.1, -0.2], sd: [0.5, 0.55, 0.45], rho: 0.3, spend: 140, visits: 5, basket: 27, percentiles: [0.48, 0.45, 0.5] },
+  { name: 'Very low spend · rare · small baskets · long absent', gaps: 5.2, weight: 0.27, mean: [-1.2, -0.9, -0.5], sd: [0.5, 0.55, 0.6], rho: 0.2, spend: 52, visits: 2.4, basket: 21, percentiles: [0.15, 0.22, 0.8] },
 ];
 /** Six Gaussian components combined into the four segments: segments 1 and 2 hold two components each. */
 const componentsOfSegment = [[0], [1, 4], [2, 5], [3]];
@@ -83,13 +83,14 @@ function segmentProfiles(): SegmentProfile[] {
     const traitWords = [
       ['rare', 'infrequent', 'regular', 'frequent', 'very frequent'],
       ['very small baskets', 'small baskets', 'mid-size baskets', 'large baskets', 'very large baskets'],
-      ['recent', 'recent', 'less recent', 'less recent', 'long absent'],
     ];
-    const medians = [shape.visits, shape.basket, Math.round(30 / shape.visits)];
+    // The core says how recently by the median in usual gaps (src/runs/naming.ts, RHYTHM_BANDS).
+    const rhythm = shape.gaps < 0.25 ? 'just been in' : shape.gaps < 2 ? 'on their usual rhythm' : shape.gaps < 4 ? 'overdue' : 'long absent';
+    const medians = [shape.visits, shape.basket, shape.gaps];
     const traitFeatures = [
       { feature: 'visitsPerMonth', label: 'visit rate', unit: 'visits per month' },
       { feature: 'averageBasket', label: 'basket size', unit: 'EUR' },
-      { feature: 'daysSinceLastVisit', label: 'days since last visit', unit: 'days' },
+      { feature: 'gapsSinceLastVisit', label: 'gaps since last visit', unit: 'usual gaps' },
     ];
     return {
       segment: i,
@@ -101,7 +102,7 @@ function segmentProfiles(): SegmentProfile[] {
         ...trait,
         median: medians[t],
         percentile: shape.percentiles[t],
-        words: traitWords[t][Math.min(4, Math.floor(shape.percentiles[t] * 5))],
+        words: t === 2 ? rhythm : traitWords[t][Math.min(4, Math.floor(shape.percentiles[t] * 5))],
       })),
       components: componentsOfSegment[i],
       spendRank: i + 1,
