@@ -196,6 +196,26 @@ describe('CLI as a process (the real exit codes)', () => {
     expect(bad.stderr).toMatch(/\(customers, --customers\) must be at least 1 \(got -4\)/);
   });
 
+  it('stops quietly when the reader of its output goes away (`| head`), keeping its exit code', () => {
+    // `true` exits without reading, so every write to the pipe fails with EPIPE; before, Node printed
+    // an unhandled-error trace and exited 1.
+    const folder = freshFolder();
+    const entry = join(projectRoot, 'src/cli/main.ts');
+    const piped = (args: string) =>
+      spawnSync('bash', ['-c', `"${process.execPath}" --import tsx "${entry}" ${args} 2>"${folder}/stderr.txt" | true; echo "\${PIPESTATUS[0]}"`], {
+        cwd: projectRoot,
+        encoding: 'utf8',
+        timeout: 60_000,
+      });
+    const help = piped('export --help');
+    expect(help.stdout.trim()).toBe('0');
+    expect(readFileSync(join(folder, 'stderr.txt'), 'utf8')).toBe('');
+    const demo = piped(`demo --out "${folder}/demo" --customers 30`);
+    expect(demo.stdout.trim()).toBe('0');
+    expect(readFileSync(join(folder, 'stderr.txt'), 'utf8')).toBe('');
+    expect(readFileSync(join(folder, 'demo', 'customers.csv'), 'utf8').split('\n').length).toBeGreaterThan(30);
+  });
+
   it('exits 1 on an internal failure', () => {
     // A tiny entry point like src/cli/main.ts whose one command fails with a plain Error.
     const script = join(freshFolder(), 'failing-main.ts');
