@@ -78,7 +78,7 @@ const RHYTHM_FEATURE = 'gaps_since_last_visit';
  * past 2 (one steady shopper in e² ≈ 7 gets that far) has mostly left its rhythm, past 4 (one in
  * e⁴ ≈ 55) it has mostly stopped coming; below 0.25 it was picked out by having just come in.
  */
-export const RHYTHM_BANDS: readonly { below: number; words: string }[] = [
+const RHYTHM_BANDS: readonly { below: number; words: string }[] = [
   { below: 0.25, words: 'just been in' },
   { below: 2, words: 'on their usual rhythm' },
   { below: 4, words: 'overdue' },
@@ -92,7 +92,7 @@ const UNSAID_IN_NAMES: ReadonlySet<string> = new Set(['on their usual rhythm']);
  * A rhythm word is kept (the segment it continues had it) while the median stays within this
  * factor of its band's edges, as WORD_STICKINESS does for the banded traits.
  */
-export const RHYTHM_STICKINESS = 1.25;
+const RHYTHM_STICKINESS = 1.25;
 
 /** The words for a median of gaps since the last visit (RHYTHM_BANDS). */
 export function rhythmWords(medianGaps: number): string {
@@ -105,9 +105,9 @@ function wordsFor(feature: string, median: number, percentile: number): string {
 }
 
 /** Whether a rhythm word may stay for this median: inside its band widened by RHYTHM_STICKINESS. */
-function keepsRhythmWords(words: string, median: number): boolean | null {
+function keepsRhythmWords(words: string, median: number): boolean {
   const b = RHYTHM_BANDS.findIndex((band) => band.words === words);
-  if (b < 0) return null;
+  if (b < 0) return false;
   const low = b === 0 ? -Infinity : RHYTHM_BANDS[b - 1].below / RHYTHM_STICKINESS;
   return median >= low && median < RHYTHM_BANDS[b].below * RHYTHM_STICKINESS;
 }

@@ -11,6 +11,7 @@
  */
 import Database from 'better-sqlite3';
 import { readFileSync } from 'node:fs';
+import { quantile } from '../../src/features/quantiles.js';
 import { adjustedRandIndex } from '../../src/model/index.js';
 import { spendmixJson } from './cli-runner.js';
 
@@ -22,7 +23,7 @@ export type Truth = Map<string, string>;
  * values without quoting (as both generators write them). The second column is the label.
  */
 export function readTruthFile(path: string): Truth {
-  const lines = readFileSync(path, 'utf8').split(/\r?\n/).filter((line) => line.length > 0);
+  const lines = truthLines(path);
   const header = lines[0]?.split(',') ?? [];
   if (header[0] !== 'customer_id' || header.length < 2) throw new Error(`${path}: expected a header customer_id,<label>…; got "${lines[0] ?? ''}"`);
   const truth: Truth = new Map();
@@ -33,6 +34,18 @@ export function readTruthFile(path: string): Truth {
     truth.set(customerId, label);
   }
   return truth;
+}
+
+/** A truth file's non-empty lines, header first. */
+function truthLines(path: string): string[] {
+  return readFileSync(path, 'utf8').split(/\r?\n/).filter((line) => line.length > 0);
+}
+
+/** Truth labels as codes for the ARI: each distinct label's place in sorted order, and those labels. */
+function labelCodes(labels: readonly string[]): { names: string[]; codes: Int32Array } {
+  const names = [...new Set(labels)].sort();
+  const code = new Map(names.map((name, index) => [name, index]));
+  return { names, codes: Int32Array.from(labels, (label) => code.get(label)!) };
 }
 
 export interface SegmentFigures {
@@ -140,9 +153,7 @@ export async function evaluateAgainstTruth(dbPath: string, runId: number, truth:
   if (labels.segments.length !== run.customers) {
     throw new Error(`Run ${runId} reports ${run.customers} placed customers but stores ${labels.segments.length}.`);
   }
-  const truthNames = [...new Set(labels.truthLabels)].sort();
-  const truthCode = new Map(truthNames.map((name, code) => [name, code]));
-  const truthCodes = Int32Array.from(labels.truthLabels, (label) => truthCode.get(label)!);
+  const { names: truthNames, codes: truthCodes } = labelCodes(labels.truthLabels);
 
   const segments = storedSegments(dbPath, runId);
   const column = new Map(segments.map((segment, position) => [segment.index, position]));
@@ -197,7 +208,7 @@ export function describeEvaluation(evaluation: TruthEvaluation): string {
  * are left out; a file without the column gives an empty map.
  */
 export function readStoppedOn(path: string): Map<string, string> {
-  const lines = readFileSync(path, 'utf8').split(/\r?\n/).filter((line) => line.length > 0);
+  const lines = truthLines(path);
   const column = (lines[0] ?? '').split(',').indexOf('stopped_on');
   const stoppedOn = new Map<string, string>();
   if (column < 0) return stoppedOn;
@@ -241,23 +252,15 @@ export function evaluateDrift(dbPath: string, runId: number, truth: Truth, stopp
       daysSince.get(labels.segments[i])!.push(asOfDay - Date.parse(`${stopped}T00:00:00Z`) / 86_400_000);
     }
   });
-  const median = (values: number[]) => {
-    if (values.length === 0) return null;
-    const sorted = [...values].sort((a, b) => a - b);
-    const middle = sorted.length >> 1;
-    return sorted.length % 2 === 1 ? sorted[middle] : (sorted[middle - 1] + sorted[middle]) / 2;
-  };
   const bySegment = segments.map((segment) => {
     const days = daysSince.get(segment.index)!;
-    return { name: segment.name, customers: segment.customers, stopped: days.length, medianDaysSinceStopping: median(days) };
+    return { name: segment.name, customers: segment.customers, stopped: days.length, medianDaysSinceStopping: days.length > 0 ? quantile(days, 0.5) : null };
   });
-  const truthNames = [...new Set(keptTruth)].sort();
-  const truthCode = new Map(truthNames.map((name, code) => [name, code]));
   return {
     bySegment,
     stopped: labels.customerIds.length - keptTruth.length,
     keptComing: keptTruth.length,
-    ariKeptComing: adjustedRandIndex(Int32Array.from(keptTruth, (label) => truthCode.get(label)!), Int32Array.from(keptSegments)),
+    ariKeptComing: adjustedRandIndex(labelCodes(keptTruth).codes, Int32Array.from(keptSegments)),
     segmentsMostlyStopped: bySegment.filter((segment) => 2 * segment.stopped > segment.customers).length,
   };
 }
