@@ -12,7 +12,7 @@
 export * from './types.js';
 export { parameterCount, bayesianInformationCriterion, akaikeInformationCriterion, integratedCompletedLikelihood } from './criteria.js';
 export { modelToJSON, modelFromJSON } from './serialize.js';
-export { fitMixture, sweepRowOf } from './em.js';
+export { climbHasConverged, fitMixture, sweepRowOf } from './em.js';
 export { scoreRows, imputeMissing, topTwo } from './score.js';
 export { componentLogDensity, marginalLogDensity } from './gaussian.js';
 export { RELATIVE_VARIANCE_FLOOR } from './validity.js';

