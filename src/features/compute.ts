@@ -9,7 +9,8 @@
 import type { Database } from 'better-sqlite3';
 import { InputError, throwIfAborted } from '../errors.js';
 import { isoDateFromDay } from '../store/days.js';
-import { categorySpellings, featureDefinitions, shareOfDayWithoutTime, type RowAggregate, type RowCondition } from './definitions.js';
+import { categorySpellings, featureDefinitions, type RowAggregate, type RowCondition } from './definitions.js';
+import { MINUTES_PER_DAY, SECONDS_OF_DAY_WITHOUT_TIME, momentOnShoppingClock, shoppingClockFromCounts, type ShoppingClock } from './shopping-clock.js';
 import { javaScriptSyntax, renderCondition, renderExpression } from './expressions.js';
 import { featureWindow, type FeatureWindow } from './window.js';
 
@@ -72,18 +73,40 @@ export function checkAsOfInData(db: Database, window: FeatureWindow): void {
 /** The app's own columns for the row values the definitions read. */
 const receiptKeySql = "coalesce(receipt_id, day || '|' || ifnull(time, '') || '|' || ifnull(store_id, ''))";
 
+/** Seconds after midnight of a stored clock time (HH:MM:SS text), in SQL over the alias `row`. */
+const secondsOfDaySql = (row: string) =>
+  `(CAST(substr(${row}.time, 1, 2) AS INTEGER) * 3600 + CAST(substr(${row}.time, 4, 2) AS INTEGER) * 60 + CAST(substr(${row}.time, 7, 2) AS INTEGER))`;
+const hasClockTimeSql = (row: string) => `${row}.time IS NOT NULL AND ${row}.time <> '00:00:00'`;
+
 /**
- * A customer's latest moment in the rows of the group: the last day plus the largest share of that
- * day passed at a clock time of its rows (stored as HH:MM:SS; shareOfDayWithoutTime without one).
- * Only the last day's rows are read, by one seek per customer into the (customer_id, day) index
- * as the group is finished: a per-row expression over the whole window cost 0.2 µs a row (about a
- * tenth of the feature build). Seconds over 86400.0 in doubles, then added to the day, as the
- * generated SQL computes it, so the two agree bit for bit.
+ * A customer's latest moment in the rows of the group as a clock key: the last day × 86400 plus
+ * the largest clock time in seconds of that day's rows (SECONDS_OF_DAY_WITHOUT_TIME without one),
+ * which momentOnShoppingClock turns into a moment on the shopping clock. Only the last day's rows
+ * are read, by one seek per customer into the (customer_id, day) index as the group is finished:
+ * a per-row expression over the whole window cost 0.2 µs a row (about a tenth of the feature build).
  */
 function latestMomentSql(table: RowAggregate['table']): string {
-  const share = `CASE WHEN later.time IS NULL OR later.time = '00:00:00' THEN ${shareOfDayWithoutTime}
-    ELSE (CAST(substr(later.time, 1, 2) AS INTEGER) * 3600 + CAST(substr(later.time, 4, 2) AS INTEGER) * 60 + CAST(substr(later.time, 7, 2) AS INTEGER)) / 86400.0 END`;
-  return `max(${table}.day) + (SELECT max(${share}) FROM ${table} AS later WHERE later.customer_id = ${table}.customer_id AND later.day = max(${table}.day))`;
+  const seconds = `CASE WHEN ${hasClockTimeSql('later')} THEN ${secondsOfDaySql('later')} ELSE ${SECONDS_OF_DAY_WITHOUT_TIME} END`;
+  return `max(${table}.day) * 86400 + (SELECT max(${seconds}) FROM ${table} AS later WHERE later.customer_id = ${table}.customer_id AND later.day = max(${table}.day))`;
+}
+
+/**
+ * The chain's shopping clock over the window (./shopping-clock.ts): its receipt rows with a clock
+ * time, counted per minute of the day. Rows, not receipts: a receipt split by department counts
+ * once per department. On the demo chain the two clocks differ by at most 0.003 of a day's
+ * shopping at any minute, and counting distinct receipts cost about 0.65 × a plain GROUP BY over
+ * the receipts where counting rows by their stored time costs about 0.2 × (200,000 customers,
+ * 4,000,000 rows; README, benchmarks). Grouped by the stored text, minutes taken here.
+ */
+function shoppingClockOfWindow(db: Database, window: { startDay: number; asOfDay: number }): ShoppingClock {
+  const counts = new Float64Array(MINUTES_PER_DAY);
+  const statement = db
+    .prepare(`SELECT time, count(*) FROM receipts WHERE day BETWEEN ? AND ? AND ${hasClockTimeSql('receipts')} GROUP BY time`)
+    .raw();
+  for (const [time, rows] of statement.iterate(window.startDay, window.asOfDay) as Iterable<[string, number]>) {
+    counts[Number(time.slice(0, 2)) * 60 + Number(time.slice(3, 5))] += rows;
+  }
+  return shoppingClockFromCounts(counts);
 }
 
 function rowConditionSql(condition: RowCondition, freshList: string): string {
@@ -238,6 +261,9 @@ export function computeReceiptFeatures(db: Database, options: ComputeFeaturesOpt
   const anyCategorised = db.prepare('SELECT 1 FROM receipts WHERE category IS NOT NULL LIMIT 1').get() !== undefined;
   throwIfAborted(options.signal);
 
+  const clock = shoppingClockOfWindow(db, window);
+  throwIfAborted(options.signal);
+
   const compute = formulaFunction();
   const input = new Float64Array(formulaInputs.length);
   const output = new Float64Array(featureFormulas.length + 1);
@@ -251,6 +277,8 @@ export function computeReceiptFeatures(db: Database, options: ComputeFeaturesOpt
   const receiptSlot = slot(receiptAggregates[0].name);
   const visitSlot = slot(visitAggregates[0].name);
   const joinedSlot = slot('joined_day');
+  // The latest-moment aggregates arrive as clock keys; the formulas read moments on the shopping clock.
+  const momentSlots = [...receiptAggregates, ...visitAggregates].filter((aggregate) => aggregate.operation === 'latestMoment').map((aggregate) => slot(aggregate.name));
   const netCentsColumn = 1 + receiptAggregates.findIndex((aggregate) => aggregate.name === 'net_cents');
 
   const customerIds: string[] = [];
@@ -266,6 +294,7 @@ export function computeReceiptFeatures(db: Database, options: ComputeFeaturesOpt
     for (let a = 0; a < receiptAggregates.length; a++) input[receiptSlot + a] = aggregates[1 + a];
     const visit = visits.get(customerId);
     for (let a = 0; a < visitAggregates.length; a++) input[visitSlot + a] = visit ? visit[a] : NaN;
+    for (const momentSlot of momentSlots) input[momentSlot] = momentOnShoppingClock(clock, input[momentSlot]);
     input[joinedSlot] = joined.get(customerId) ?? NaN;
     compute(input, output);
     customerIds.push(customerId);

@@ -83,7 +83,7 @@ export const featureDescriptions: Record<ComputedFeatureName, FeatureDescription
     label: 'gaps since last visit',
     unit: 'usual gaps',
     meaning:
-      "Time from the last visit to the end of the as-of day counted in the customer's own usual gap between visits (days in a month ÷ visit rate): about 1 while they keep to their rhythm, 5 when five usual gaps have passed without a visit.",
+      "Time from the last visit to the end of the as-of day counted in the customer's own usual gap between visits (days in a month ÷ visit rate): about 1 while they keep to their rhythm, 5 when five usual gaps have passed without a visit. Hours count by how much of the chain's shopping happens in them, so a night without shopping adds little.",
     minimum: 0,
   },
   tenure_months: {
@@ -146,8 +146,9 @@ export type RowCondition = 'positive' | 'fresh' | 'last3Months' | 'last6Months';
  * One per-customer aggregate over receipt or visit rows. `sum` adds amounts in cents (0 when no row
  * matches); `countDistinct` counts distinct receipts (the receipt id, or date-time and store
  * without one); `count` counts rows; `min`/`max` take the day number (missing when no row matches);
- * `latestMoment` takes the largest moment, the day number plus the share of the day passed at the
- * row's clock time (see shareOfDayWithoutTime).
+ * `latestMoment` takes the latest row's moment on the chain's shopping clock: its day number plus
+ * the share of the shopping day passed at its clock time (./shopping-clock.ts; a row without a
+ * clock time counts as at midday).
  */
 export interface RowAggregate {
   name: string;
@@ -174,14 +175,6 @@ export const receiptAggregates: readonly RowAggregate[] = [
   { name: 'first_receipt_day', table: 'receipts', operation: 'min', scope: 'history', when: [] },
   { name: 'last_receipt_moment', table: 'receipts', operation: 'latestMoment', scope: 'window', when: [] },
 ];
-
-/**
- * The share of the day a row without a clock time counts as passed: half, the middle of the day.
- * A time of exactly 00:00:00 counts as no time too, because a date-only column reads as midnight
- * in a chain's engine; the generated SQL and the app then agree, at the cost of half a day for a
- * rare visit on the stroke of midnight.
- */
-export const shareOfDayWithoutTime = 0.5;
 
 /** Visit aggregates; read only when the visits hold at least one visit in the window (else all missing). */
 export const visitAggregates: readonly RowAggregate[] = [
@@ -256,8 +249,9 @@ export const featureFormulas: readonly FeatureFormula[] = [
   // Recency in the customer's own rhythm: ten days away is nothing for a monthly shopper and a
   // lapse for a daily one. Days alone also repeat the visit rate (frequent shoppers were in
   // recently) with an exponential spread that mixture components split tiers on. Counted from
-  // the clock time of the last visit to the end of the as-of day: whole days would put everyone
-  // seen on one day at one value, a stack that components are spent on (measured in the README).
+  // the clock time of the last visit to the end of the as-of day on the chain's shopping clock:
+  // whole days would put everyone seen on one day at one value, and wall-clock hours leave the
+  // night as an empty stretch between stacks; components are spent on both (measured in the README).
   {
     name: 'gaps_since_last_visit',
     formula: dividedBy(

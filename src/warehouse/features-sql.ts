@@ -10,7 +10,8 @@
  * under the app's name, and `too_new` (1/0) — which `import --features` reads as it is.
  */
 import { InputError } from '../errors.js';
-import { categorySpellings, featureDefinitions as definitions, shareOfDayWithoutTime, type RowAggregate, type RowCondition } from '../features/definitions.js';
+import { categorySpellings, featureDefinitions as definitions, type RowAggregate, type RowCondition } from '../features/definitions.js';
+import { MINUTES_PER_DAY, SECONDS_OF_DAY_WITHOUT_TIME, SECONDS_PER_DAY } from '../features/shopping-clock.js';
 import { namesRead, renderCondition, renderExpression, type ExpressionSyntax } from '../features/expressions.js';
 import { featureWindow } from '../features/window.js';
 import { isoDateFromDay } from '../store/days.js';
@@ -95,15 +96,27 @@ export function featuresSql(options: FeaturesSqlOptions): FeaturesSql {
       case 'max':
         return `${definition.operation.toUpperCase()}(${when('day')}) AS ${definition.name}`;
       case 'latestMoment':
-        return `MAX(${when('moment')}) AS ${definition.name}`;
+        return `MAX(${when('clock_key')}) AS ${definition.name}`;
     }
   };
-  // A row's day number plus the share of its day passed at its clock time, as the app computes it
-  // (src/features/compute.ts): seconds over 86400 in doubles, half a day without a time (00:00:00).
-  const moment = (date: string) => {
+  // A row's clock key, as the app's feature query returns it (src/features/compute.ts): its day
+  // number × 86400 plus its clock time in seconds, midday without a time (00:00:00); the latest
+  // row has the largest key.
+  const clockKey = (date: string) => {
     const seconds = dialect.secondsOfDay(date);
-    return `${asDouble(dialect.dayNumber(date))} + CASE WHEN ${seconds} = 0 THEN ${dialect.double(shareOfDayWithoutTime)} ELSE ${asDouble(seconds)} / ${dialect.double(86400)} END`;
+    return `CAST(${dialect.dayNumber(date)} AS BIGINT) * ${SECONDS_PER_DAY} + CASE WHEN ${seconds} = 0 THEN ${SECONDS_OF_DAY_WITHOUT_TIME} ELSE ${seconds} END`;
   };
+  // A clock key as a moment on the shopping clock (src/features/shopping-clock.ts), with the same
+  // double operations in the same order as the app: the day number plus (receipts in earlier
+  // minutes + seconds into the minute / 60 × receipts in the minute) / receipts with a clock time;
+  // the wall clock's share when no receipt has one. `clock` is the shopping_clock row of the key's minute.
+  const double = (value: number) => dialect.double(value);
+  const keyDay = (key: string) => `FLOOR(${asDouble(key)} / ${double(SECONDS_PER_DAY)})`;
+  const keySeconds = (key: string) => `(${asDouble(key)} - ${keyDay(key)} * ${double(SECONDS_PER_DAY)})`;
+  const keyMinute = (key: string) => `FLOOR(${keySeconds(key)} / ${double(60)})`;
+  const momentOfKey = (key: string, clock: string) =>
+    `${keyDay(key)} + CASE WHEN ${clock}.total = 0 THEN ${keySeconds(key)} / ${double(SECONDS_PER_DAY)} ` +
+    `ELSE (${asDouble(`${clock}.before`)} + (${keySeconds(key)} - ${keyMinute(key)} * ${double(60)}) / ${double(60)} * ${asDouble(`${clock}.within`)}) / ${asDouble(`${clock}.total`)} END`;
 
   const constants: Record<(typeof definitions.formulaConstants)[number], number | null> = {
     as_of_day: window.asOfDay,
@@ -137,13 +150,41 @@ export function featuresSql(options: FeaturesSqlOptions): FeaturesSql {
       [
         `${column('customer_id')} AS customer_id`,
         `${dialect.dayNumber(column('date'))} AS day`,
-        `${moment(column('date'))} AS moment`,
+        `${dialect.secondsOfDay(column('date'))} AS seconds`,
+        `${clockKey(column('date'))} AS clock_key`,
         `CAST(ROUND(${column('amount')} * 100) AS BIGINT) AS cents`,
         `COALESCE(CAST(${column('receipt_id')} AS TEXT), CAST(${column('date')} AS TEXT) || '|' || COALESCE(CAST(${column('store_id')} AS TEXT), '')) AS receipt_key`,
         `${column('category')} AS category`,
       ],
       tables.receipts,
       [`WHERE ${dateBefore(nextDay)} AND ${column('amount')} IS NOT NULL`],
+    ),
+  );
+  // The shopping clock: the window's receipt rows with a clock time per minute of the day, over
+  // all 1440 minutes (a customer's last visit may fall in a minute without a receipt).
+  ctes.push(`clock_minutes (minute) AS (
+  SELECT 0
+  UNION ALL
+  SELECT minute + 1 FROM clock_minutes WHERE minute < ${MINUTES_PER_DAY - 1}
+)`);
+  ctes.push(
+    layer('receipt_minutes', '', [`CAST(FLOOR(seconds / ${double(60)}) AS INTEGER) AS minute`, 'COUNT(*) AS receipts'], 'receipt_rows', [
+      `WHERE day >= ${window.startDay} AND seconds > 0`,
+      `GROUP BY CAST(FLOOR(seconds / ${double(60)}) AS INTEGER)`,
+    ]),
+  );
+  ctes.push(
+    layer(
+      'shopping_clock',
+      once,
+      [
+        'm.minute AS minute',
+        'COALESCE(r.receipts, 0) AS within',
+        'SUM(COALESCE(r.receipts, 0)) OVER (ORDER BY m.minute) - COALESCE(r.receipts, 0) AS before',
+        'SUM(COALESCE(r.receipts, 0)) OVER () AS total',
+      ],
+      'clock_minutes AS m',
+      ['LEFT JOIN receipt_minutes AS r ON r.minute = m.minute'],
     ),
   );
   ctes.push(
@@ -157,7 +198,7 @@ export function featuresSql(options: FeaturesSqlOptions): FeaturesSql {
       'visit_totals',
       '',
       ['customer_id', ...definitions.visitAggregates.map(aggregate)],
-      `(SELECT ${column('customer_id')} AS customer_id, ${dialect.dayNumber(column('date'))} AS day, ${moment(column('date'))} AS moment FROM ${tables.visits} WHERE ${dateBefore(nextDay)}) AS visit_rows`,
+      `(SELECT ${column('customer_id')} AS customer_id, ${dialect.dayNumber(column('date'))} AS day, ${clockKey(column('date'))} AS clock_key FROM ${tables.visits} WHERE ${dateBefore(nextDay)}) AS visit_rows`,
       ['GROUP BY customer_id'],
     ),
   );
@@ -173,12 +214,21 @@ export function featuresSql(options: FeaturesSqlOptions): FeaturesSql {
   SELECT CASE WHEN EXISTS (SELECT 1 FROM ${tables.visits} WHERE ${column('date')} >= ${windowStart} AND ${column('date')} < ${nextDay}) THEN 1 ELSE 0 END AS has_visits,
          CASE WHEN EXISTS (SELECT 1 FROM ${tables.receipts} WHERE ${column('category')} IS NOT NULL) THEN 1 ELSE 0 END AS has_categories
 )`);
+  // A latest moment arrives as a clock key and enters the formulas as a moment on the shopping clock.
+  const clockJoins: string[] = [];
+  const aggregateInput = (table: 'r' | 'v') => (definition: RowAggregate) => {
+    const value = `${table}.${definition.name}`;
+    if (definition.operation !== 'latestMoment') return `${asDouble(value)} AS ${definition.name}`;
+    const clock = `clock_${clockJoins.length + 1}`;
+    clockJoins.push(` LEFT JOIN shopping_clock AS ${clock} ON ${clock}.minute = ${keyMinute(value)}`);
+    return `${momentOfKey(value, clock)} AS ${definition.name}`;
+  };
   const inputColumns = [
     'r.customer_id AS customer_id',
     `${asDouble('p.has_visits')} AS has_visits`,
     'p.has_categories AS has_categories',
-    ...definitions.receiptAggregates.map((definition) => `${asDouble(`r.${definition.name}`)} AS ${definition.name}`),
-    ...definitions.visitAggregates.map((definition) => `${asDouble(`v.${definition.name}`)} AS ${definition.name}`),
+    ...definitions.receiptAggregates.map(aggregateInput('r')),
+    ...definitions.visitAggregates.map(aggregateInput('v')),
     ...definitions.customerInputs.map((name) => `${asDouble(`j.${name}`)} AS ${name}`),
   ];
   ctes.push(
@@ -186,6 +236,7 @@ export function featuresSql(options: FeaturesSqlOptions): FeaturesSql {
       'CROSS JOIN presence AS p',
       ' LEFT JOIN visit_totals AS v ON v.customer_id = r.customer_id',
       ' LEFT JOIN join_days AS j ON j.customer_id = r.customer_id',
+      ...clockJoins,
     ]),
   );
 
@@ -213,11 +264,12 @@ export function featuresSql(options: FeaturesSqlOptions): FeaturesSql {
     `-- Spendmix customer features, ${dialect.name} dialect: the ${window.windowMonths} months ${isoDateFromDay(window.startDay)} to ${options.asOf}.`,
     `-- Reads ${tables.receipts} (customer_id, date, amount, receipt_id, store_id, category), ${tables.visits} (customer_id, date)`,
     `-- and ${tables.customers} (customer_id, joined); each row once (the app drops repeated rows when it imports files).`,
-    `-- A date-time's clock time counts for gaps_since_last_visit; a date alone (or 00:00:00) counts as midday.`,
+    `-- A date-time's clock time counts for gaps_since_last_visit, on the shopping clock (the share of the window's receipts made by then in a day);`,
+    `-- a date alone (or 00:00:00) counts as midday.`,
     `-- One row per customer with a receipt row in the window: ${columns.join(', ')}.`,
   ];
   const sql = `${header.join('\n')}
-WITH ${ctes.join(',\n')}
+WITH RECURSIVE ${ctes.join(',\n')}
 SELECT customer_id,
        ${outputs.join(',\n       ')},
        CASE WHEN ${renderCondition(definitions.tooNewCondition, syntax)} THEN 1 ELSE 0 END AS too_new

@@ -82,9 +82,11 @@ describe('features worked by hand', () => {
     expect(a.visits_per_month).toBeCloseTo(5 / 12, 12);
     // Last visit 2026-11-02 → 28 days before 2026-11-30.
     expect(a.days_since_last_visit).toBe(28);
-    // Usual gap between A's visits: 30.4375 / (5 / 12) = 73.05 days. From the last visit at 10:00
-    // to the end of the as-of day is 28 days and 14 hours, so 0.391 gaps.
-    expect(a.gaps_since_last_visit).toBeCloseTo(((28 + 14 / 24) * 5) / 12 / 30.4375, 12);
+    // Usual gap between A's visits: 30.4375 / (5 / 12) = 73.05 days. The window's shopping clock:
+    // 8 receipt rows with a time (two at 09:00, one at 09:30, two at 10:00, one at 11:00, two at
+    // 12:00; a receipt split by department counts per row), 3 of them before 10:00, so at A's last
+    // visit (10:00) 3/8 of the shopping day has passed: 29 − 3/8 days to the end of the as-of day.
+    expect(a.gaps_since_last_visit).toBeCloseTo(((29 - 3 / 8) * 5) / 12 / 30.4375, 12);
     // Tenure: 2025-06-10 … 2026-11-30 inclusive is 539 days; / (365.25 / 12).
     expect(a.tenure_months).toBeCloseTo(539 / 30.4375, 12);
     // Fresh departments by default include dairy: 20 + 15 + 40 = 75 of 85 bought; refunds 5 of 85.
@@ -104,9 +106,10 @@ describe('features worked by hand', () => {
     // B has no visit rows although the visits table has some: its purchases are its visits.
     expect(b.visits_per_month).toBeCloseTo(2, 12);
     expect(b.days_since_last_visit).toBe(10);
-    // Two visits in one observed month: a usual gap of 15.2 days; from 09:30 on the last day to
-    // the end of the as-of day is 10 days and 14.5 hours, 0.697 of one.
-    expect(b.gaps_since_last_visit).toBeCloseTo(((10 + 14.5 / 24) * 2) / 30.4375, 12);
+    // Two visits in one observed month: a usual gap of 15.2 days; 2 of the window's 8 timed
+    // receipt rows come before 09:30, so from B's last visit to the end of the as-of day is 11 − 2/8
+    // days on the shopping clock, 0.706 of one.
+    expect(b.gaps_since_last_visit).toBeCloseTo(((11 - 2 / 8) * 2) / 30.4375, 12);
     expect(b.tenure_months).toBeCloseTo(30 / 30.4375, 12);
     // Bakery, dairy and fresh are all fresh departments by default.
     expect(b.fresh_share).toBe(1);
@@ -185,11 +188,13 @@ describe('a window shorter than the trend months, with history before it', () =>
     expect(d.spend_trend).toBe(1);
     expect(d.refund_share).toBe(0);
     expect(table.tooNew[0]).toBe(0);
-    // From 10:00 on 2026-11-10 to the end of 2026-11-30: 20 days and 14 hours, at 1 visit a month.
-    expect(d.gaps_since_last_visit).toBeCloseTo((20 + 14 / 24) / 30.4375, 12);
+    // The window's receipts with a time are both at 10:00, so on the shopping clock none of the day
+    // has passed at 10:00:00 (a minute's receipts count as spread over it): from 2026-11-10 10:00
+    // to the end of 2026-11-30 is 21 days, at 1 visit a month.
+    expect(d.gaps_since_last_visit).toBeCloseTo(21 / 30.4375, 12);
   });
 
-  it('counts a last visit without a clock time, or at 00:00:00 (how a date-only column reads), as half a day gone', () => {
+  it('counts a last visit without a clock time, or at 00:00:00 (how a date-only column reads), as at midday on the shopping clock', () => {
     const gaps = () => {
       const table = computeReceiptFeatures(shortDb, { asOf: '2026-11-30', windowMonths: 2, minPurchases: 2, minTenureMonths: 2, freshCategories: defaultFreshCategories });
       return table.columns[table.names.indexOf('gaps_since_last_visit')][0];
@@ -198,15 +203,18 @@ describe('a window shorter than the trend months, with history before it', () =>
     try {
       for (const time of [null, '00:00:00']) {
         setTime.run(time);
-        expect(gaps()).toBeCloseTo(20.5 / 30.4375, 12);
+        // The clock is then the one receipt at 10:00 (a row without a time is not on it); midday
+        // is after all of the shopping day: 20 days to the end of the as-of day.
+        expect(gaps()).toBeCloseTo(20 / 30.4375, 12);
       }
+      // Receipts at 10:00 and 23:59: half a minute into the last minute, 1.5 of the 2 are made.
       setTime.run('23:59:30');
-      expect(gaps()).toBeCloseTo((20 + 30 / 86400) / 30.4375, 12);
+      expect(gaps()).toBeCloseTo((21 - 1.5 / 2) / 30.4375, 12);
       // Two purchases on the last day, at 09:00 and without a time: the later moment (midday) counts,
-      // at 3 visits in the 2 months.
+      // after both timed receipts, at 3 visits in the 2 months.
       setTime.run('09:00:00');
       shortDb.prepare("INSERT INTO receipts (receipt_id, customer_id, day, time, amount_cents, store_id, category, import_id) VALUES ('D4', 'D', ?, NULL, 500, 'S1', 'pantry', 1)").run(dayFromIsoDate('2026-11-10'));
-      expect(gaps()).toBeCloseTo((20.5 * 1.5) / 30.4375, 12);
+      expect(gaps()).toBeCloseTo((20 * 1.5) / 30.4375, 12);
     } finally {
       shortDb.prepare("DELETE FROM receipts WHERE receipt_id = 'D4'").run();
       setTime.run('10:00:00');

@@ -31,8 +31,8 @@ const engineNames: SqlDialectName[] = havePostgres || process.env.CI ? ['duckdb'
  * visits only before the window, a customer absent from the customers file, rows without a
  * department, a receipt split into one-decimal amounts, a customer whose only window rows are
  * refunds and zero amounts, a visit long before the first receipt, which counts for tenure
- * only when some visit falls in the window, and a last visit with a date but no time (half a day
- * gone, in the app and in the engines, where the date alone reads as midnight).
+ * only when some visit falls in the window, and a last visit with a date but no time (at midday
+ * on the shopping clock, in the app and in the engines, where the date alone reads as midnight).
  */
 const cornerReceipts = [
   'receipt_id,customer_id,store_id,date,category,amount',
@@ -208,10 +208,11 @@ describe.each(engineNames)('features-sql in %s agrees with the app after import 
     // The same double operations in the same order: every value is the app's to the last bit.
     expect(comparison.exactValues).toBe(comparison.values);
     if (data === 'corner' && windowMonths === 12) {
-      // A's last visit, 2026-11-02 with no time, is half a day gone by its end: 28.5 days to the
-      // end of the as-of day, at 5 visits in 12 months.
+      // A's last visit, 2026-11-02 with no time, counts as at midday; on the shopping clock 10 of
+      // the window's 16 receipt rows with a time come before midday (a receipt split by department
+      // counts per row), so 29 − 10/16 days to the end of the as-of day, at 5 visits in 12 months.
       const gapsOfA = imported.columns[imported.names.indexOf('gaps_since_last_visit')][imported.customerIds.indexOf('A')];
-      expect(gapsOfA).toBeCloseTo((28.5 * 5) / 12 / 30.4375, 12);
+      expect(gapsOfA).toBeCloseTo(((29 - 10 / 16) * 5) / 12 / 30.4375, 12);
     }
   });
 });
