@@ -207,6 +207,11 @@ describe('a window shorter than the trend months, with history before it', () =>
         // is after all of the shopping day: 20 days to the end of the as-of day.
         expect(gaps()).toBeCloseTo(20 / 30.4375, 12);
       }
+      // No receipt of the window with a time: the wall clock, midday half a day gone.
+      shortDb.prepare("UPDATE receipts SET time = NULL WHERE receipt_id = 'D2'").run();
+      setTime.run(null);
+      expect(gaps()).toBeCloseTo(20.5 / 30.4375, 12);
+      shortDb.prepare("UPDATE receipts SET time = '10:00:00' WHERE receipt_id = 'D2'").run();
       // Receipts at 10:00 and 23:59: half a minute into the last minute, 1.5 of the 2 are made.
       setTime.run('23:59:30');
       expect(gaps()).toBeCloseTo((21 - 1.5 / 2) / 30.4375, 12);
@@ -217,6 +222,7 @@ describe('a window shorter than the trend months, with history before it', () =>
       expect(gaps()).toBeCloseTo((20 * 1.5) / 30.4375, 12);
     } finally {
       shortDb.prepare("DELETE FROM receipts WHERE receipt_id = 'D4'").run();
+      shortDb.prepare("UPDATE receipts SET time = '10:00:00' WHERE receipt_id = 'D2'").run();
       setTime.run('10:00:00');
     }
   });

@@ -17,7 +17,8 @@ import { chainFileColumns, openDuckDb, openPostgres, openSqlite, postgresBinarie
  * and imported with the app's importer (`import --features`), then compared customer by customer
  * with the features the app computes from the same files imported as receipts, visits and
  * customers. Data: the demo chain's committed sample (demo-data/sample, 500 invented customers of
- * Larkmoor Fresh Markets) and a small hand-made chain with the corner cases the definitions name.
+ * Larkmoor Fresh Markets), a small hand-made chain with the corner cases the definitions name, and
+ * one whose receipts carry dates only (an empty shopping clock).
  */
 
 // PostgreSQL runs wherever it is installed; CI installs it (.ci/run), so there it must be present.
@@ -75,6 +76,21 @@ const cornerCustomers = [
   'F,2026-11-30,yes,S1',
 ].join('\n');
 
+/**
+ * A chain whose receipts carry dates only (no clock times) while its visits carry times: the
+ * shopping clock is then empty and the visits' times count on the wall clock, in the app and in
+ * the engines alike.
+ */
+const dateOnlyReceipts = [
+  'receipt_id,customer_id,store_id,date,category,amount',
+  'Q1,H,S1,2026-09-14,fresh,31.00',
+  'Q2,H,S1,2026-11-03,pantry,12.40',
+  'Q3,K,S2,2026-10-01,dairy,8.15',
+  'Q4,K,S2,2026-11-29,fresh,22.00',
+].join('\n');
+const dateOnlyVisits = ['customer_id,date,store_id,channel', 'H,2026-11-20T17:45:00,S1,store', 'K,2026-11-29,S2,store'].join('\n');
+const dateOnlyCustomers = ['customer_id,joined,marketing_consent,home_store', 'H,2025-01-05,yes,S1', 'K,2025-03-09,no,S2'].join('\n');
+
 let folder: string;
 const engines = new Map<SqlDialectName, Engine>();
 /** The app's databases built from the same files with its importer. */
@@ -94,6 +110,16 @@ beforeAll(async () => {
   for (const [kind, text] of [['receipts', cornerReceipts], ['visits', cornerVisits], ['customers', cornerCustomers]] as const) {
     writeFileSync(join(folder, `corner-${kind}.csv`), `${text}\n`);
   }
+  for (const [kind, text] of [['receipts', dateOnlyReceipts], ['visits', dateOnlyVisits], ['customers', dateOnlyCustomers]] as const) {
+    writeFileSync(join(folder, `dateonly-${kind}.csv`), `${text}\n`);
+  }
+  const dateOnlyFiles = (kind: string) => join(folder, `dateonly-${kind}.csv`);
+  const dateOnly = openDatabase(join(folder, 'dateonly.db'));
+  for (const kind of ['customers', 'receipts', 'visits'] as const) {
+    const result = await importFile(dateOnly, { path: dateOnlyFiles(kind), kind, options: { reportDir: folder } });
+    expect(result.rowsRejected).toBe(0);
+  }
+  appDatabases.set('dateonly', dateOnly);
   const cornerFiles = (kind: string) => join(folder, `corner-${kind}.csv`);
   appDatabases.set('demo', await appDatabase('demo', sampleDir));
   const corner = openDatabase(join(folder, 'corner.db'));
@@ -109,6 +135,7 @@ beforeAll(async () => {
     for (const kind of ['receipts', 'visits', 'customers']) {
       await engine.loadCsv(`demo_${kind}`, chainFileColumns(join(sampleDir, `${kind}.csv`)), join(sampleDir, `${kind}.csv`));
       await engine.loadCsv(`corner_${kind}`, chainFileColumns(cornerFiles(kind)), cornerFiles(kind));
+      await engine.loadCsv(`dateonly_${kind}`, chainFileColumns(dateOnlyFiles(kind)), dateOnlyFiles(kind));
     }
   }
 }, 300_000);
@@ -174,7 +201,7 @@ function compareTables(app: FeatureTable, imported: FeatureTable): FeatureCompar
   return comparison;
 }
 
-const cases: { data: 'demo' | 'corner'; asOf: string; windowMonths: number; minPurchases: number; minTenureMonths: number }[] = [
+const cases: { data: 'demo' | 'corner' | 'dateonly'; asOf: string; windowMonths: number; minPurchases: number; minTenureMonths: number }[] = [
   { data: 'demo', asOf: '2026-11-30', windowMonths: 12, minPurchases: 2, minTenureMonths: 2 },
   { data: 'demo', asOf: '2026-02-28', windowMonths: 3, minPurchases: 1, minTenureMonths: 0.5 },
   { data: 'demo', asOf: '2025-07-31', windowMonths: 24, minPurchases: 2, minTenureMonths: 2 },
@@ -182,6 +209,8 @@ const cases: { data: 'demo' | 'corner'; asOf: string; windowMonths: number; minP
   { data: 'corner', asOf: '2026-11-30', windowMonths: 2, minPurchases: 0, minTenureMonths: 0 },
   // No visit falls in this window: purchases are the visits and earlier visits do not count, as in the app.
   { data: 'corner', asOf: '2026-03-31', windowMonths: 2, minPurchases: 2, minTenureMonths: 2 },
+  // No receipt with a clock time: an empty shopping clock, the wall clock for the visits' times.
+  { data: 'dateonly', asOf: '2026-11-30', windowMonths: 12, minPurchases: 2, minTenureMonths: 2 },
 ];
 
 describe.each(engineNames)('features-sql in %s agrees with the app after import --features', (dialect) => {
@@ -207,6 +236,14 @@ describe.each(engineNames)('features-sql in %s agrees with the app after import 
     expect(comparison.maxRelativeDifference).toBeLessThanOrEqual(1e-9);
     // The same double operations in the same order: every value is the app's to the last bit.
     expect(comparison.exactValues).toBe(comparison.values);
+    if (data === 'dateonly') {
+      // H's last visit, 17:45 on 2026-11-20, on the wall clock: 10 days and 6.25 hours to the end
+      // of the as-of day, at H's visit rate (2 purchases against 1 row in the visits file: the
+      // larger count); the engines' value is the app's to the bit (above).
+      const gapsOfH = imported.columns[imported.names.indexOf('gaps_since_last_visit')][imported.customerIds.indexOf('H')];
+      const visitsOfH = imported.columns[imported.names.indexOf('visits_per_month')][imported.customerIds.indexOf('H')];
+      expect(gapsOfH).toBeCloseTo(((10 + 6.25 / 24) * visitsOfH) / 30.4375, 12);
+    }
     if (data === 'corner' && windowMonths === 12) {
       // A's last visit, 2026-11-02 with no time, counts as at midday; on the shopping clock 10 of
       // the window's 16 receipt rows with a time come before midday (a receipt split by department
