@@ -81,6 +81,10 @@ export function featuresSql(options: FeaturesSqlOptions): FeaturesSql {
         return `day >= ${window.prev3StartDay}`;
     }
   };
+  // A row's clock key, as the app's feature query returns it (src/features/compute.ts): its day
+  // number × 86400 plus its clock time in seconds (the row's `seconds`, 0 without a time, which
+  // counts as midday); the latest row has the largest key.
+  const clockKey = `CAST(day AS BIGINT) * ${SECONDS_PER_DAY} + CASE WHEN seconds = 0 THEN ${SECONDS_OF_DAY_WITHOUT_TIME} ELSE seconds END`;
   const aggregate = (definition: RowAggregate): string => {
     const conditions = [...(definition.scope === 'window' ? [`day >= ${window.startDay}`] : []), ...definition.when.map(rowCondition)];
     const test = conditions.join(' AND ');
@@ -96,20 +100,13 @@ export function featuresSql(options: FeaturesSqlOptions): FeaturesSql {
       case 'max':
         return `${definition.operation.toUpperCase()}(${when('day')}) AS ${definition.name}`;
       case 'latestMoment':
-        return `MAX(${when('clock_key')}) AS ${definition.name}`;
+        return `MAX(${when(clockKey)}) AS ${definition.name}`;
     }
   };
-  // A row's clock key, as the app's feature query returns it (src/features/compute.ts): its day
-  // number × 86400 plus its clock time in seconds, midday without a time (00:00:00); the latest
-  // row has the largest key.
-  const clockKey = (date: string) => {
-    const seconds = dialect.secondsOfDay(date);
-    return `CAST(${dialect.dayNumber(date)} AS BIGINT) * ${SECONDS_PER_DAY} + CASE WHEN ${seconds} = 0 THEN ${SECONDS_OF_DAY_WITHOUT_TIME} ELSE ${seconds} END`;
-  };
   // A clock key as a moment on the shopping clock (src/features/shopping-clock.ts), with the same
-  // double operations in the same order as the app: the day number plus (receipts in earlier
-  // minutes + seconds into the minute / 60 × receipts in the minute) / receipts with a clock time;
-  // the wall clock's share when no receipt has one. `clock` is the shopping_clock row of the key's minute.
+  // double operations in the same order as the app: the day number plus (receipt rows in earlier
+  // minutes + seconds into the minute / 60 × rows in the minute) / rows with a clock time; the
+  // wall clock's share when no receipt has a time. `clock` is the shopping_clock row of the key's minute.
   const double = (value: number) => dialect.double(value);
   const keyDay = (key: string) => `FLOOR(${asDouble(key)} / ${double(SECONDS_PER_DAY)})`;
   const keySeconds = (key: string) => `(${asDouble(key)} - ${keyDay(key)} * ${double(SECONDS_PER_DAY)})`;
@@ -151,7 +148,6 @@ export function featuresSql(options: FeaturesSqlOptions): FeaturesSql {
         `${column('customer_id')} AS customer_id`,
         `${dialect.dayNumber(column('date'))} AS day`,
         `${dialect.secondsOfDay(column('date'))} AS seconds`,
-        `${clockKey(column('date'))} AS clock_key`,
         `CAST(ROUND(${column('amount')} * 100) AS BIGINT) AS cents`,
         `COALESCE(CAST(${column('receipt_id')} AS TEXT), CAST(${column('date')} AS TEXT) || '|' || COALESCE(CAST(${column('store_id')} AS TEXT), '')) AS receipt_key`,
         `${column('category')} AS category`,
@@ -198,7 +194,7 @@ export function featuresSql(options: FeaturesSqlOptions): FeaturesSql {
       'visit_totals',
       '',
       ['customer_id', ...definitions.visitAggregates.map(aggregate)],
-      `(SELECT ${column('customer_id')} AS customer_id, ${dialect.dayNumber(column('date'))} AS day, ${clockKey(column('date'))} AS clock_key FROM ${tables.visits} WHERE ${dateBefore(nextDay)}) AS visit_rows`,
+      `(SELECT ${column('customer_id')} AS customer_id, ${dialect.dayNumber(column('date'))} AS day, ${dialect.secondsOfDay(column('date'))} AS seconds FROM ${tables.visits} WHERE ${dateBefore(nextDay)}) AS visit_rows`,
       ['GROUP BY customer_id'],
     ),
   );
@@ -264,7 +260,7 @@ export function featuresSql(options: FeaturesSqlOptions): FeaturesSql {
     `-- Spendmix customer features, ${dialect.name} dialect: the ${window.windowMonths} months ${isoDateFromDay(window.startDay)} to ${options.asOf}.`,
     `-- Reads ${tables.receipts} (customer_id, date, amount, receipt_id, store_id, category), ${tables.visits} (customer_id, date)`,
     `-- and ${tables.customers} (customer_id, joined); each row once (the app drops repeated rows when it imports files).`,
-    `-- A date-time's clock time counts for gaps_since_last_visit, on the shopping clock (the share of the window's receipts made by then in a day);`,
+    `-- A date-time's clock time counts for gaps_since_last_visit, on the shopping clock (the share of the window's receipt rows made by then in a day);`,
     `-- a date alone (or 00:00:00) counts as midday.`,
     `-- One row per customer with a receipt row in the window: ${columns.join(', ')}.`,
   ];
