@@ -10,7 +10,7 @@ import type { Database } from 'better-sqlite3';
 import { InputError, throwIfAborted } from '../errors.js';
 import { isoDateFromDay } from '../store/days.js';
 import { categorySpellings, featureDefinitions, type RowAggregate, type RowCondition } from './definitions.js';
-import { MINUTES_PER_DAY, SECONDS_OF_DAY_WITHOUT_TIME, momentOnShoppingClock, shoppingClockFromCounts, type ShoppingClock } from './shopping-clock.js';
+import { MINUTES_PER_DAY, SECONDS_OF_DAY_WITHOUT_TIME, SECONDS_PER_DAY, momentOnShoppingClock, shoppingClockFromCounts, type ShoppingClock } from './shopping-clock.js';
 import { javaScriptSyntax, renderCondition, renderExpression } from './expressions.js';
 import { featureWindow, type FeatureWindow } from './window.js';
 
@@ -87,7 +87,7 @@ const hasClockTimeSql = (row: string) => `${row}.time IS NOT NULL AND ${row}.tim
  */
 function latestMomentSql(table: RowAggregate['table']): string {
   const seconds = `CASE WHEN ${hasClockTimeSql('later')} THEN ${secondsOfDaySql('later')} ELSE ${SECONDS_OF_DAY_WITHOUT_TIME} END`;
-  return `max(${table}.day) * 86400 + (SELECT max(${seconds}) FROM ${table} AS later WHERE later.customer_id = ${table}.customer_id AND later.day = max(${table}.day))`;
+  return `max(${table}.day) * ${SECONDS_PER_DAY} + (SELECT max(${seconds}) FROM ${table} AS later WHERE later.customer_id = ${table}.customer_id AND later.day = max(${table}.day))`;
 }
 
 /**
@@ -98,7 +98,7 @@ function latestMomentSql(table: RowAggregate['table']): string {
  * the receipts where counting rows by their stored time costs about 0.2 × (200,000 customers,
  * 4,000,000 rows; README, benchmarks). Grouped by the stored text, minutes taken here.
  */
-function shoppingClockOfWindow(db: Database, window: { startDay: number; asOfDay: number }): ShoppingClock {
+function shoppingClockOfWindow(db: Database, window: FeatureWindow): ShoppingClock {
   const counts = new Float64Array(MINUTES_PER_DAY);
   const statement = db
     .prepare(`SELECT time, count(*) FROM receipts WHERE day BETWEEN ? AND ? AND ${hasClockTimeSql('receipts')} GROUP BY time`)
